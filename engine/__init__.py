@@ -1,0 +1,6 @@
+"""Perch engine: the physics and data chain for siting small wind turbines on and between buildings.
+
+The engine never imports the dashboard framework; the dashboard, the command line and the
+siting summary all call the same functions here.
+"""
+__version__ = "0.1.0"

@@ -1,0 +1,79 @@
+"""The one exception type for problems with user input.
+
+Every place where input enters (site files, CSV uploads, form values) collects all problems it
+finds into a :class:`Problems` list and raises one :class:`InputError` carrying them, so a user
+sees every problem at once. The command line turns it into exit code 2; the dashboard shows each
+message beside its field.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+class InputError(ValueError):
+    """Input that cannot be used, with a list of ``(where, message)`` items.
+
+    ``where`` names the field or row (``"turbines[1].rated_power_w"``, ``"line 17"``); the
+    message says what rule was broken, what was given and how to fix it.
+    """
+
+    def __init__(self, problems):
+        problems = [(str(w), str(m)) for w, m in problems]
+        if not problems:
+            problems = [("input", "unknown problem")]
+        self.problems = problems
+        super().__init__(self.render())
+
+    def render(self) -> str:
+        lines = [f"{len(self.problems)} problem(s) found:"]
+        lines += [f"  - {w}: {m}" for w, m in self.problems]
+        return "\n".join(lines)
+
+    def __str__(self) -> str:  # pragma: no cover - trivial
+        return self.render()
+
+
+@dataclass
+class Problems:
+    """Collects ``(where, message)`` items, then raises them together."""
+
+    items: list = field(default_factory=list)
+
+    def add(self, where: str, message: str) -> None:
+        self.items.append((where, message))
+
+    def extend(self, other) -> None:
+        self.items.extend(other.items if isinstance(other, Problems) else other)
+
+    def __bool__(self) -> bool:
+        return bool(self.items)
+
+    def raise_if_any(self) -> None:
+        if self.items:
+            raise InputError(self.items)
+
+
+def check_range(problems: Problems, where: str, value, lo=None, hi=None, unit: str = "",
+                lo_open: bool = False, hi_open: bool = False) -> None:
+    """Add a problem unless ``lo <= value <= hi`` (open ends where flagged).
+
+    The message has the house form ``"<where> must be <rule>, got <value> <unit>"``.
+    """
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        problems.add(where, f"must be a number, got {value!r}")
+        return
+    if v != v:
+        problems.add(where, "must be a number, got NaN")
+        return
+    bad = False
+    if lo is not None and (v < lo or (lo_open and v == lo)):
+        bad = True
+    if hi is not None and (v > hi or (hi_open and v == hi)):
+        bad = True
+    if bad:
+        lo_s = "" if lo is None else (f"> {lo:g}" if lo_open else f">= {lo:g}")
+        hi_s = "" if hi is None else (f"< {hi:g}" if hi_open else f"<= {hi:g}")
+        rule = " and ".join(s for s in (lo_s, hi_s) if s)
+        problems.add(where, f"must be {rule}, got {v:g} {unit}".rstrip())
