@@ -53,6 +53,15 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
         "capacity_factor": cf.ravel(),
         "rated_power_kw": np.tile(rated_w / 1000.0, P),
     }
+    free_mean = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.free_c_ms)
+    rows["speedup"] = np.repeat(mean_ms / free_mean, T)
+    rows["turbulence_intensity"] = np.repeat(
+        np.sum(eff.frequency * eff.turbulence_intensity, axis=-1), T)
+    # Per-position diagnostics of the building models become columns (shape (P,) only).
+    for name, arr in eff.diagnostics.items():
+        arr = np.asarray(arr)
+        if arr.shape == (P,):
+            rows[name] = np.repeat(arr, T)
     df = pd.DataFrame(rows)
     df["flags"] = [list(eff.flags[i]) if eff.flags else [] for i in np.repeat(np.arange(P), T)]
     return df
