@@ -1,0 +1,111 @@
+"""Site file: exact round trip, schema from the model, and every kind of defect reported at once."""
+import copy
+import json
+from pathlib import Path
+
+import pytest
+
+from engine import model, sitefile
+from engine.errors import InputError
+
+DEMO = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
+
+
+@pytest.fixture()
+def demo_dict():
+    return json.loads(DEMO.read_text(encoding="utf-8"))
+
+
+def test_demo_round_trip_is_byte_exact():
+    """Loading then saving the demo site file reproduces its bytes exactly."""
+    text = DEMO.read_text(encoding="utf-8")
+    assert sitefile.dumps(sitefile.loads(text)) == text
+
+
+def test_save_then_load_equals(tmp_path):
+    """An assessment saved and loaded again compares equal (dataclass equality)."""
+    a = sitefile.load(DEMO)
+    out = sitefile.save(a, tmp_path / "copy.json")
+    assert sitefile.load(out) == a
+    assert sitefile.content_hash(sitefile.load(out)) == sitefile.content_hash(a)
+
+
+def test_save_keeps_previous_version(tmp_path):
+    """Saving over a file keeps the previous one as .bak."""
+    a = sitefile.load(DEMO)
+    p = tmp_path / "s.json"
+    sitefile.save(a, p)
+    b = sitefile.loads(sitefile.dumps(a).replace("Larkspur Yard", "Renamed"))
+    sitefile.save(b, p)
+    assert "Renamed" in p.read_text(encoding="utf-8")
+    assert "Larkspur Yard" in (tmp_path / "s.json.bak").read_text(encoding="utf-8")
+
+
+def test_schema_lists_every_model_field():
+    """The JSON Schema is generated from the model: every dataclass field appears."""
+    schema = sitefile.json_schema()
+    assert set(schema["properties"]) == {f for f in model.Assessment.__dataclass_fields__}
+    turbine = schema["$defs"]["Turbine"]
+    assert set(turbine["properties"]) == set(model.Turbine.__dataclass_fields__)
+    assert "rated_power_w" in turbine["required"]
+    assert turbine["additionalProperties"] is False
+
+
+def test_all_defects_reported_together(demo_dict):
+    """Unknown key, wrong type, missing field and out-of-range value come in one error."""
+    d = copy.deepcopy(demo_dict)
+    d["site"]["altitude_ft"] = 100            # unknown key
+    d["buildings"][0]["height_m"] = "tall"    # wrong type
+    del d["turbines"][0]["rated_power_w"]     # missing field
+    d["positions"][1]["mast_height_m"] = -3   # out of range
+    with pytest.raises(InputError) as exc:
+        sitefile.assessment_from_dict(d)
+    where = [w for w, _ in exc.value.problems]
+    assert "site.altitude_ft" in where
+    assert "buildings[0].height_m" in where
+    assert "turbines[0].rated_power_w" in where
+    assert "positions[1].mast_height_m" in where
+    msg = dict(exc.value.problems)["positions[1].mast_height_m"]
+    assert ">= 0.5" in msg and "-3" in msg
+
+
+def test_cross_references_checked(demo_dict):
+    """A roof position on a building that does not exist is named."""
+    d = copy.deepcopy(demo_dict)
+    d["positions"][0]["building_id"] = "ghost"
+    with pytest.raises(InputError) as exc:
+        sitefile.assessment_from_dict(d)
+    assert any("ghost" in m for _, m in exc.value.problems)
+
+
+@pytest.mark.parametrize("raw, where_part", [
+    (b"", "line 1"),
+    (b"{not json", "line 1"),
+    (b"\xff\xfe\x00\x01binary", "file"),
+    (b"[1, 2, 3]", "file"),
+])
+def test_broken_files_give_input_error(raw, where_part):
+    """Empty, malformed, binary and wrong-shaped files raise InputError, never a traceback."""
+    with pytest.raises(InputError) as exc:
+        sitefile.loads(raw)
+    assert any(where_part in w for w, _ in exc.value.problems)
+
+
+def test_betz_violation_in_power_curve(demo_dict):
+    """A curve above 16/27 of the wind's power for its swept area is refused (actuator-disc theory)."""
+    d = copy.deepcopy(demo_dict)
+    t = d["turbines"][0]
+    t["curve_power_w"] = [p * 3 for p in t["curve_power_w"]]
+    t["rated_power_w"] = max(t["curve_power_w"])
+    with pytest.raises(InputError) as exc:
+        sitefile.assessment_from_dict(d)
+    assert any("Betz" in m for _, m in exc.value.problems)
+
+
+def test_cut_in_rated_cut_out_order(demo_dict):
+    """cut-in < rated < cut-out is enforced with the values in the message."""
+    d = copy.deepcopy(demo_dict)
+    d["turbines"][1]["cut_in_ms"] = 30.0
+    with pytest.raises(InputError) as exc:
+        sitefile.assessment_from_dict(d)
+    assert any("cut-in < rated < cut-out" in m for _, m in exc.value.problems)
