@@ -77,10 +77,14 @@ def _convert(value, tp, where: str, problems: Problems):
         if isinstance(value, bool) or not isinstance(value, (int, float)):
             problems.add(where, f"must be a number, got {value!r}")
             return None
-        if not math.isfinite(float(value)):
-            problems.add(where, f"must be a finite number, got {value!r}")
+        try:
+            number = float(value)
+        except OverflowError:  # a JSON integer too large for a float
+            number = math.inf
+        if not math.isfinite(number):
+            problems.add(where, f"must be a finite number, got {value!r:.40}")
             return None
-        return float(value)
+        return number
     if tp is int:
         if isinstance(value, bool) or not isinstance(value, int):
             problems.add(where, f"must be a whole number, got {value!r}")
@@ -174,6 +178,9 @@ def loads(text) -> model.Assessment:
                            f"not valid JSON: {e.msg}; check commas, quotes and brackets")]) from None
     except RecursionError:
         raise InputError([("file", "nested too deeply to be a site file")]) from None
+    except ValueError:  # an integer with more digits than Python converts (4300)
+        raise InputError([("file", "holds a number too long to read (thousands of digits); "
+                                   "check that this is a Perch site file")]) from None
     return assessment_from_dict(data)
 
 
