@@ -19,7 +19,7 @@ import types
 import typing
 from pathlib import Path
 
-from . import model
+from . import migrate, model
 from .errors import InputError, Problems
 
 #: Largest site file accepted [bytes]; a site file is small, larger ones are a wrong upload.
@@ -162,6 +162,15 @@ def dumps(assessment: model.Assessment) -> str:
 
 def loads(text) -> model.Assessment:
     """Parse site-file text (str or bytes) into a validated assessment."""
+    return loads_with_notes(text)[0]
+
+
+def loads_with_notes(text) -> tuple:
+    """Like :func:`loads`, also returning notes on what an older-format migration changed.
+
+    Returns ``(assessment, notes)``; ``notes`` is empty for a current file. Problems the
+    migration met are raised together with the validation problems (see :mod:`engine.migrate`).
+    """
     if isinstance(text, (bytes, bytearray)):
         if len(text) > MAX_SITE_FILE_BYTES:
             raise InputError([("file", f"is {len(text) / 1e6:.1f} MB; a site file must be under "
@@ -181,11 +190,24 @@ def loads(text) -> model.Assessment:
     except ValueError:  # an integer with more digits than Python converts (4300)
         raise InputError([("file", "holds a number too long to read (thousands of digits); "
                                    "check that this is a Perch site file")]) from None
-    return assessment_from_dict(data)
+    m = migrate.migrate(data)
+    try:
+        assessment = assessment_from_dict(m.data)
+    except InputError as e:
+        rest = [(w, msg) for w, msg in e.problems if w not in m.covered]
+        raise InputError(m.problems + rest) from None
+    if m.problems:
+        raise InputError(m.problems)
+    return assessment, list(m.notes)
 
 
 def load(path) -> model.Assessment:
     """Read and validate a site file."""
+    return load_with_notes(path)[0]
+
+
+def load_with_notes(path) -> tuple:
+    """Read and validate a site file: ``(assessment, migration notes)``."""
     path = Path(path)
     try:
         size = path.stat().st_size
@@ -195,7 +217,7 @@ def load(path) -> model.Assessment:
         raw = path.read_bytes()
     except OSError as e:
         raise InputError([(str(path), f"cannot be read: {e.strerror}")]) from None
-    return loads(raw)
+    return loads_with_notes(raw)
 
 
 def save(assessment: model.Assessment, path, keep_previous: bool = True) -> Path:
