@@ -17,7 +17,9 @@ def weibull_cdf(speed_ms, k, c_ms):
     Uses ``-expm1`` for accuracy at small V. Negative speeds give 0. Broadcasts.
     """
     v = np.maximum(np.asarray(speed_ms, dtype=float), 0.0)
-    return -np.expm1(-(v / np.asarray(c_ms, dtype=float)) ** np.asarray(k, dtype=float))
+    # (V/c)^k beyond the float range (c of a few 1e-30 m/s) is +inf, and F = 1 exactly.
+    with np.errstate(over="ignore"):
+        return -np.expm1(-(v / np.asarray(c_ms, dtype=float)) ** np.asarray(k, dtype=float))
 
 
 def weibull_pdf(speed_ms, k, c_ms):
