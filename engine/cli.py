@@ -94,6 +94,10 @@ def register_schema(sub):
 
 COMMANDS = [register_rank, register_schema]
 
+from .cli_report import register_report  # noqa: E402  (the report module imports this one)
+
+COMMANDS.append(register_report)
+
 
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(prog="python -m engine",
