@@ -10,7 +10,7 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from . import air, energy, flow, ranking
+from . import air, economics, energy, flow, loads, noise, ranking, uncertainty
 from .weibull import mixture_mean_ms
 
 
@@ -24,35 +24,55 @@ class Evaluation:
 
 
 def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
-    """Yield of every position x turbine as a DataFrame (unranked)."""
+    """Yield, uncertainty, loads, noise and money of every position x turbine (unranked).
+
+    One row per position x turbine, positions outer. Energy uses the effective climate's
+    turbulence intensity and inflow skew per position and sector
+    (:func:`engine.energy.yield_arrays`); P75/P90 come from :mod:`engine.uncertainty`;
+    loads (:mod:`engine.loads`) and noise (:mod:`engine.noise`) are screening cautions;
+    money and CO2 use the net (P50) energy (:mod:`engine.economics`).
+    """
     turbines = assessment.turbines
     P, T = eff.n_positions, len(turbines)
-    edges = energy.DEFAULT_EDGES_MS
-    pw = energy.curve_on_edges_w(turbines, edges)  # (T, J)
-    gross_wh = energy.aep_method_of_bins_wh(
-        eff.frequency[:, None, :], eff.weibull_k[:, None, :], eff.weibull_c_ms[:, None, :],
-        pw[None, :, None, :], edges)  # (P, T)
-    rated_w = np.array([t.rated_power_w for t in turbines], float)
-    gross_kwh = gross_wh / 1000.0
-    lo = assessment.losses
-    keep = ((1 - lo.availability) * (1 - lo.electrical) * (1 - lo.icing)
-            * (1 - lo.cut_out_hysteresis) * (1 - lo.other))
-    net_kwh = gross_kwh * keep
-    cf = net_kwh / (rated_w[None, :] * energy.HOURS_PER_YEAR / 1000.0)
+    rho = eff.air_density_kgm3
+    y = energy.yield_arrays(eff.frequency, eff.weibull_k, eff.weibull_c_ms,
+                            eff.turbulence_intensity, eff.inflow_skew_deg, turbines, rho,
+                            assessment.losses)
+    rated_w = y.rated_power_w
+    gross_kwh = y.gross_wh / 1000.0
+    net_kwh = y.net_wh / 1000.0
+    pv = uncertainty.analytic_p_values(y.setup, energy.net_fraction(assessment.losses),
+                                       assessment.uncertainty, y.speed_sensitivity)
     mean_ms = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.weibull_c_ms)  # (P,)
     pos = assessment.positions
+    mast = np.array([float(p.mast_height_m) for p in pos])
+    ld = loads.turbine_loads(turbines, mast, rho)
+    hub_xyz = np.column_stack([[p.x_m for p in pos], [p.y_m for p in pos], eff.hub_height_m])
+    levels, exceeds, margin, worst = noise.receptor_levels_db(
+        hub_xyz, assessment.receptors, [t.sound_power_db for t in turbines])
+    money = economics.economics_arrays(net_kwh, [t.installed_cost for t in turbines],
+                                       assessment.economics)
     rows = {
         "position_id": np.repeat([p.id for p in pos], T),
         "turbine_id": np.tile([t.id for t in turbines], P),
         "kind": np.repeat([p.kind for p in pos], T),
-        "mast_height_m": np.repeat([float(p.mast_height_m) for p in pos], T),
+        "mast_height_m": np.repeat(mast, T),
         "hub_height_m": np.repeat(eff.hub_height_m, T),
         "mean_speed_ms": np.repeat(mean_ms, T),
         "gross_aep_kwh": gross_kwh.ravel(),
         "aep_kwh": net_kwh.ravel(),
-        "capacity_factor": cf.ravel(),
+        "capacity_factor": y.capacity_factor.ravel(),
         "rated_power_kw": np.tile(rated_w / 1000.0, P),
+        "full_load_hours": y.full_load_hours.ravel(),
+        "p50_aep_kwh": pv[50].ravel() / 1000.0,
+        "p75_aep_kwh": pv[75].ravel() / 1000.0,
+        "p90_aep_kwh": pv[90].ravel() / 1000.0,
+        "speed_sensitivity": y.speed_sensitivity.ravel(),
+        "skew_speed_factor": y.skew_factor_mean.ravel(),
     }
+    rows.update({name: arr.ravel() for name, arr in money.items()})
+    rows.update({name: ld[name].ravel() for name in
+                 ("thrust_rated_n", "thrust_extreme_n", "mast_base_moment_nm")})
     free_mean = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.free_c_ms)
     rows["speedup"] = np.repeat(mean_ms / free_mean, T)
     rows["turbulence_intensity"] = np.repeat(
@@ -63,6 +83,18 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
         if arr.shape == (P,):
             rows[name] = np.repeat(arr, T)
     df = pd.DataFrame(rows)
+    rec_ids = [r.id for r in assessment.receptors]
+    flat_levels = levels.reshape(P * T, len(rec_ids))
+    df["noise_db_at_receptors"] = [dict(zip(rec_ids, map(float, row))) for row in flat_levels]
+    df["noise_exceeds_limit"] = exceeds.ravel()
+    df["noise_margin_db"] = margin.ravel()
+    df["noise_worst_receptor"] = [rec_ids[i] if i >= 0 else "" for i in worst.ravel()]
+    months = assessment.climate.monthly_mean_ms
+    if months:
+        monthly = energy.monthly_energy_wh(y.net_wh, months, assessment.climate, eff.frequency,
+                                           eff.weibull_k, eff.weibull_c_ms,
+                                           eff.turbulence_intensity, turbines, rho) / 1000.0
+        df["monthly_aep_kwh"] = list(monthly.reshape(P * T, 12).tolist())
     df["flags"] = [list(eff.flags[i]) if eff.flags else [] for i in np.repeat(np.arange(P), T)]
     return df
 

@@ -1,7 +1,13 @@
 """Ranking of position x turbine rows by an objective, with exclusions explained.
 
-A row is *excluded* when any constraint fails; its reasons are appended to ``flags`` and it is
-ranked after every eligible row, never silently dropped.
+A row is *excluded* when any constraint of :class:`engine.model.RankingSettings` fails: mast
+taller than allowed, rotor in a building's high-turbulence or recirculation zone, noise above
+a receptor's limit, extreme rotor thrust above the load limit. Its reasons, with the numbers
+behind them, are appended to ``flags`` and it is ranked after every eligible row, never
+silently dropped.
+
+Objectives: ``net_aep`` and ``p90_aep`` (larger is better), ``lcoe`` and ``payback`` (smaller
+is better). Ties are broken by position and turbine id, so a ranking is reproducible.
 """
 from __future__ import annotations
 
@@ -18,30 +24,49 @@ OBJECTIVE_COLUMNS = {
 
 
 def exclusion_reasons(table: pd.DataFrame, settings) -> list:
-    """Per row, the list of constraints it fails (empty when eligible)."""
+    """Per row, the list of constraints it fails, each with its numbers (empty when eligible)."""
     n = len(table)
     reasons = [[] for _ in range(n)]
 
     def add(mask, text):
-        for i in np.flatnonzero(np.asarray(mask, bool)):
-            reasons[i].append(text)
+        idx = np.flatnonzero(np.asarray(mask, bool))
+        texts = text(idx) if callable(text) else dict.fromkeys(idx, text)
+        for i in idx:
+            reasons[i].append(texts[i])
 
-    add(table["mast_height_m"].to_numpy() > settings.max_mast_height_m + 1e-9,
-        f"mast taller than the {settings.max_mast_height_m:g} m limit")
+    mast = table["mast_height_m"].to_numpy(dtype=float)
+    add(mast > settings.max_mast_height_m + 1e-9,
+        lambda idx: {i: f"mast {mast[i]:g} m taller than the {settings.max_mast_height_m:g} m "
+                        "limit" for i in idx})
     if settings.require_clear_of_turbulence_zone and "in_turbulence_zone" in table:
-        add(table["in_turbulence_zone"].to_numpy(), "rotor in the roof's high-turbulence zone")
+        add(table["in_turbulence_zone"].to_numpy(dtype=bool),
+            "rotor in the roof's high-turbulence zone; raise the mast or move the position")
     if "in_recirculation_zone" in table:
-        add(table["in_recirculation_zone"].to_numpy(), "rotor in a recirculation zone")
+        add(table["in_recirculation_zone"].to_numpy(dtype=bool),
+            "rotor in a recirculation zone")
     if settings.apply_noise_limits and "noise_exceeds_limit" in table:
-        add(table["noise_exceeds_limit"].to_numpy(), "noise above a receptor's limit")
+        mask = table["noise_exceeds_limit"].to_numpy(dtype=bool)
+        if {"noise_margin_db", "noise_worst_receptor"} <= set(table.columns):
+            margin = table["noise_margin_db"].to_numpy(dtype=float)
+            worst = table["noise_worst_receptor"].to_numpy()
+            add(mask, lambda idx: {i: f"noise {-margin[i]:.1f} dB(A) above the limit at "
+                                      f"{worst[i]}" for i in idx})
+        else:
+            add(mask, "noise above a receptor's limit")
     if settings.max_thrust_n > 0 and "thrust_extreme_n" in table:
-        add(table["thrust_extreme_n"].to_numpy() > settings.max_thrust_n,
-            f"extreme thrust above the {settings.max_thrust_n:g} N limit")
+        thrust = table["thrust_extreme_n"].to_numpy(dtype=float)
+        add(thrust > settings.max_thrust_n,
+            lambda idx: {i: f"extreme thrust {thrust[i]:.0f} N above the "
+                            f"{settings.max_thrust_n:g} N load limit" for i in idx})
     return reasons
 
 
 def rank(table: pd.DataFrame, settings) -> pd.DataFrame:
-    """Sort rows by the objective; eligible rows first. Adds ``rank``, ``excluded``, ``flags``."""
+    """Sort rows by the objective; eligible rows first. Adds ``rank``, ``excluded``, ``flags``.
+
+    A missing objective column falls back to net AEP; non-finite values (an LCOE or payback
+    with no energy) rank last.
+    """
     col, larger_better = OBJECTIVE_COLUMNS[settings.objective]
     if col not in table:
         col, larger_better = "aep_kwh", True
