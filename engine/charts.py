@@ -28,8 +28,6 @@ RANGE_COLOUR = "#c97a2b"
 COMPASS = ("N", "NNE", "NE", "ENE", "E", "ESE", "SE", "SSE",
            "S", "SSW", "SW", "WSW", "W", "WNW", "NW", "NNW")
 
-#: Days per month of a common year, for monthly energy.
-DAYS_PER_MONTH = (31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31)
 MONTHS = ("Jan", "Feb", "Mar", "Apr", "May", "Jun", "Jul", "Aug", "Sep", "Oct", "Nov", "Dec")
 
 
@@ -121,37 +119,43 @@ def sector_table(climate, air_density_kgm3: float = 1.225) -> pd.DataFrame:
     })
 
 
-def monthly_energy_kwh(evaluation, position_id: str, turbine_id: str):
-    """Net energy per month [kWh] at one position for one turbine, or None without monthly speeds.
+def _row(evaluation, position_id: str, turbine_id: str):
+    t = evaluation.table
+    hit = t[(t["position_id"] == position_id) & (t["turbine_id"] == turbine_id)]
+    return hit.iloc[0] if len(hit) else None
 
-    Notes
-    -----
-    Each month keeps the annual sector frequencies and shapes and scales every sector's c by
-    V̄_month / V̄_year (the climate's monthly means at its own height); the month's energy is
-    the method of bins (:func:`engine.energy.aep_method_of_bins_wh`) over 24 × days hours,
-    multiplied by the ranked row's own net-to-gross ratio (the same losses as the annual figure).
-    """
+
+def monthly_energy_kwh(evaluation, position_id: str, turbine_id: str):
+    """Net energy per month [kWh] of one ranked row, or None when the climate has no monthly
+    mean speeds (the chain's ``monthly_aep_kwh`` column, see
+    :func:`engine.energy.monthly_energy_wh`)."""
+    row = _row(evaluation, position_id, turbine_id)
+    if row is None or "monthly_aep_kwh" not in row.index:
+        return None
+    vals = row["monthly_aep_kwh"]
+    if not isinstance(vals, (list, tuple, np.ndarray)) or len(vals) != 12:
+        return None
+    return pd.DataFrame({"month": MONTHS, "energy_kwh": np.asarray(vals, float)})
+
+
+def corrected_curve(evaluation, position_id: str, turbine_id: str) -> pd.DataFrame:
+    """The curve the yield used at a position: corrected to the site's air density and averaged
+    over the position's turbulence (:func:`engine.energy.turbulent_curve_table_w`), at the
+    position's time-weighted turbulence intensity. Columns ``speed_ms``, ``power_w``."""
     a = evaluation.assessment
-    months = np.asarray(a.climate.monthly_mean_ms, float)
-    if months.size != 12:
-        return None
-    clim = a.climate
-    annual_mean = float(mixture_mean_ms(clim.frequency, clim.weibull_k, clim.weibull_c_ms))
-    if annual_mean <= 0:
-        return None
-    scale = months / annual_mean  # (12,)
     eff = evaluation.climate
     i = position_index(evaluation, position_id)
-    t = [x.id for x in a.turbines].index(turbine_id)
-    pw = energy.curve_on_edges_w([a.turbines[t]])[0]
-    hours = 24.0 * np.asarray(DAYS_PER_MONTH, float)
-    wh = energy.aep_method_of_bins_wh(eff.frequency[i][None, :], eff.weibull_k[i][None, :],
-                                      eff.weibull_c_ms[i][None, :] * scale[:, None],
-                                      pw[None, None, :], hours=hours)
-    row = evaluation.table[(evaluation.table["position_id"] == position_id)
-                           & (evaluation.table["turbine_id"] == turbine_id)].iloc[0]
-    keep = float(row["aep_kwh"]) / float(row["gross_aep_kwh"]) if row["gross_aep_kwh"] > 0 else 0.0
-    return pd.DataFrame({"month": MONTHS, "energy_kwh": wh * keep / 1000.0})
+    tur = next(t for t in a.turbines if t.id == turbine_id)
+    ti = float(np.sum(eff.frequency[i] * eff.turbulence_intensity[i]))
+    edges = energy.DEFAULT_EDGES_MS
+    edges = edges[edges <= max(tur.cut_out_ms + 2.0, 5.0)]
+    if hasattr(energy, "turbulent_curve_table_w"):
+        pw = energy.turbulent_curve_table_w([tur], eff.air_density_kgm3, np.array([ti]),
+                                            edges)[0, 0]
+    else:
+        pw = energy.power_at_speed_w(edges, tur.curve_speed_ms, tur.curve_power_w,
+                                     tur.cut_in_ms, tur.cut_out_ms)
+    return pd.DataFrame({"speed_ms": edges, "power_w": pw})
 
 
 def profile_table(assessment, position_id: str, length_unit: str = "m",

@@ -1,0 +1,52 @@
+"""Every cache of the dashboard, in one place.
+
+Keys describe what was computed: the evaluation is keyed on the site-file text itself, so a
+what-if change that returns to an earlier state is served from the cache, and the number of
+kept entries is bounded so a long client session cannot grow the server's memory.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+
+import streamlit as st
+
+from engine import pipeline, sitefile
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO_SITE = ROOT / "demo_sites" / "larkspur_yard.json"
+
+
+@st.cache_data(show_spinner=False)
+def demo_text() -> str:
+    """Text of the built-in demo site file."""
+    return DEMO_SITE.read_text(encoding="utf-8")
+
+
+@st.cache_data(show_spinner=False, max_entries=48)
+def evaluate_text(text: str):
+    """Run the chain for a site-file text (each caller gets its own copy)."""
+    return pipeline.evaluate(sitefile.loads(text))
+
+
+@st.cache_data(show_spinner=False)
+def turbine_library() -> tuple:
+    """The invented generic turbines shipped with the engine (empty if none are shipped)."""
+    try:
+        from engine import turbines
+    except ImportError:
+        return ()
+    return turbines.load_library()
+
+
+@st.cache_data(show_spinner=False, max_entries=4)
+def climate_from_upload(data: bytes, file_name: str, height_m: float, roughness_m: float,
+                        displacement_m: float, n_sectors: int, speed_unit: str | None,
+                        altitude_m: float):
+    """Measured record -> (climate dict, quality-control text, import notes), cached on the
+    file's bytes and the settings."""
+    from engine import climate, sitefile
+    clim, report, diag = climate.climate_from_csv_bytes(
+        data, file_name, height_m=height_m, roughness_m=roughness_m,
+        displacement_m=displacement_m, n_sectors=n_sectors, speed_unit=speed_unit,
+        altitude_m=altitude_m)
+    return sitefile.assessment_to_dict(clim), report.to_text(), list(diag.get("import_notes", ()))

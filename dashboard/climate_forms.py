@@ -1,0 +1,227 @@
+"""The wind-climate step's four ways in; each builds the climate with the engine's functions."""
+from __future__ import annotations
+
+import copy
+import json
+
+import pandas as pd
+import streamlit as st
+
+from engine import charts, units
+from engine.errors import InputError
+from engine.weibull import mixture_mean_ms
+
+from . import cache, state, widgets
+
+
+def _engine_climate():
+    try:
+        from engine import climate
+    except ImportError:
+        return None
+    return climate
+
+
+def modes() -> dict:
+    out = {"demo": "Demo climate", "table": "Enter a sector table",
+           "mean_speed": "Mean speed only"}
+    if _engine_climate() is not None and hasattr(_engine_climate(), "climate_from_csv_bytes"):
+        out["measured"] = "Upload a measured record"
+    return out
+
+
+def _demo_climate() -> dict:
+    return json.loads(cache.demo_text())["climate"]
+
+
+def _remember(mode: str) -> None:
+    """Keep each way's climate, so switching ways and back loses nothing typed."""
+    ss = st.session_state
+    memory = ss.setdefault("climate_memory", {})
+    last = ss.get("climate_mode_shown")
+    if last and last != mode:
+        memory[last] = copy.deepcopy(state.get_path("climate"))
+        if mode in memory:
+            state.set_path("climate", copy.deepcopy(memory[mode]))
+        elif mode == "demo":
+            state.set_path("climate", _demo_climate())
+        state.clear_widgets()
+        state.validate()
+    ss["climate_mode_shown"] = mode
+
+
+def render(mode: str) -> None:
+    _remember(mode)
+    if mode == "demo":
+        st.info("The built-in demo climate: an invented reference station in open terrain at "
+                "10 m. Use it to learn the tool, never for a real decision.", icon="ℹ️")
+        if state.get_path("climate") != _demo_climate():
+            if st.button("Put the demo climate back", key="demo_climate_back"):
+                state.set_path("climate", _demo_climate())
+                state.clear_widgets()
+                state.validate()
+                st.rerun()
+    elif mode == "table":
+        _table_form()
+    elif mode == "mean_speed":
+        _mean_form()
+    elif mode == "measured":
+        _record_form()
+    _reference_fields(mode)
+
+
+def _reference_fields(mode: str) -> None:
+    if mode == "measured":
+        return
+    c1, c2, c3 = st.columns(3)
+    with c1:
+        widgets.number("Reference height", "climate.height_m", "length", "%.1f",
+                       help="Height above ground the climate describes.")
+    with c2:
+        widgets.number("Roughness length at the reference", "climate.roughness_m", "length",
+                       "%.3f", help="0.03 m for open country around an airfield mast.")
+    with c3:
+        widgets.number("Displacement at the reference", "climate.displacement_m", "length",
+                       "%.1f")
+    widgets.text("Label", "climate.label")
+
+
+def _table_form() -> None:
+    s_unit = state.unit_of("speed")
+    clim = state.get_path("climate") or {}
+    n = len(clim.get("frequency", []))
+    rows = [{"frequency": clim["frequency"][i],
+             "weibull_k": clim["weibull_k"][i] if i < len(clim.get("weibull_k", [])) else None,
+             "weibull_c_ms": (clim["weibull_c_ms"][i]
+                              if i < len(clim.get("weibull_c_ms", [])) else None)}
+            for i in range(n)]
+    st.caption("One row per direction sector, the first centred on north, going clockwise. "
+               "Frequencies are shares of the time (fractions summing to 1, or percent "
+               "summing to 100).")
+    cols = [("frequency", "frequency", "number",
+             st.column_config.NumberColumn(format="%.4f")),
+            ("weibull_k", "Weibull k", "number", st.column_config.NumberColumn(format="%.3f")),
+            ("weibull_c_ms", f"Weibull c ({s_unit})", "speed",
+             st.column_config.NumberColumn(format="%.3f"))]
+    edited = widgets.table("climate_table", rows, cols)
+    freq = [r.get("frequency") for r in edited]
+    ks = [r.get("weibull_k") for r in edited]
+    cs = [r.get("weibull_c_ms") for r in edited]
+    eng = _engine_climate()
+    new = dict(clim, frequency=freq, weibull_k=ks, weibull_c_ms=cs, source="table")
+    if eng is not None and all(isinstance(v, float) for v in freq):
+        try:
+            built = eng.climate_from_table(
+                freq, ks, cs, height_m=float(clim.get("height_m") or 10.0),
+                roughness_m=float(clim.get("roughness_m") or 0.03),
+                displacement_m=float(clim.get("displacement_m") or 0.0),
+                label=clim.get("label", ""))
+            new["frequency"] = list(built.frequency)
+        except (InputError, TypeError, ValueError):
+            pass
+    if new != clim:
+        state.set_path("climate", new)
+        state.validate()
+    widgets.row_messages("climate", [{} for _ in edited], {})
+    for where, msg in st.session_state["problems"]:
+        if where.startswith("climate.") and where.split(".")[1].split("[")[0] in (
+                "frequency", "weibull_k", "weibull_c_ms"):
+            st.error(f"**{where.split('.', 1)[1]}:** {msg}", icon="✋")
+
+
+def _mean_form() -> None:
+    ss = st.session_state
+    form = ss.setdefault("mean_form", {"mean_ms": 4.5})
+    s_unit = state.unit_of("speed")
+    key = f"mf|mean|{s_unit}"
+    if key not in ss:
+        ss[key] = float(units.speed_from_si(form["mean_ms"], s_unit))
+    st.caption("A screening estimate from one long-term mean speed at the reference height: "
+               "equal sector shares and a Rayleigh shape. Lower confidence than a table or a "
+               "measured record.")
+    v = st.number_input(f"Long-term mean wind speed ({s_unit})", key=key, format="%.2f")
+    form["mean_ms"] = None if v is None else float(units.speed_to_si(v, s_unit))
+    eng = _engine_climate()
+    clim = state.get_path("climate") or {}
+    try:
+        built = eng.climate_from_mean_speed(
+            form["mean_ms"] if form["mean_ms"] is not None else float("nan"),
+            height_m=float(clim.get("height_m") or 10.0),
+            roughness_m=float(clim.get("roughness_m") or 0.03),
+            displacement_m=float(clim.get("displacement_m") or 0.0))
+        from engine import sitefile
+        new = sitefile.assessment_to_dict(built)
+        if new != clim:
+            state.set_path("climate", new)
+            state.validate()
+    except InputError as e:
+        for _, msg in e.problems:
+            st.error(f"**Long-term mean wind speed ({s_unit})** {msg} (checked in m/s)",
+                     icon="✋")
+        state.set_local_problems("climate", [("climate.mean_speed", m) for _, m in e.problems])
+        return
+    state.set_local_problems("climate", [])
+
+
+def _record_form() -> None:
+    ss = st.session_state
+    st.caption("A CSV or TSV of time, speed and direction (gust, temperature, pressure "
+               "optional), up to 100 MB. Units are read from the headers; quality control "
+               "runs before the fit.")
+    up = st.file_uploader("Measured record", type=["csv", "txt", "tsv"], key="record_upload")
+    form = ss.setdefault("record_form", {"height_m": 10.0, "roughness_m": 0.03,
+                                         "n_sectors": 12})
+    L = state.unit_of("length")
+    c1, c2, c3 = st.columns(3)
+    h_key, z_key = f"rf|h|{L}", f"rf|z0|{L}"
+    if h_key not in ss:
+        ss[h_key] = float(units.length_from_si(form["height_m"], L))
+    if z_key not in ss:
+        ss[z_key] = float(units.length_from_si(form["roughness_m"], L))
+    if "rf|n" not in ss:
+        ss["rf|n"] = form["n_sectors"]
+    h = c1.number_input(f"Sensor height ({L})", key=h_key, format="%.1f")
+    z = c2.number_input(f"Roughness around the sensor ({L})", key=z_key, format="%.3f")
+    n = c3.selectbox("Sectors", [8, 12, 16, 36], key="rf|n")
+    form.update(height_m=units.length_to_si(h or 0.0, L),
+                roughness_m=units.length_to_si(z or 0.0, L), n_sectors=n)
+    unit = st.selectbox("Speed unit when the header does not say",
+                        ["from the header"] + list(units.SPEED_UNITS), key="rf|unit")
+    if up is not None and st.button("Build the climate from this record", key="build_record"):
+        try:
+            with st.spinner("Reading, checking and fitting the record…"):
+                clim, qc_text, notes = cache.climate_from_upload(
+                    up.getvalue(), up.name, form["height_m"], form["roughness_m"], 0.0,
+                    int(n), None if unit == "from the header" else unit,
+                    float(state.get_path("site.altitude_m") or 0.0))
+            state.set_path("climate", clim)
+            ss["record_result"] = {"qc": qc_text, "notes": notes, "file": up.name}
+            state.set_local_problems("climate", [])
+            state.clear_widgets()
+            state.validate()
+        except InputError as e:
+            state.set_local_problems("climate", e.problems)
+    for where, msg in ss["local_problems"].get("climate", []):
+        st.error(f"**{where}:** {msg}", icon="✋")
+    res = ss.get("record_result")
+    if res:
+        st.markdown(f"**Quality control of {res['file']}**")
+        st.code(res["qc"], language=None)
+        for note in res["notes"]:
+            st.info(note, icon="ℹ️")
+
+
+def summary() -> None:
+    """The climate the results use, as numbers and a rose."""
+    a = st.session_state["valid"]
+    clim = a.climate
+    s_unit = state.unit_of("speed")
+    mean = float(mixture_mean_ms(clim.frequency, clim.weibull_k, clim.weibull_c_ms))
+    deg, f = charts.prevailing_sector(clim)
+    c1, c2, c3 = st.columns(3)
+    c1.metric(f"Mean speed at {units.length_from_si(clim.height_m, state.unit_of('length')):.0f}"
+              f" {state.unit_of('length')}", f"{units.speed_from_si(mean, s_unit):.2f} {s_unit}")
+    c2.metric("Prevailing sector", f"{charts.compass_name(deg)} ({deg:.0f}°)", f"{f:.0%} of the time",
+              delta_color="off")
+    c3.metric("Sectors", f"{clim.n_sectors}", clim.source.replace("_", " "), delta_color="off")
+    st.altair_chart(charts.wind_rose(clim), width="content")

@@ -1,0 +1,58 @@
+"""What the summary step hands out, as plain functions (testable without a browser)."""
+from __future__ import annotations
+
+import json
+import re
+
+from engine import cli, exports, sitefile
+from engine.errors import InputError
+
+
+def file_stem(assessment) -> str:
+    """A safe file name stem from the site name."""
+    stem = re.sub(r"[^A-Za-z0-9]+", "-", assessment.site.name).strip("-").lower()
+    return stem[:60] or "site"
+
+
+def content_sha(assessment) -> str:
+    return sitefile.content_hash(assessment)
+
+
+def site_file_bytes(assessment) -> bytes:
+    """The site file, exactly as :func:`engine.sitefile.dumps` writes it."""
+    return sitefile.dumps(assessment).encode("utf-8")
+
+
+def rank_csv_bytes(evaluation) -> bytes:
+    """Ranked rows as CSV (SI units in the column names, formula-like text neutralised)."""
+    return exports.safe_csv(evaluation.table).encode("utf-8")
+
+
+def rank_json_bytes(evaluation) -> bytes:
+    """The same document as ``python -m engine rank --format json``."""
+    return (json.dumps(cli.rank_document(evaluation), indent=2, ensure_ascii=False)
+            + "\n").encode("utf-8")
+
+
+def report_builders():
+    """The siting summary's builders when the engine has them, else None."""
+    try:
+        from engine import report
+    except ImportError:
+        return None
+    if all(hasattr(report, n) for n in ("build_summary", "render_html", "render_pdf")):
+        return report
+    return None
+
+
+def build_report(evaluation) -> dict:
+    """HTML and PDF bytes of the siting summary, with any problem found on the way."""
+    report = report_builders()
+    out = {"sha": content_sha(evaluation.assessment), "html": None, "pdf": None, "problems": []}
+    try:
+        summary = report.build_summary(evaluation)
+        out["html"] = report.render_html(summary).encode("utf-8")
+        out["pdf"] = report.render_pdf(summary)
+    except InputError as e:
+        out["problems"] = list(e.problems)
+    return out

@@ -1,0 +1,139 @@
+"""Tables of results for people: chosen columns, display units, readable headers."""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from engine import units
+
+#: Columns shown in the ranked table, in this order, when the chain provides them.
+SHOWN = ("rank", "position_id", "turbine_id", "kind", "hub_height_m", "mean_speed_ms",
+         "speedup", "turbulence_intensity", "aep_kwh", "p50_aep_kwh", "p90_aep_kwh",
+         "capacity_factor", "lcoe_per_kwh", "payback_years", "min_clear_mast_m",
+         "in_recirculation_zone", "in_turbulence_zone", "spilled_fraction", "noise_margin_db",
+         "thrust_extreme_n", "excluded", "flags")
+
+HEADERS = {
+    "rank": "rank", "position_id": "position", "turbine_id": "turbine", "kind": "kind",
+    "aep_kwh": "net energy (kWh/yr)", "p50_aep_kwh": "P50 (kWh/yr)",
+    "p90_aep_kwh": "P90 (kWh/yr)", "capacity_factor": "capacity factor",
+    "speedup": "speed factor from buildings", "turbulence_intensity": "turbulence intensity",
+    "lcoe_per_kwh": "cost per kWh", "payback_years": "payback (years)",
+    "in_recirculation_zone": "in recirculation", "in_turbulence_zone": "in roof turbulence",
+    "spilled_fraction": "gap spillage", "noise_margin_db": "noise margin (dB)",
+    "thrust_extreme_n": "extreme thrust (N)", "excluded": "excluded", "flags": "reasons and notes",
+}
+
+
+def header(name: str, speed_unit: str, length_unit: str) -> str:
+    return HEADERS.get(name) or units.column_label(name, speed_unit, length_unit)
+
+
+def display_table(table: pd.DataFrame, speed_unit: str, length_unit: str,
+                  columns=SHOWN) -> pd.DataFrame:
+    """Ranked rows with the chosen columns present, converted and labelled for reading."""
+    cols = [c for c in columns if c in table.columns]
+    df = table[cols].copy()
+    df = units.convert_columns(df, speed_unit, length_unit)
+    if "flags" in df:
+        df["flags"] = ["; ".join(map(str, f)) if isinstance(f, (list, tuple)) else str(f)
+                       for f in df["flags"]]
+    for c in df.columns:
+        if df[c].dtype == float:
+            df[c] = df[c].replace([np.inf, -np.inf], np.nan)
+    return df.rename(columns={c: header(c, speed_unit, length_unit) for c in df.columns})
+
+
+def top_rows(table: pd.DataFrame, speed_unit: str, length_unit: str, n: int = 5) -> pd.DataFrame:
+    """The first ``n`` rows as short text, for a static table anyone can read aloud."""
+    t = table.head(n)
+    hub = units.length_from_si(t["hub_height_m"].to_numpy(float), length_unit)
+    out = pd.DataFrame({
+        "rank": t["rank"].astype(int).to_numpy(),
+        "position": t["position_id"].to_numpy(),
+        "turbine": t["turbine_id"].to_numpy(),
+        f"hub height ({length_unit})": [f"{v:.1f}" for v in hub],
+        "net energy (kWh/yr)": [f"{v:,.0f}" for v in t["aep_kwh"]],
+    })
+    if "p90_aep_kwh" in t:
+        out["P90 (kWh/yr)"] = [f"{v:,.0f}" for v in t["p90_aep_kwh"]]
+    if "lcoe_per_kwh" in t:
+        out["cost per kWh"] = [f"{v:.2f}" if np.isfinite(v) else "–" for v in t["lcoe_per_kwh"]]
+    out["status"] = ["excluded" if e else "eligible" for e in t["excluded"]]
+    return out.set_index("rank")
+
+
+def scenario_outcome(evaluation, speed_unit: str, length_unit: str) -> dict:
+    """Headline numbers of one scenario: the best eligible row and what it stands on."""
+    t = evaluation.table
+    ok = t[~t["excluded"]]
+    best = ok.iloc[0] if len(ok) else t.iloc[0]
+    out = {
+        "best position": str(best["position_id"]),
+        "best turbine": str(best["turbine_id"]),
+        f"hub height ({length_unit})": round(float(units.length_from_si(
+            best["hub_height_m"], length_unit)), 1),
+        "net energy (kWh/yr)": round(float(best["aep_kwh"]), 0),
+    }
+    for col, label, nd in (("p90_aep_kwh", "P90 (kWh/yr)", 0), ("lcoe_per_kwh", "cost per kWh", 3),
+                           ("payback_years", "payback (years)", 1)):
+        if col in best.index:
+            v = float(best[col])
+            out[label] = round(v, nd) if np.isfinite(v) else None
+    out["eligible rows"] = int(len(ok))
+    return out
+
+
+def flatten(data, prefix: str = "") -> dict:
+    """Site-file dict as ``path -> value`` for comparing scenarios (``positions[2].x_m``)."""
+    out = {}
+    if isinstance(data, dict):
+        for k, v in data.items():
+            out.update(flatten(v, f"{prefix}.{k}" if prefix else str(k)))
+    elif isinstance(data, list) and data and isinstance(data[0], (dict, list)):
+        for i, v in enumerate(data):
+            out.update(flatten(v, f"{prefix}[{i}]"))
+    else:
+        out[prefix] = data
+    return out
+
+
+def input_differences(docs: dict) -> pd.DataFrame:
+    """Inputs that differ between scenarios (site-file dicts by name): one row per input."""
+    flat = {name: flatten(d) for name, d in docs.items()}
+    keys = []
+    for f in flat.values():
+        for k in f:
+            if k not in keys:
+                keys.append(k)
+    rows = []
+    names = list(docs)
+    for k in keys:
+        vals = [flat[n].get(k) for n in names]
+        if any(v != vals[0] for v in vals[1:]):
+            rows.append({"input": _readable(k, docs[names[0]]), **{
+                n: _fmt(v) for n, v in zip(names, vals)}})
+    return pd.DataFrame(rows, columns=["input"] + names)
+
+
+def _readable(path: str, doc: dict) -> str:
+    """``positions[2].mast_height_m`` -> ``positions tower-centre: mast height (m)``."""
+    head, _, rest = path.partition(".")
+    if "[" in head:
+        group, idx = head.split("[")
+        idx = int(idx.rstrip("]"))
+        try:
+            name = doc[group][idx].get("id", idx)
+        except (KeyError, IndexError, AttributeError):
+            name = idx
+        return f"{group} {name}: {units.column_label(rest) if rest else ''}".strip()
+    return f"{head}: {units.column_label(rest)}" if rest else units.column_label(head)
+
+
+def _fmt(v):
+    if isinstance(v, list):
+        return ", ".join(f"{x:g}" if isinstance(x, float) else str(x) for x in v[:6]) + (
+            " …" if len(v) > 6 else "")
+    if isinstance(v, float):
+        return f"{v:g}"
+    return "" if v is None else str(v)

@@ -1,0 +1,1 @@
+"""One module per step of the guided assessment; each has ``render()``."""

@@ -1,0 +1,90 @@
+"""Step 3: buildings, candidate positions and the places where noise matters."""
+import streamlit as st
+
+from dashboard import state, widgets
+from engine import charts, model
+
+widgets.step_banner("layout", "3. Buildings & positions")
+st.caption("Local plan coordinates: x east, y north, from any fixed point on the site. "
+           "Buildings are rectangular blocks; a roof position stands on a building, a gap "
+           "position between two, a mast position on the ground.")
+
+L = state.unit_of("length")
+ss = st.session_state
+draft = ss["draft"]
+edit = widgets.editing()
+num = st.column_config.NumberColumn
+
+B_COLS = [
+    ("id", "name", "text", st.column_config.TextColumn(required=True)),
+    ("x_m", f"x east ({L})", "length", num(format="%.1f")),
+    ("y_m", f"y north ({L})", "length", num(format="%.1f")),
+    ("length_m", f"length ({L})", "length", num(format="%.1f")),
+    ("width_m", f"width ({L})", "length", num(format="%.1f")),
+    ("height_m", f"height ({L})", "length", num(format="%.1f")),
+    ("orientation_deg", "length side bearing (°)", "number", num(format="%.0f")),
+    ("roof_type", "roof", "choice", st.column_config.SelectboxColumn(options=model.ROOF_TYPES)),
+    ("roof_pitch_deg", "roof pitch (°)", "number", num(format="%.0f")),
+    ("parapet_height_m", f"parapet ({L})", "length", num(format="%.2f")),
+]
+B_LABELS = {f: lab for f, lab, _, _ in B_COLS}
+
+st.subheader("Buildings")
+rows = widgets.table("buildings", draft["buildings"], B_COLS, disabled=not edit)
+changed = rows != draft["buildings"]
+draft["buildings"] = rows
+
+building_ids = [str(r.get("id")) for r in rows if r.get("id")]
+P_COLS = [
+    ("id", "name", "text", st.column_config.TextColumn(required=True)),
+    ("kind", "kind", "choice", st.column_config.SelectboxColumn(options=model.POSITION_KINDS,
+                                                                required=True)),
+    ("x_m", f"x east ({L})", "length", num(format="%.1f")),
+    ("y_m", f"y north ({L})", "length", num(format="%.1f")),
+    ("mast_height_m", f"mast height ({L})", "length",
+     num(format="%.1f", help="Hub height above the roof (roof positions) or the ground")),
+    ("building_id", "on building", "choice",
+     st.column_config.SelectboxColumn(options=[""] + building_ids)),
+    ("gap_buildings", "gap between (two names, comma)", "list", None),
+    ("note", "note", "text", None),
+]
+P_LABELS = {f: lab for f, lab, _, _ in P_COLS}
+st.subheader("Candidate positions")
+prow = widgets.table("positions", draft["positions"], P_COLS, disabled=not edit)
+for r in prow:
+    if r.get("building_id") is None:
+        r["building_id"] = ""
+    if r.get("note") is None:
+        r["note"] = ""
+    if r.get("gap_buildings") is None:
+        r["gap_buildings"] = []
+changed |= prow != draft["positions"]
+draft["positions"] = prow
+
+R_COLS = [
+    ("id", "name", "text", st.column_config.TextColumn(required=True)),
+    ("x_m", f"x east ({L})", "length", num(format="%.1f")),
+    ("y_m", f"y north ({L})", "length", num(format="%.1f")),
+    ("height_m", f"height ({L})", "length", num(format="%.1f")),
+    ("limit_db", "noise limit (dB(A))", "number", num(format="%.0f")),
+]
+with st.expander("Places where noise matters (windows, gardens)", expanded=False):
+    rrow = widgets.table("receptors", draft.get("receptors", []), R_COLS, disabled=not edit)
+    changed |= rrow != draft.get("receptors", [])
+    draft["receptors"] = rrow
+
+if changed:
+    before = state.complete("layout")
+    state.validate()
+    if state.complete("layout") != before:
+        st.rerun()
+
+widgets.row_messages("buildings", rows, B_LABELS)
+widgets.row_messages("positions", prow, P_LABELS)
+widgets.row_messages("receptors", rrow, {f: lab for f, lab, _, _ in R_COLS})
+
+if not state.step_problems("layout"):
+    ev = state.evaluation()
+    st.altair_chart(charts.plan_view(ev, L), width="content")
+else:
+    st.info("The plan is drawn again once the tables above have no problems.", icon="ℹ️")

@@ -1,0 +1,152 @@
+"""Step 5: ranked positions, the plan, a position's detail and the what-if controls."""
+import numpy as np
+import streamlit as st
+
+from dashboard import results_view, state, widgets
+from engine import charts, units
+
+ss = st.session_state
+widgets.step_banner("results", "5. Results")
+S, L = state.units_now()
+
+bad = [(k, t) for k, t, _ in state.STEPS[:4] if not state.complete(k)]
+if bad:
+    st.warning("Shown from the last complete inputs. Needs attention: "
+               + ", ".join(t for _, t in bad) + ".", icon="⚠️")
+
+a = ss["valid"]
+pos_ids = [p.id for p in a.positions]
+tur_ids = [t.id for t in a.turbines]
+
+# ---------------------------------------------------------------- what-if controls
+if widgets.editing():
+    with st.container(border=True):
+        st.markdown("**What if…** change a value and the ranking follows at once.")
+        c1, c2, c3, c4 = st.columns(4)
+        with c1:
+            if ss.get("whatif_position") not in pos_ids:
+                ss["whatif_position"] = pos_ids[0]
+            wp = st.selectbox("Position", pos_ids, index=pos_ids.index(ss["whatif_position"]),
+                              key="whatif_position_w")
+            ss["whatif_position"] = wp
+            i = next(j for j, p in enumerate(ss["draft"]["positions"]) if p.get("id") == wp)
+            widgets.number("Mast height", f"positions.{i}.mast_height_m", "length", "%.1f",
+                           step=0.5)
+        with c2:
+            widgets.choice("Rank by", "ranking.objective", ["net_aep", "p90_aep", "lcoe",
+                                                             "payback"],
+                           fmt=lambda o: {"net_aep": "net energy", "p90_aep": "P90 energy",
+                                          "lcoe": "cost per kWh", "payback": "payback time"}[o])
+            widgets.number("Tallest mast allowed", "ranking.max_mast_height_m", "length",
+                           "%.1f", step=0.5)
+        with c3:
+            widgets.number("Price of a kWh", "economics.tariff_per_kwh", fmt="%.3f", step=0.01)
+            widgets.number("Downtime loss (fraction)", "losses.availability", fmt="%.3f",
+                           step=0.01)
+        with c4:
+            name = st.text_input("Save as scenario", key="scenario_name",
+                                 placeholder=f"Scenario {len(ss['scenarios']) + 1}")
+            if st.button("Save scenario", key="save_scenario", disabled=state.any_problems()):
+                used = state.save_scenario(name)
+                st.toast(f"Saved “{used}”.")
+            if ss["scenarios"]:
+                st.caption("Saved: " + ", ".join(ss["scenarios"]))
+            st.page_link("steps/step_compare.py", label="Compare what-ifs", icon="⚖️")
+        widgets.toggle("Keep the rotor clear of the roof's high-turbulence zone",
+                       "ranking.require_clear_of_turbulence_zone")
+    state.validate()
+    a = ss["valid"]
+
+ev = state.evaluation()
+table = ev.table
+
+# ---------------------------------------------------------------- headline and ranking
+ok = table[~table["excluded"]]
+best = ok.iloc[0] if len(ok) else None
+c1, c2, c3, c4 = st.columns(4)
+if best is not None:
+    c1.metric("Best position", f"{best['position_id']}", f"with {best['turbine_id']}",
+              delta_color="off")
+    c2.metric("Net energy, P50", f"{best['aep_kwh']:,.0f} kWh/yr")
+    if "p90_aep_kwh" in best.index:
+        c3.metric("P90 (exceeded 9 years in 10)", f"{best['p90_aep_kwh']:,.0f} kWh/yr")
+    if "lcoe_per_kwh" in best.index and np.isfinite(best["lcoe_per_kwh"]):
+        c4.metric("Cost per kWh", f"{best['lcoe_per_kwh']:.2f} {a.economics.currency}")
+else:
+    st.error("Every position is excluded by a constraint; see the reasons in the table.",
+             icon="✋")
+
+st.subheader("Ranked positions")
+st.table(results_view.top_rows(table, S, L, n=5))
+with st.expander(f"All {len(table)} rows with every figure and reason", expanded=False):
+    st.dataframe(results_view.display_table(table, S, L), hide_index=True, width="stretch")
+
+# ---------------------------------------------------------------- plan and detail
+st.subheader("Plan and position detail")
+if ss.get("detail_position") not in pos_ids:
+    ss["detail_position"] = str(best["position_id"]) if best is not None else pos_ids[0]
+c1, c2 = st.columns([3, 2])
+with c2:
+    dp = st.selectbox("Position", pos_ids, index=pos_ids.index(ss["detail_position"]),
+                      key="detail_position_w")
+    ss["detail_position"] = dp
+    rows_p = table[table["position_id"] == dp]
+    best_t = str(rows_p.iloc[0]["turbine_id"])
+    if ss.get("detail_turbine") not in tur_ids:
+        ss["detail_turbine"] = best_t
+    dt = st.selectbox("Turbine", tur_ids, index=tur_ids.index(ss["detail_turbine"]),
+                      key="detail_turbine_w")
+    ss["detail_turbine"] = dt
+    row = rows_p[rows_p["turbine_id"] == dt].iloc[0]
+    m1, m2 = st.columns(2)
+    m1.metric("Rank", f"{int(row['rank'])} of {len(table)}")
+    m2.metric(f"Hub height ({L})", f"{units.length_from_si(row['hub_height_m'], L):.1f}")
+    m1.metric(f"Mean speed at hub ({S})",
+              f"{units.speed_from_si(row['mean_speed_ms'], S):.2f}")
+    m2.metric("Net energy", f"{row['aep_kwh']:,.0f} kWh/yr")
+    if "min_clear_mast_m" in row.index and np.isfinite(row["min_clear_mast_m"]):
+        st.caption(f"Shortest mast that clears the roof zones: "
+                   f"{units.length_from_si(row['min_clear_mast_m'], L):.1f} {L}")
+    for f in row["flags"]:
+        st.markdown(f"- {f}")
+with c1:
+    st.altair_chart(charts.plan_view(ev, L, selected=dp), width="content")
+
+VIEWS = {"rose": "Wind rose", "dist": "Speed distribution", "profile": "Vertical profile",
+         "curve": "Power curve", "monthly": "Monthly energy", "bars": "Ranking chart"}
+if ss.get("detail_view") not in VIEWS:
+    ss["detail_view"] = "bars"
+view = st.segmented_control("Chart", list(VIEWS), format_func=VIEWS.get,
+                            default=ss["detail_view"], key="detail_view_w")
+ss["detail_view"] = view or ss["detail_view"]
+view = ss["detail_view"]
+if view == "rose":
+    st.altair_chart(charts.wind_rose(a.climate, ev.climate.air_density_kgm3),
+                    width="content")
+    st.caption("The reference climate before buildings: share of the time and of the wind's "
+               "energy from each sector.")
+elif view == "dist":
+    st.altair_chart(charts.speed_distribution(ev, dp, S), width="content")
+elif view == "profile":
+    try:
+        from engine.report_charts import roof_zone_bands
+        zones = roof_zone_bands(ev, dp)
+    except (ImportError, ValueError, KeyError):
+        zones = []
+    st.altair_chart(charts.vertical_profile(ev, dp, dt, L, S, zones=zones),
+                    width="content")
+elif view == "curve":
+    tur = next(t for t in a.turbines if t.id == dt)
+    st.altair_chart(charts.power_curve(tur, S, corrected=charts.corrected_curve(ev, dp, dt),
+                                       distribution=charts.hub_distribution(ev, dp, S)),
+                    width="content")
+elif view == "monthly":
+    m = charts.monthly_energy_kwh(ev, dp, dt)
+    if m is None:
+        st.info("This climate has no monthly mean speeds, so the year is not split into "
+                "months. A measured record gives them.", icon="ℹ️")
+    else:
+        st.altair_chart(charts.monthly_energy(m, f"Monthly net energy at {dp} with {dt}"),
+                        width="content")
+else:
+    st.altair_chart(charts.ranking_bars(table), width="content")

@@ -1,0 +1,211 @@
+"""Form pieces bound to the working copy: each widget reads the draft, writes it back, and
+shows the engine's message for its own field right beneath it."""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pandas as pd
+import streamlit as st
+
+from . import state
+
+CAUTIONS = (
+    ("Working at height", "Roof and mast work needs a safe system of work: edge protection or "
+     "fall arrest, a second person, and no work in high wind, rain or ice."),
+    ("Roof structure", "A roof or wall must carry the turbine's weight, thrust and vibration. "
+     "Have a structural engineer check the mounting before anything is fixed to a building."),
+    ("Mast loads", "Masts, foundations and guys must be designed for the extreme gust and the "
+     "rotor thrust by a competent engineer, to the manufacturer's instructions."),
+    ("Electrical work", "Connection to a building's wiring or the grid is work for a licensed "
+     "electrician, with the network operator's consent where the rules ask for it."),
+    ("Noise for neighbours", "Turbine noise and vibration carry, more so at night. Talk to "
+     "neighbours and check the local limits before choosing a position."),
+    ("Planning permission", "Most places need planning permission or a permitted-development "
+     "check for a turbine on or near a building. Ask the local planning authority first."),
+)
+
+CAUTION_FOOTER = ("These figures support a decision; they do not replace local codes, a "
+                  "structural engineer's check or a licensed installer's design.")
+
+
+def cautions(expanded: bool = False) -> None:
+    """The standing safety panel."""
+    with st.expander("⚠ Safety cautions before any installation", expanded=expanded):
+        for title, text in CAUTIONS:
+            st.markdown(f"**{title}.** {text}")
+        st.caption(CAUTION_FOOTER)
+
+
+def field_messages(path: str, label: str, kind: str = "plain") -> None:
+    """The engine's messages for one field, beside it."""
+    msgs = state.problems_at(state.engine_where(path))
+    for m in msgs:
+        note = ""
+        if kind in ("speed", "length") and state.unit_of(kind) not in ("m/s", "m"):
+            note = f" (the rule is checked in {'m/s' if kind == 'speed' else 'metres'})"
+        st.error(f"**{label}** {m}{note}", icon="✋")
+
+
+def _key(path: str, kind: str) -> str:
+    return f"{state.WIDGET_PREFIX}{path}|{kind}|{state.unit_of(kind)}"
+
+
+def number(label: str, path: str, kind: str = "plain", fmt: str = "%.2f", step=None,
+           help: str | None = None, optional: bool = False, disabled: bool = False):
+    """A number field bound to ``path`` in the draft; speeds and lengths in display units."""
+    key = _key(path, kind)
+    if key not in st.session_state:
+        v = state.to_display(state.get_path(path), kind)
+        st.session_state[key] = None if v is None else (
+            float(v) if isinstance(v, (int, float)) and not isinstance(v, bool) else None)
+    unit = state.unit_of(kind)
+    shown = f"{label} ({unit})" if kind in ("speed", "length") else label
+    value = st.number_input(shown, key=key, format=fmt, step=step, help=help,
+                            disabled=disabled, placeholder="not given" if optional else None)
+    state.set_path(path, state.to_si(value, kind))
+    field_messages(path, shown, kind)
+    return value
+
+
+def text(label: str, path: str, help: str | None = None, area: bool = False):
+    key = _key(path, "plain")
+    if key not in st.session_state:
+        st.session_state[key] = str(state.get_path(path, "") or "")
+    fn = st.text_area if area else st.text_input
+    value = fn(label, key=key, help=help)
+    state.set_path(path, value)
+    field_messages(path, label)
+    return value
+
+
+def choice(label: str, path: str, options, help: str | None = None, fmt=None):
+    key = _key(path, "plain")
+    options = list(options)
+    if key not in st.session_state or st.session_state[key] not in options:
+        cur = state.get_path(path)
+        st.session_state[key] = cur if cur in options else options[0]
+    value = st.selectbox(label, options, key=key, help=help, format_func=fmt or str)
+    state.set_path(path, value)
+    field_messages(path, label)
+    return value
+
+
+def toggle(label: str, path: str, help: str | None = None):
+    key = _key(path, "plain")
+    if key not in st.session_state:
+        st.session_state[key] = bool(state.get_path(path, False))
+    value = st.checkbox(label, key=key, help=help)
+    state.set_path(path, value)
+    return value
+
+
+# ---------------------------------------------------------------- tables
+
+def _cell(value, kind: str):
+    """A table cell read back: None for empty; SI for speeds and lengths."""
+    if value is None:
+        return None
+    if isinstance(value, float) and math.isnan(value):
+        return None
+    if isinstance(value, (np.floating, np.integer)):
+        value = value.item()
+    if kind in ("speed", "length"):
+        try:
+            return state.to_si(float(value), kind)
+        except (TypeError, ValueError):
+            return value
+    if kind == "number":
+        return float(value) if isinstance(value, (int, float)) else value
+    if kind == "list":
+        return [s.strip() for s in str(value).replace(";", ",").split(",") if s.strip()]
+    if kind == "text":
+        return str(value)
+    return value
+
+
+def table(name: str, rows: list, columns: list, *, dynamic: bool = True,
+          disabled: bool = False, height: int | None = None) -> list:
+    """An editable table of site-file rows; returns the edited rows (SI).
+
+    ``columns`` lists ``(field, label, kind, config)`` with kind speed, length, number, text,
+    list or choice; ``config`` is an optional ``st.column_config`` object. Fields of a row
+    that the table does not show are kept. The editor's own state lives under a key tied to
+    the draft's generation and the units, so a page change, an error or a unit change never
+    throws edits away: the table restarts from the draft, which holds every edit.
+    """
+    ss = st.session_state
+    s_unit, l_unit = state.units_now()
+    key = f"ed|{name}|{ss['gen']}|{s_unit}|{l_unit}"
+    base_key = f"base|{name}"
+    if key not in ss or base_key not in ss:
+        ss[base_key] = [dict(r) for r in rows]
+    base_rows = ss[base_key]
+    data = {}
+    for field, label, kind, _ in columns:
+        vals = [r.get(field) for r in base_rows]
+        if kind in ("speed", "length"):
+            vals = [state.to_display(v, kind) if isinstance(v, (int, float)) else None
+                    for v in vals]
+        elif kind == "list":
+            vals = [", ".join(map(str, v)) if isinstance(v, (list, tuple)) else (v or "")
+                    for v in vals]
+        data[label] = vals
+    frame = pd.DataFrame(data, index=pd.RangeIndex(len(base_rows)))
+    config = {}
+    for field, label, kind, cfg in columns:
+        if cfg is not None:
+            config[label] = cfg
+    extra = {"height": height} if height else {}
+    edited = st.data_editor(frame, key=key, num_rows="dynamic" if dynamic else "fixed",
+                            column_config=config, disabled=disabled, hide_index=True,
+                            width="stretch", **extra)
+    out = []
+    for idx, rec in zip(edited.index, edited.to_dict("records")):
+        i = int(idx) if isinstance(idx, (int, np.integer)) else -1
+        row = dict(base_rows[i]) if 0 <= i < len(base_rows) else {}
+        for field, label, kind, _ in columns:
+            row[field] = _cell(rec.get(label), kind)
+        out.append(row)
+    return out
+
+
+def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> None:
+    """Messages for rows of a table, as ``Row 3 (mill), height (m): ...``."""
+    prefix = f"{group}["
+    shown = 0
+    for where, msg in st.session_state["problems"]:
+        if not where.startswith(prefix):
+            continue
+        try:
+            i = int(where[len(prefix):].split("]")[0])
+        except ValueError:
+            continue
+        field = where.split("].", 1)[1] if "]." in where else ""
+        rid = rows[i].get(id_field) if i < len(rows) else ""
+        label = labels.get(field.split("[")[0], field.replace("_", " ")) if field else ""
+        st.error(f"**Row {i + 1}{f' ({rid})' if rid else ''}{', ' + label if label else ''}:** "
+                 f"{msg}", icon="✋")
+        shown += 1
+    for where, msg in st.session_state["problems"]:
+        if where == group:
+            st.error(f"**{group.capitalize()}:** {msg}", icon="✋")
+            shown += 1
+    return shown
+
+
+def step_banner(step: str, title: str) -> None:
+    """Heading with the step's state."""
+    ok = state.complete(step)
+    st.title(title)
+    if ok:
+        st.success("Complete: this step's inputs are consistent.", icon="✅")
+    else:
+        n = len(state.step_problems(step))
+        st.warning(f"Needs attention: {n} problem(s) below. The results keep using the last "
+                   "complete inputs until they are fixed.", icon="⚠️")
+
+
+def editing() -> bool:
+    """False in presentation mode (editing widgets hidden)."""
+    return not st.session_state.get("presentation", False)
