@@ -1,0 +1,1226 @@
+"""Portfolio screening: which of many roofs are worth a visit?
+
+One pass over a buildings table (CSV or Parquet, thousands to millions of rows) with the same
+engine functions as the detailed assessment, vectorised over buildings:
+
+1. **read and check** the table in parts (:func:`table_parts`, :func:`read_part`,
+   :func:`check_part`); bad rows are reported by id and line with the fix, good rows go on;
+2. **surroundings** from the table itself: plan and frontal area fractions and mean height of
+   the buildings around each one (:func:`cell_sums`, :func:`neighbourhood_lookup`), turned into
+   roughness length and displacement by the climate transfer's morphometric model;
+3. **one roof position per building**, at the roof's centre, on the shortest mast that keeps
+   the largest chosen rotor clear of the roof's high-turbulence zone in the main energy sectors;
+4. **yield** of every chosen turbine there, then a **suitability class with reasons**.
+
+Step 3 and 4 are :func:`screen_part`; the detailed assessment of one building
+(:func:`assessment_for_building`, run through :func:`engine.pipeline.evaluate`) gives the same
+numbers. The same part functions run in a plain loop (:func:`screen_local`) or as Dask
+partitions (:func:`screen_dask`), so both engines return identical tables.
+
+Array shapes: N buildings, S sectors, T turbines.
+"""
+from __future__ import annotations
+
+import io
+import math
+import os
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+from typing import Optional
+
+import numpy as np
+import pandas as pd
+
+from . import air, model, profiles
+from .errors import InputError, Problems
+
+# ----------------------------------------------------------------------------------------------
+# The buildings table
+# ----------------------------------------------------------------------------------------------
+
+#: Numeric columns and their limits (lo, hi, unit, lo_open, hi_open); the limits are those of
+#: :class:`engine.model.Building` and :class:`engine.model.Site` (a test holds them equal).
+NUMERIC_LIMITS = {
+    "x_m": (-1e5, 1e5, "m", False, False),
+    "y_m": (-1e5, 1e5, "m", False, False),
+    "length_m": (1.0, 1000.0, "m", False, False),
+    "width_m": (1.0, 1000.0, "m", False, False),
+    "height_m": (2.0, 300.0, "m", False, False),
+    "orientation_deg": (0.0, 360.0, "deg", False, True),
+    "roof_pitch_deg": (0.0, 60.0, "deg", False, False),
+    "parapet_height_m": (0.0, 5.0, "m", False, False),
+    "latitude_deg": (-90.0, 90.0, "deg", False, False),
+    "longitude_deg": (-180.0, 180.0, "deg", False, False),
+    "plan_area_fraction": (0.0, 1.0, "", True, True),
+    "frontal_area_fraction": (0.0, 1.0, "", True, True),
+    "mean_building_height_m": (0.0, 300.0, "m", True, False),
+    "roughness_m": (1e-4, 5.0, "m", False, False),
+    "displacement_m": (0.0, 100.0, "m", False, False),
+}
+#: Defaults of optional building columns (those of :class:`engine.model.Building`).
+BUILDING_DEFAULTS = {"orientation_deg": 0.0, "roof_type": "flat", "roof_pitch_deg": 0.0,
+                     "parapet_height_m": 0.0}
+REQUIRED_COLUMNS = ("id", "length_m", "width_m", "height_m")
+#: Optional description of the surroundings, by row: fractions, a roughness, or a category.
+SURROUNDINGS_COLUMNS = ("plan_area_fraction", "frontal_area_fraction", "mean_building_height_m",
+                        "roughness_m", "displacement_m", "terrain_category")
+TEXT_COLUMNS = ("id", "roof_type", "zone", "terrain_category")
+KNOWN_COLUMNS = tuple(NUMERIC_LIMITS) + TEXT_COLUMNS
+#: Largest number of row problems listed one by one; the rest are counted.
+MAX_LISTED_ROWS = 200
+#: Target size of one part of a CSV file [bytes] (a Dask partition, or a step of the local loop).
+PART_BYTES = 32 * 1024 * 1024
+#: Rows per part of an in-memory table.
+PART_ROWS = 250_000
+#: Mean Earth radius [m] (IUGG), for latitude/longitude to local metres.
+EARTH_RADIUS_M = 6_371_008.8
+
+
+@dataclass(frozen=True)
+class Part:
+    """One part of a buildings table: a byte range of a CSV, a Parquet row group or a slice.
+
+    ``first_line`` is the file line (CSV, header = line 1) or row number (Parquet, from 1) of
+    the part's first record.
+    """
+
+    kind: str  # "csv", "parquet" or "frame"
+    source: object
+    start: int
+    stop: int
+    first_line: int
+    header: tuple = ()
+
+
+def _csv_parts(path: Path, part_bytes: int) -> list:
+    """Split a CSV into byte ranges that end on line ends, with the line number of each start."""
+    size = path.stat().st_size
+    parts = []
+    with open(path, "rb") as fh:
+        header_line = fh.readline()
+        header = tuple(pd.read_csv(io.BytesIO(header_line), nrows=0).columns)
+        pos, line = fh.tell(), 2
+        while pos < size:
+            fh.seek(min(pos + part_bytes, size))
+            if fh.tell() < size:
+                fh.readline()  # run on to the end of the line
+            end = fh.tell()
+            fh.seek(pos)
+            # Count lines of this range in blocks, so a large part is never held twice.
+            n, left = 0, end - pos
+            while left > 0:
+                block = fh.read(min(left, 8 * 1024 * 1024))
+                n += block.count(b"\n")
+                left -= len(block)
+            parts.append(Part("csv", str(path), pos, end, line, header))
+            line += n
+            pos = end
+    return parts
+
+
+def table_parts(source, part_bytes: int = PART_BYTES, part_rows: int = PART_ROWS) -> list:
+    """The parts of a buildings table: a CSV or Parquet path, or a DataFrame.
+
+    Raises
+    ------
+    InputError
+        The file cannot be read, or its type is neither CSV nor Parquet.
+    """
+    if isinstance(source, pd.DataFrame):
+        n = len(source)
+        return [Part("frame", source, a, min(a + part_rows, n), a + 2)
+                for a in range(0, max(n, 1), part_rows)]
+    path = Path(source)
+    if not path.is_file():
+        raise InputError([(str(path), "no such file; give the path of a CSV or Parquet "
+                                      "buildings table")])
+    suffix = path.suffix.lower()
+    if suffix == ".parquet":
+        import pyarrow.parquet as pq
+        try:
+            meta = pq.ParquetFile(path).metadata
+        except Exception as e:  # pyarrow raises several types for a damaged file
+            raise InputError([(str(path), f"is not a readable Parquet file ({e})")]) from None
+        parts, row = [], 1
+        for g in range(meta.num_row_groups):
+            n = meta.row_group(g).num_rows
+            parts.append(Part("parquet", str(path), g, g + 1, row))
+            row += n
+        return parts
+    if suffix in (".csv", ".txt"):
+        try:
+            return _csv_parts(path, part_bytes)
+        except (pd.errors.ParserError, pd.errors.EmptyDataError, UnicodeDecodeError) as e:
+            raise InputError([(str(path), f"header cannot be read as CSV ({e}); the first line "
+                                          "must name the columns")]) from None
+    raise InputError([(str(path), f"unknown table type {suffix!r}; use .csv or .parquet")])
+
+
+def read_part(part: Part) -> pd.DataFrame:
+    """The raw rows of one part, with their ``line`` (file line or row number)."""
+    if part.kind == "frame":
+        raw = part.source.iloc[part.start:part.stop].reset_index(drop=True)
+    elif part.kind == "parquet":
+        import pyarrow.parquet as pq
+        raw = pq.ParquetFile(part.source).read_row_group(part.start).to_pandas()
+    else:
+        with open(part.source, "rb") as fh:
+            fh.seek(part.start)
+            data = fh.read(part.stop - part.start)
+        try:
+            raw = pd.read_csv(io.BytesIO(data), header=None, names=list(part.header),
+                              dtype={c: str for c in TEXT_COLUMNS if c in part.header},
+                              skip_blank_lines=False, on_bad_lines="skip", engine="c")
+        except pd.errors.EmptyDataError:
+            raw = pd.DataFrame(columns=list(part.header))
+    raw = raw.copy()
+    raw["line"] = np.arange(part.first_line, part.first_line + len(raw), dtype=np.int64)
+    return raw
+
+
+def _limit_message(name, values, lo, hi, unit, lo_open, hi_open):
+    lo_s = f"> {lo:g}" if lo_open else f">= {lo:g}"
+    hi_s = f"< {hi:g}" if hi_open else f"<= {hi:g}"
+    return [f"{name} must be {lo_s} and {hi_s}, got {v:g} {unit}".rstrip() for v in values]
+
+
+def header_problems(columns) -> list:
+    """Problems with the table's columns as a whole (missing, unknown), as (where, message)."""
+    cols = set(columns)
+    probs = []
+    for c in REQUIRED_COLUMNS:
+        if c not in cols:
+            probs.append(("columns", f"required column {c!r} is missing (need "
+                                     f"{', '.join(REQUIRED_COLUMNS)} and x_m, y_m or "
+                                     "latitude_deg, longitude_deg)"))
+    has_xy = {"x_m", "y_m"} <= cols
+    has_ll = {"latitude_deg", "longitude_deg"} <= cols
+    if not has_xy and not has_ll:
+        probs.append(("columns", "need plan positions: columns x_m and y_m (local metres) or "
+                                 "latitude_deg and longitude_deg"))
+    unknown = [c for c in columns if c not in KNOWN_COLUMNS and c != "line"]
+    if unknown:
+        probs.append(("columns", f"unknown column(s) {', '.join(map(repr, unknown))}; known: "
+                                 f"{', '.join(KNOWN_COLUMNS)}"))
+    return probs
+
+
+def check_part(raw: pd.DataFrame, zones=None) -> pd.DataFrame:
+    """Check and normalise the rows of one part; adds ``problem`` ("" for a good row).
+
+    Parameters
+    ----------
+    raw : rows as read, with ``line``
+    zones : names of the zones that have a climate, or None when one climate serves all
+
+    Returns
+    -------
+    DataFrame with every known column (defaults filled in), numeric columns as float, and
+    ``problem``: the row's problems joined by "; ", each with its fix.
+
+    Notes
+    -----
+    Vectorised: every rule is one array comparison; messages are written only for bad rows.
+    """
+    n = len(raw)
+    out = pd.DataFrame({"line": raw["line"].to_numpy(np.int64)})
+    bad_msgs = {}
+
+    def add(mask, messages):
+        idx = np.flatnonzero(mask)
+        for i, m in zip(idx, messages):
+            bad_msgs.setdefault(int(i), []).append(m)
+
+    ids = raw["id"] if "id" in raw else pd.Series([""] * n)
+    ids = ids.astype("string").fillna("").str.strip()
+    out["id"] = ids.to_numpy(dtype=object)
+    empty_id = (ids == "").to_numpy()
+    add(empty_id, ["id is empty; give every building a unique id"] * int(empty_id.sum()))
+    use_ll = "x_m" not in raw and "latitude_deg" in raw
+    for name, (lo, hi, unit, lo_open, hi_open) in NUMERIC_LIMITS.items():
+        if name not in raw:
+            out[name] = float(BUILDING_DEFAULTS.get(name, np.nan))
+            continue
+        col = raw[name]
+        vals = pd.to_numeric(col, errors="coerce").to_numpy(dtype=float)
+        given = ~(col.isna().to_numpy() | (col.astype("string").fillna("").str.strip() == "")
+                  .to_numpy())
+        required = name in REQUIRED_COLUMNS or (name in ("x_m", "y_m") and not use_ll) or (
+            name in ("latitude_deg", "longitude_deg") and use_ll)
+        not_number = given & ~np.isfinite(vals)
+        add(not_number, [f"{name} must be a number, got {v!r}"
+                         for v in col.to_numpy()[not_number]])
+        if required:
+            missing = ~given
+            add(missing, [f"{name} is empty; it is required"] * int(missing.sum()))
+        elif name in BUILDING_DEFAULTS:
+            vals = np.where(given, vals, BUILDING_DEFAULTS[name])
+        ok = np.isfinite(vals)
+        with np.errstate(invalid="ignore"):
+            low = (vals <= lo) if lo_open else (vals < lo)
+            high = (vals >= hi) if hi_open else (vals > hi)
+        out_of = ok & (low | high)
+        add(out_of, _limit_message(name, vals[out_of], lo, hi, unit, lo_open, hi_open))
+        out[name] = vals
+    roof = raw["roof_type"].astype("string").fillna("").str.strip().str.lower() \
+        if "roof_type" in raw else pd.Series(["flat"] * n, dtype="string")
+    roof = roof.where(roof != "", "flat")
+    bad_roof = ~roof.isin(model.ROOF_TYPES).to_numpy()
+    add(bad_roof, [f"roof_type must be one of {', '.join(model.ROOF_TYPES)}, got {v!r}"
+                   for v in roof.to_numpy()[bad_roof]])
+    out["roof_type"] = roof.to_numpy(dtype=object)
+    zone = raw["zone"].astype("string").fillna("").str.strip() if "zone" in raw \
+        else pd.Series([""] * n, dtype="string")
+    out["zone"] = zone.to_numpy(dtype=object)
+    if zones is not None:
+        no_clim = ~zone.isin(list(zones)).to_numpy()
+        add(no_clim, [f"zone {v!r} has no climate; give one with --climate {v}=FILE or a "
+                      f"default climate" for v in zone.to_numpy()[no_clim]])
+    cat = raw["terrain_category"].astype("string").fillna("").str.strip().str.upper() \
+        if "terrain_category" in raw else pd.Series([""] * n, dtype="string")
+    bad_cat = ((cat != "") & ~cat.isin(list(profiles.EN1991_TERRAIN))).to_numpy()
+    add(bad_cat, [f"terrain_category must be one of {', '.join(profiles.EN1991_TERRAIN)} "
+                  f"(EN 1991-1-4 Table 4.1) or empty, got {v!r}" for v in cat.to_numpy()[bad_cat]])
+    out["terrain_category"] = cat.to_numpy(dtype=object)
+    # Surroundings given by row: both fractions together, or neither.
+    lp, lf = out["plan_area_fraction"].to_numpy(), out["frontal_area_fraction"].to_numpy()
+    half = np.isfinite(lp) != np.isfinite(lf)
+    add(half, ["give plan_area_fraction and frontal_area_fraction together, or neither"]
+        * int(half.sum()))
+    pitched_flat = (out["roof_type"].to_numpy() == "flat") & (out["roof_pitch_deg"].to_numpy() > 0)
+    add(pitched_flat, [f"roof_pitch_deg is {v:g} deg on a flat roof; set roof_type to pitched "
+                       "or the pitch to 0" for v in out["roof_pitch_deg"].to_numpy()[pitched_flat]])
+    text = np.full(n, "", dtype=object)
+    for i, msgs in bad_msgs.items():
+        text[i] = "; ".join(msgs)
+    out["problem"] = text
+    return out
+
+
+def duplicate_problems(ids: pd.Series, lines: pd.Series) -> pd.DataFrame:
+    """Rows whose id appears more than once: (line, id, problem). None of them is screened."""
+    frame = pd.DataFrame({"id": ids.to_numpy(object), "line": lines.to_numpy(np.int64)})
+    dup = frame[frame["id"].duplicated(keep=False)]
+    if dup.empty:
+        return pd.DataFrame({"line": np.array([], np.int64), "id": [], "problem": []})
+    lines_of = dup.groupby("id")["line"].apply(lambda s: sorted(s.tolist()))
+    listed = lines_of.map(lambda ls: ", ".join(map(str, ls[:10])) + (" ..." if len(ls) > 10 else ""))
+    dup = dup.assign(problem=[f"id {i!r} appears on {len(lines_of[i])} lines ({listed[i]}); ids "
+                              "must be unique: rename or remove the copies" for i in dup["id"]])
+    return dup.sort_values("line").reset_index(drop=True)
+
+
+def row_problems(bad: pd.DataFrame, where_word: str = "line") -> list:
+    """Bad rows as (where, message) items, sorted by line, at most :data:`MAX_LISTED_ROWS`."""
+    bad = bad.sort_values("line")
+    items = [(f"{where_word} {int(l)} (id {i!r})" if i else f"{where_word} {int(l)}", p)
+             for l, i, p in zip(bad["line"], bad["id"], bad["problem"])]
+    if len(items) > MAX_LISTED_ROWS:
+        rest = len(items) - MAX_LISTED_ROWS
+        items = items[:MAX_LISTED_ROWS] + [("table", f"{rest} more bad row(s) not listed")]
+    return items
+
+
+# ----------------------------------------------------------------------------------------------
+# Surroundings from the table itself
+# ----------------------------------------------------------------------------------------------
+
+#: Side of the plan cells the table is binned into [m].
+CELL_M = 20.0
+#: The neighbourhood of a building is the square of (2 m + 1) cells centred on its cell:
+#: with 20 m cells and m = 5, a 220 m square (a lot of a few hundred metres is the usual
+#: source area of morphometric roughness; common practice).
+HALF_CELLS = 5
+#: Quantum of the summed areas [m²] and area-heights [m³]: sums are kept as whole numbers of
+#: this quantum, so they are exact and do not depend on how the table is split into parts.
+AREA_QUANTUM = 0.01
+#: Largest number of grid cells held at once while summing neighbourhoods.
+MAX_BAND_CELLS = 20_000_000
+
+
+def frontal_area_mean_m2(length_m, width_m, height_m):
+    """Frontal area of a block averaged over all wind directions [m²].
+
+    Notes
+    -----
+    A_f = H (2/π)(L + W): the mean projected width of a convex plan shape over all directions
+    is its perimeter / π (Cauchy's projection formula), 2(L + W)/π for an L × W rectangle.
+    """
+    return (np.asarray(height_m, float) * (2.0 / math.pi)
+            * (np.asarray(length_m, float) + np.asarray(width_m, float)))
+
+
+def cell_index(x_m, y_m, cell_m=CELL_M):
+    """Integer plan cell (column, row) of each point."""
+    return (np.floor(np.asarray(x_m, float) / cell_m).astype(np.int64),
+            np.floor(np.asarray(y_m, float) / cell_m).astype(np.int64))
+
+
+def cell_sums(x_m, y_m, length_m, width_m, height_m) -> pd.DataFrame:
+    """Per occupied cell: whole-quantum sums of plan area, frontal area and area × height.
+
+    Returns a DataFrame with int64 columns cx, cy, area, frontal, area_height, count.
+    """
+    cx, cy = cell_index(x_m, y_m)
+    L, W, H = (np.asarray(a, float) for a in (length_m, width_m, height_m))
+    a = np.rint(L * W / AREA_QUANTUM).astype(np.int64)
+    f = np.rint(frontal_area_mean_m2(L, W, H) / AREA_QUANTUM).astype(np.int64)
+    ah = np.rint(L * W * H / AREA_QUANTUM).astype(np.int64)
+    frame = pd.DataFrame({"cx": cx, "cy": cy, "area": a, "frontal": f, "area_height": ah,
+                          "count": np.ones(len(a), np.int64)})
+    return frame.groupby(["cx", "cy"], sort=True, as_index=False).sum()
+
+
+def combine_cell_sums(frames) -> pd.DataFrame:
+    """Add cell sums of several parts (whole numbers: the order does not matter)."""
+    frames = [f for f in frames if len(f)]
+    if not frames:
+        return cell_sums([], [], [], [], [])
+    return pd.concat(frames, ignore_index=True).groupby(
+        ["cx", "cy"], sort=True, as_index=False).sum()
+
+
+@dataclass(frozen=True)
+class Neighbourhood:
+    """Neighbourhood sums of every occupied cell, sorted by cell key, ready for look-up."""
+
+    cx0: int
+    cy0: int
+    width: int
+    keys: np.ndarray       # (C,) int64 cell keys (cy - cy0) * width + (cx - cx0)
+    area: np.ndarray       # (C,) int64 plan area in quanta
+    frontal: np.ndarray    # (C,) int64 frontal area in quanta
+    area_height: np.ndarray  # (C,) int64 area x height in quanta
+    lot_area_m2: float
+
+    def at(self, x_m, y_m):
+        """Plan area fraction, frontal area fraction, mean height [m] around each point.
+
+        Notes
+        -----
+        λp = Σ A_i / A_lot, λf = Σ A_f,i / A_lot, H̄ = Σ A_i H_i / Σ A_i over the buildings
+        whose centres lie in the (2 m + 1)-cell square around the point's cell (the building
+        itself included); A_lot the square's area.
+        """
+        cx, cy = cell_index(x_m, y_m)
+        key = (cy - self.cy0) * self.width + (cx - self.cx0)
+        i = np.clip(np.searchsorted(self.keys, key), 0, max(len(self.keys) - 1, 0))
+        if len(self.keys) == 0 or not np.all(self.keys[i] == key):
+            raise ValueError("a point lies in a cell no building of the table occupies")
+        a = self.area[i].astype(float)
+        lp = a * AREA_QUANTUM / self.lot_area_m2
+        lf = self.frontal[i].astype(float) * AREA_QUANTUM / self.lot_area_m2
+        hm = np.divide(self.area_height[i].astype(float), a, out=np.zeros_like(a), where=a > 0)
+        return lp, lf, hm
+
+
+def neighbourhood_lookup(cells: pd.DataFrame, half_cells: int = HALF_CELLS,
+                         cell_m: float = CELL_M) -> Neighbourhood:
+    """Sum each occupied cell's (2 m + 1)² neighbourhood, by integral images in row bands.
+
+    Whole-number sums (int64): exact, so any split of the table into parts gives the same.
+    """
+    m = int(half_cells)
+    lot = ((2 * m + 1) * cell_m) ** 2
+    if len(cells) == 0:
+        z = np.zeros(0, np.int64)
+        return Neighbourhood(0, 0, 1, z, z, z, z, lot)
+    cx = cells["cx"].to_numpy(np.int64)
+    cy = cells["cy"].to_numpy(np.int64)
+    cx0, cy0 = int(cx.min()), int(cy.min())
+    width = int(cx.max() - cx0 + 1)
+    ix, iy = cx - cx0, cy - cy0
+    keys = iy * width + ix
+    order = np.argsort(keys, kind="stable")
+    keys, ix, iy = keys[order], ix[order], iy[order]
+    vals = [cells[c].to_numpy(np.int64)[order] for c in ("area", "frontal", "area_height")]
+    out = [np.zeros(len(keys), np.int64) for _ in vals]
+    n_rows = int(iy.max() + 1)
+    band = max(1, MAX_BAND_CELLS // (width + 2 * m) - 2 * m)
+    for r0 in range(0, n_rows, band):
+        r1 = min(r0 + band, n_rows)
+        lo_row, hi_row = r0 - m, r1 + m  # rows that feed this band
+        src = np.flatnonzero((iy >= lo_row) & (iy < hi_row))
+        dst = np.flatnonzero((iy >= r0) & (iy < r1))
+        if len(dst) == 0:
+            continue
+        h = hi_row - lo_row
+        for v, o in zip(vals, out):
+            g = np.zeros((h + 1, width + 2 * m + 1), np.int64)
+            np.add.at(g, (iy[src] - lo_row + 1, ix[src] + m + 1), v[src])
+            g = g.cumsum(axis=0).cumsum(axis=1)  # integral image, zero first row and column
+            r = iy[dst] - lo_row  # window rows r - m .. r + m in g's frame -> [r-m, r+m+1)
+            c = ix[dst] + m       # window cols ix - m .. ix + m -> [c-m, c+m+1)
+            r_a, r_b = np.maximum(r - m, 0), np.minimum(r + m + 1, h)
+            c_a, c_b = c - m, c + m + 1
+            o[dst] = g[r_b, c_b] - g[r_a, c_b] - g[r_b, c_a] + g[r_a, c_a]
+    return Neighbourhood(cx0, cy0, width, keys, out[0], out[1], out[2], lot)
+
+
+# ----------------------------------------------------------------------------------------------
+# What every building is screened with
+# ----------------------------------------------------------------------------------------------
+
+#: Suitability classes, best first.
+CLASSES = ("promising", "worth a visit", "marginal", "unsuitable")
+
+
+@dataclass(frozen=True)
+class ScreeningSettings:
+    """Thresholds of the suitability classes and the screening's own choices.
+
+    Capacity factors are net (after losses) of the best chosen turbine.
+    """
+
+    #: Below this the roof is unsuitable: the best urban building-mounted turbine in the
+    #: Energy Saving Trust field trial (2009) stayed below 3 % load factor.
+    cf_unsuitable_below: float = 0.03
+    #: Below this the roof is marginal: rural building-mounted turbines reached about 5 % in
+    #: that trial; the Warwick Wind Trials (2009) mean was 4.15 % excluding downtime.
+    cf_marginal_below: float = 0.05
+    #: At or above this the roof is promising; above 10 % is rare for roof mounts in the field
+    #: trials, so such rows also carry a reason to measure before relying on it.
+    cf_promising_from: float = 0.10
+    #: Masts are chosen in steps of this length [m].
+    mast_step_m: float = 0.1
+    #: Plan area fraction above which the surroundings are called dense in the reasons [-].
+    dense_plan_fraction: float = 0.35
+    #: Height over the surroundings' mean height from which a building "stands above" them [-].
+    tall_ratio: float = 1.5
+    #: Buildings evaluated at once (bounds memory: about 1 MB per building and turbine).
+    chunk_rows: int = 2000
+
+    def __post_init__(self):
+        p = Problems()
+        if not (0 <= self.cf_unsuitable_below <= self.cf_marginal_below <= self.cf_promising_from <= 1):
+            p.add("screening", "need 0 <= cf_unsuitable_below <= cf_marginal_below <= "
+                               f"cf_promising_from <= 1, got {self.cf_unsuitable_below}, "
+                               f"{self.cf_marginal_below}, {self.cf_promising_from}")
+        if not self.mast_step_m > 0:
+            p.add("screening.mast_step_m", f"must be > 0, got {self.mast_step_m}")
+        if not int(self.chunk_rows) >= 1:
+            p.add("screening.chunk_rows", f"must be >= 1, got {self.chunk_rows}")
+        p.raise_if_any()
+
+
+@dataclass(frozen=True)
+class ScreeningContext:
+    """Everything a part is screened with, besides its rows (small: shipped to every worker).
+
+    ``climates`` maps a zone name to its climate; the key ``""`` is the climate of rows whose
+    zone has none of its own.
+    """
+
+    site: model.Site
+    climates: dict
+    turbines: tuple
+    losses: model.Losses = field(default_factory=model.Losses)
+    ranking: model.RankingSettings = field(default_factory=model.RankingSettings)
+    settings: ScreeningSettings = field(default_factory=ScreeningSettings)
+    transfer: model.TransferSettings = field(default_factory=model.TransferSettings)
+    #: (latitude, longitude) [deg] of the local origin when the table gives latitude/longitude.
+    origin_deg: Optional[tuple] = None
+
+    def __post_init__(self):
+        p = Problems()
+        if not self.climates:
+            p.add("climate", "give at least one wind climate")
+        if not self.turbines:
+            p.add("turbines", "choose at least one turbine")
+        ids = [t.id for t in self.turbines]
+        if len(set(ids)) != len(ids):
+            p.add("turbines", f"turbine ids must be unique, got {', '.join(ids)}")
+        p.raise_if_any()
+
+    def zones(self):
+        """Zone names that have a climate, or None when a default climate serves every row."""
+        return None if "" in self.climates else tuple(self.climates)
+
+    @property
+    def rotor_radius_m(self) -> float:
+        """Largest rotor radius of the chosen turbines [m]: one mast serves all of them."""
+        return max(float(t.rotor_radius_m) for t in self.turbines)
+
+
+def context_from_assessment(assessment, turbine_ids=None, zone_climates=None,
+                            settings: ScreeningSettings = None) -> ScreeningContext:
+    """A screening context from a site file's assessment: its site, climate, turbines, losses.
+
+    Parameters
+    ----------
+    assessment : :class:`engine.model.Assessment`
+    turbine_ids : ids of the turbines to screen with (default: all of the assessment's)
+    zone_climates : optional {zone: WindClimate}; the assessment's climate serves other zones
+    """
+    turbines = assessment.turbines
+    if turbine_ids:
+        by_id = {t.id: t for t in turbines}
+        missing = [t for t in turbine_ids if t not in by_id]
+        if missing:
+            raise InputError([("turbines", f"no turbine {m!r} in the site file (has "
+                                           f"{', '.join(by_id)})") for m in missing])
+        turbines = tuple(by_id[t] for t in turbine_ids)
+    climates = {"": assessment.climate}
+    climates.update(zone_climates or {})
+    return ScreeningContext(site=assessment.site, climates=climates, turbines=tuple(turbines),
+                            losses=assessment.losses, ranking=assessment.ranking,
+                            transfer=assessment.transfer, settings=settings or ScreeningSettings())
+
+
+# ----------------------------------------------------------------------------------------------
+# Screening a part
+# ----------------------------------------------------------------------------------------------
+
+#: Output columns before the per-turbine ones, in order.
+RESULT_COLUMNS = ("rank", "id", "line", "zone", "suitability", "reasons", "best_turbine_id",
+                  "best_aep_kwh", "best_capacity_factor", "x_m", "y_m", "length_m", "width_m",
+                  "height_m", "orientation_deg", "roof_type", "roof_pitch_deg", "parapet_height_m",
+                  "plan_area_fraction", "frontal_area_fraction", "surroundings_height_m",
+                  "roughness_m", "displacement_m", "surroundings_from", "min_clear_mast_m",
+                  "mast_height_m", "hub_height_m", "mean_speed_ms", "turbulence_intensity")
+
+
+def local_metres(latitude_deg, longitude_deg, origin_deg):
+    """Latitude/longitude to local metres east and north of an origin (equirectangular) [m].
+
+    Notes
+    -----
+    x = R cos φ0 (λ − λ0), y = R (φ − φ0), R = 6 371 008.8 m (IUGG mean radius); the
+    distortion is below 0.1 % within about 50 km of the origin, ample for neighbourhoods.
+    """
+    lat0, lon0 = origin_deg
+    x = EARTH_RADIUS_M * math.cos(math.radians(lat0)) * np.radians(
+        np.asarray(longitude_deg, float) - lon0)
+    y = EARTH_RADIUS_M * np.radians(np.asarray(latitude_deg, float) - lat0)
+    return x, y
+
+
+def part_bounds(checked: pd.DataFrame):
+    """(min lat, max lat, min lon, max lon) of a part's good rows, or None (no lat/lon)."""
+    good = checked[checked["problem"] == ""]
+    if not len(good) or not np.isfinite(good["latitude_deg"]).any() or np.isfinite(
+            good["x_m"]).any():
+        return None
+    return (float(good["latitude_deg"].min()), float(good["latitude_deg"].max()),
+            float(good["longitude_deg"].min()), float(good["longitude_deg"].max()))
+
+
+def origin_from_bounds(bounds) -> Optional[tuple]:
+    """Centre of the parts' latitude/longitude bounds [deg] (exact: a min/max reduction)."""
+    bounds = [b for b in bounds if b is not None]
+    if not bounds:
+        return None
+    b = np.array(bounds, float)
+    return (float((b[:, 0].min() + b[:, 1].max()) / 2.0),
+            float((b[:, 2].min() + b[:, 3].max()) / 2.0))
+
+
+def with_plan_positions(checked: pd.DataFrame, origin_deg) -> pd.DataFrame:
+    """Fill x_m, y_m from latitude/longitude when the table gives those; flag rows off the plan."""
+    if origin_deg is None or np.isfinite(checked["x_m"].to_numpy()).any():
+        return checked
+    out = checked.copy()
+    x, y = local_metres(out["latitude_deg"], out["longitude_deg"], origin_deg)
+    out["x_m"], out["y_m"] = x, y
+    lo, hi = NUMERIC_LIMITS["x_m"][:2]
+    far = (out["problem"] == "").to_numpy() & ((np.abs(x) > hi) | (np.abs(y) > hi))
+    msg = (f"lies more than {hi / 1000:g} km from the table's centre; screen distant areas "
+           "as separate tables")
+    out.loc[far, "problem"] = msg
+    return out
+
+
+def good_rows(checked: pd.DataFrame, rejected_lines=()) -> pd.DataFrame:
+    """Rows with no problem and not among ``rejected_lines`` (duplicate ids)."""
+    ok = (checked["problem"] == "").to_numpy()
+    if len(rejected_lines):
+        ok &= ~np.isin(checked["line"].to_numpy(), np.asarray(rejected_lines, np.int64))
+    return checked[ok]
+
+
+def part_cells(checked: pd.DataFrame, rejected_lines=()) -> pd.DataFrame:
+    """Cell sums of a part's good rows (first reduction of a screening run)."""
+    g = good_rows(checked, rejected_lines)
+    return cell_sums(g["x_m"], g["y_m"], g["length_m"], g["width_m"], g["height_m"])
+
+
+def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered"):
+    """Roughness length and displacement of each building's surroundings [m], and their basis.
+
+    Per row, in order of precedence: a given ``roughness_m`` (with ``displacement_m``, else 0);
+    a ``terrain_category`` (EN 1991-1-4 Table 4.1 z0, d = 0); given plan and frontal area
+    fractions (with ``mean_building_height_m``, else the neighbours' mean height); otherwise the
+    fractions and mean height of the neighbours in the table. Fractions become z0 and d by
+    :func:`engine.transfer.macdonald_roughness` (Macdonald et al. 1998, ``layout``).
+
+    Returns
+    -------
+    dict of (N,) arrays: plan_area_fraction, frontal_area_fraction, surroundings_height_m,
+    roughness_m, displacement_m, surroundings_from (text)
+    """
+    from . import transfer
+
+    lp_n, lf_n, hm_n = nb.at(rows["x_m"].to_numpy(), rows["y_m"].to_numpy())
+    lp_g = rows["plan_area_fraction"].to_numpy(float)
+    lf_g = rows["frontal_area_fraction"].to_numpy(float)
+    hm_g = rows["mean_building_height_m"].to_numpy(float)
+    given = np.isfinite(lp_g) & np.isfinite(lf_g)
+    lp = np.where(given, lp_g, lp_n)
+    lf = np.where(given, lf_g, lf_n)
+    hm = np.where(np.isfinite(hm_g), hm_g, hm_n)
+    # Fractions a crowded table can push past Macdonald's range (0 < λp < 1) are held inside it.
+    lp = np.clip(lp, 1e-6, 0.95)
+    lf = np.clip(lf, 1e-6, 0.95)
+    z0_m, d_m = transfer.macdonald_roughness(lp, lf, hm, layout)
+    z0_m = np.clip(z0_m, NUMERIC_LIMITS["roughness_m"][0], NUMERIC_LIMITS["roughness_m"][1])
+    d_m = np.clip(d_m, 0.0, NUMERIC_LIMITS["displacement_m"][1])
+    src = np.where(given, "table: area fractions", "neighbours in the table").astype(object)
+    cat = rows["terrain_category"].to_numpy(object)
+    has_cat = cat != ""
+    if has_cat.any():
+        z_cat = np.array([profiles.EN1991_TERRAIN[c][0] if c else np.nan for c in cat])
+        z0_m = np.where(has_cat, z_cat, z0_m)
+        d_m = np.where(has_cat, 0.0, d_m)
+        src = np.where(has_cat, "table: terrain category", src)
+    z_g = rows["roughness_m"].to_numpy(float)
+    has_z = np.isfinite(z_g)
+    if has_z.any():
+        d_g = rows["displacement_m"].to_numpy(float)
+        z0_m = np.where(has_z, z_g, z0_m)
+        d_m = np.where(has_z, np.where(np.isfinite(d_g), d_g, 0.0), d_m)
+        src = np.where(has_z, "table: roughness length", src)
+    return {"plan_area_fraction": lp, "frontal_area_fraction": lf, "surroundings_height_m": hm,
+            "roughness_m": z0_m, "displacement_m": d_m, "surroundings_from": src}
+
+
+def free_stream(climate, roughness_m, displacement_m, hub_height_m, transfer_settings):
+    """Undisturbed per-sector Weibull (k, c) at each hub height, each (N, S), per-row terrain.
+
+    :func:`engine.transfer.free_stream_weibull` for one site, with the surroundings' roughness
+    and displacement given per row: the same transfer functions in the same order (a test holds
+    them equal).
+    """
+    from . import transfer
+
+    hub = np.asarray(hub_height_m, float)
+    z0 = np.asarray(roughness_m, float)
+    d = np.asarray(displacement_m, float)
+    st = transfer_settings
+    if st.method == "power_law":
+        ratio = transfer.speed_ratio_power_law(hub - d, climate.height_m - climate.displacement_m,
+                                               z0, climate.roughness_m, st.power_law_exponent)
+    else:
+        ratio = profiles.transfer_speed_ratio(hub, z0, climate.height_m, climate.roughness_m,
+                                              d, climate.displacement_m)
+    c = np.asarray(climate.weibull_c_ms, float)[None, :] * np.asarray(ratio, float)[:, None]
+    k_ref = np.asarray(climate.weibull_k, float)
+    if st.adjust_shape_with_height:
+        z_ref = max(climate.height_m - climate.displacement_m, 1.0)
+        z_hub = np.maximum(hub - d, 1.0)
+        k = np.clip(transfer.shape_justus_mikhail(k_ref[None, :], z_ref, z_hub[:, None]),
+                    0.5, 10.0)
+    else:
+        k = np.broadcast_to(k_ref, c.shape).copy()
+    return k, c
+
+
+def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_density_kgm3,
+                        transfer_settings):
+    """Effective climate of a roof position at each building's centre, one position per row.
+
+    The steps :func:`engine.flow.effective_climate` takes for an assessment of that one
+    building with that one roof position (its roof branch; with no other building there is no
+    upwind wake), with the surroundings' roughness and displacement per row instead of one
+    site's. A test holds the two equal.
+
+    Returns
+    -------
+    :class:`engine.flow.EffectiveClimate` with P = len(rows); diagnostics (P,):
+    ``min_clear_mast_m``, ``in_turbulence_zone``, ``in_recirculation_zone``, ``in_roof_wake``
+    """
+    from . import buildings, flow, roofflow, roofzones
+
+    H = rows["height_m"].to_numpy(float)
+    L = rows["length_m"].to_numpy(float)
+    W = rows["width_m"].to_numpy(float)
+    phi = rows["orientation_deg"].to_numpy(float)
+    para = rows["parapet_height_m"].to_numpy(float)
+    pitched = (rows["roof_type"].to_numpy(object) == "pitched")
+    mast = np.asarray(mast_m, float)
+    hub = H + mast
+    z0, d = sur["roughness_m"], sur["displacement_m"]
+    k, free_c = free_stream(climate, z0, d, hub, transfer_settings)
+    P, S = free_c.shape
+    sector_deg = np.asarray(climate.sector_deg, float)
+    freq = np.broadcast_to(np.asarray(climate.frequency, float), (P, S)).copy()
+    ti0 = np.broadcast_to(profiles.turbulence_intensity_terrain(hub, z0, d)[:, None],
+                          (P, S)).copy()
+    share = roofzones.sector_energy_share(freq, k, free_c)
+    main = roofzones.main_energy_sectors(share)
+    cross, _, _, _, _ = buildings.sector_geometry(L, W, phi, sector_deg)
+    R = roofzones.scaling_length_m((H + para)[:, None], cross)
+    zero = np.zeros(P)
+    X, Xd = buildings.roof_fetch_m(zero, zero, L, W, phi, sector_deg)
+    roof_len = X + Xd
+    z = (mast - para)[:, None]
+    clear = roofzones.zone_clearances_m(z, X, R, roof_len)
+    gamma = np.abs(np.mod(sector_deg[None, :] - phi[:, None] - 90.0 + 90.0, 180.0) - 90.0)
+    ds, dt = roofflow.direction_weights(pitched[:, None], gamma)
+    s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds)
+    ti = roofflow.roof_turbulence_intensity(ti0, s_roof, z, X, R, roof_len, dt)
+    skew = roofflow.roof_inflow_skew_deg(z, X, R, roof_len)
+    zone_top = roofzones.turbulence_zone_top_m(X, R, roof_len) + para[:, None]
+    min_clear = roofzones.min_clear_mast_m(zone_top, main)
+    diag = {"min_clear_mast_m": min_clear,
+            "in_turbulence_zone": ((clear["turbulence"] < 0) & main).any(axis=1),
+            "in_recirculation_zone": ((clear["recirculation"] < 0) & main).any(axis=1),
+            "in_roof_wake": ((clear["wake"] < 0) & main).any(axis=1)}
+    return flow.EffectiveClimate(
+        position_ids=tuple(rows["id"]), sector_deg=sector_deg, hub_height_m=hub,
+        frequency=freq, weibull_k=k, free_c_ms=free_c, speed_factor=s_roof,
+        turbulence_intensity=ti, inflow_skew_deg=skew,
+        air_density_kgm3=float(air_density_kgm3), flags=(), diagnostics=diag)
+
+
+def choose_mast_m(rows: pd.DataFrame, sur: dict, climate, air_density_kgm3, ctx) -> np.ndarray:
+    """Mast for each roof centre: clear of the turbulence zone with the largest chosen rotor [m].
+
+    The hub at the zone's top plus the largest rotor radius, rounded up to the settings' step,
+    at least the 0.5 m a position allows and at most 60 m.
+
+    Notes
+    -----
+    The main energy sectors depend on hub height (through the free stream), so the clearance
+    is found at a first mast (rotor radius + 1 m) and once more at the mast it gives.
+    """
+    r = ctx.rotor_radius_m
+    step = ctx.settings.mast_step_m
+    mast = np.full(len(rows), r + 1.0)
+    for _ in range(2):
+        eff = roof_centre_climate(rows, sur, mast, climate, air_density_kgm3, ctx.transfer)
+        need = eff.diagnostics["min_clear_mast_m"] + r
+        mast = np.clip(np.ceil(np.round(need / step, 9)) * step, 0.5, 60.0)
+    return np.round(mast, 6)
+
+
+def turbine_columns(turbines) -> list:
+    """Per-turbine result columns: ``aep_kwh_<id>``, ``capacity_factor_<id>`` for each."""
+    return [f"{name}_{t.id}" for t in turbines for name in ("aep_kwh", "capacity_factor")]
+
+
+def result_columns(turbines) -> list:
+    """All result columns, in order."""
+    return list(RESULT_COLUMNS) + ["suitability_code"] + turbine_columns(turbines)
+
+
+def _empty_result(ctx: ScreeningContext) -> pd.DataFrame:
+    cols = result_columns(ctx.turbines)
+    text = {"id", "zone", "suitability", "reasons", "best_turbine_id", "roof_type",
+            "surroundings_from"}
+    data = {}
+    for c in cols:
+        if c in text:
+            data[c] = pd.Series([], dtype=object)
+        elif c in ("rank", "line", "suitability_code"):
+            data[c] = pd.Series([], dtype=np.int64)
+        else:
+            data[c] = pd.Series([], dtype=float)
+    return pd.DataFrame(data)[cols]
+
+
+def suitability(best_cf, mast_m, hub_m, sur: dict, rows: pd.DataFrame, ctx: ScreeningContext):
+    """Suitability class code (index into :data:`CLASSES`) and reasons text per building.
+
+    Notes
+    -----
+    By the best turbine's net capacity factor against the settings' thresholds; a building is
+    unsuitable whatever its yield when the mast it needs is above the ranking's mast limit, or
+    when the hub would sit at or below the surroundings' displacement height.
+    """
+    st = ctx.settings
+    limit = ctx.ranking.max_mast_height_m
+    code = np.where(best_cf >= st.cf_promising_from, 0,
+                    np.where(best_cf >= st.cf_marginal_below, 1,
+                             np.where(best_cf >= st.cf_unsuitable_below, 2, 3)))
+    mast_over = mast_m > limit + 1e-9
+    hub_low = hub_m <= sur["displacement_m"] + sur["roughness_m"]
+    code = np.where(mast_over | hub_low, 3, code)
+    pct = lambda v: f"{v * 100:g} %"  # noqa: E731 - a label, formatted once per run
+    by_cf = np.array([
+        f"capacity factor {pct(st.cf_promising_from)} or more: rare for roof mounts in field "
+        "trials; measure on the roof before relying on it",
+        f"capacity factor {pct(st.cf_marginal_below)} to {pct(st.cf_promising_from)}: worth a "
+        "visit and a measurement",
+        f"capacity factor {pct(st.cf_unsuitable_below)} to {pct(st.cf_marginal_below)}: typical "
+        "of building-mounted turbines in field trials",
+        f"capacity factor below {pct(st.cf_unsuitable_below)}: less than the best urban roof "
+        "mounts in field trials"], dtype=object)
+    cf_code = np.where(best_cf >= st.cf_promising_from, 0,
+                       np.where(best_cf >= st.cf_marginal_below, 1,
+                                np.where(best_cf >= st.cf_unsuitable_below, 2, 3)))
+    text = by_cf[cf_code]
+    extra = [
+        (mast_over, f"needs a mast above the {limit:g} m limit to clear the roof's "
+                    "turbulence zone"),
+        (hub_low, "rotor at or below the displacement height of the surroundings"),
+        (sur["plan_area_fraction"] > st.dense_plan_fraction,
+         "dense surroundings slow the wind"),
+        (rows["height_m"].to_numpy(float) >= st.tall_ratio * sur["surroundings_height_m"],
+         "stands above its neighbours"),
+        (rows["roof_type"].to_numpy(object) == "pitched",
+         "pitched roof: the flow over it depends strongly on direction"),
+    ]
+    for mask, words in extra:
+        text = np.where(mask, text + ("; " + words), text)
+    return code.astype(np.int64), text
+
+
+def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
+                rejected_lines=()) -> pd.DataFrame:
+    """Screen the good rows of one checked part: one result row per building (unranked).
+
+    Per zone (its climate) and per chunk of ``ctx.settings.chunk_rows`` buildings: the
+    surroundings (:func:`surroundings`), the mast (:func:`choose_mast_m`), the effective climate
+    at the roof's centre (:func:`roof_centre_climate`), the yield of every turbine
+    (:func:`engine.energy.yield_arrays`, as in the detailed assessment's energy table) and the
+    class (:func:`suitability`). ``rank`` is 0 until :func:`rank_results`.
+    """
+    from . import energy
+    from .weibull import mixture_mean_ms
+
+    rows = good_rows(checked, rejected_lines)
+    if len(rows) == 0:
+        return _empty_result(ctx)
+    rows = rows.reset_index(drop=True)
+    n, T = len(rows), len(ctx.turbines)
+    sur = surroundings(rows, nb, ctx.transfer.morphometry_layout)
+    rho = air.site_air_density_kgm3(ctx.site)
+    zone = rows["zone"].to_numpy(object)
+    zkey = np.where(np.isin(zone, [z for z in ctx.climates if z]), zone, "")
+    need = np.empty(n)
+    mast = np.empty(n)
+    hub = np.empty(n)
+    mean_ms = np.empty(n)
+    ti_mean = np.empty(n)
+    net_kwh = np.empty((n, T))
+    cf = np.empty((n, T))
+    step = int(ctx.settings.chunk_rows)
+    for zk in sorted(set(zkey)):
+        clim = ctx.climates[zk]
+        idx_zone = np.flatnonzero(zkey == zk)
+        for a in range(0, len(idx_zone), step):
+            sel = idx_zone[a:a + step]
+            r = rows.iloc[sel]
+            s = {k: v[sel] for k, v in sur.items()}
+            mast[sel] = choose_mast_m(r, s, clim, rho, ctx)
+            eff = roof_centre_climate(r, s, mast[sel], clim, rho, ctx.transfer)
+            need[sel] = eff.diagnostics["min_clear_mast_m"]
+            y = energy.yield_arrays(eff.frequency, eff.weibull_k, eff.weibull_c_ms,
+                                    eff.turbulence_intensity, eff.inflow_skew_deg,
+                                    ctx.turbines, rho, ctx.losses)
+            hub[sel] = eff.hub_height_m
+            mean_ms[sel] = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.weibull_c_ms)
+            ti_mean[sel] = np.sum(eff.frequency * eff.turbulence_intensity, axis=-1)
+            net_kwh[sel] = y.net_wh / 1000.0
+            cf[sel] = y.capacity_factor
+    best = np.argmax(net_kwh, axis=1)
+    take = np.arange(n)
+    best_aep, best_cf = net_kwh[take, best], cf[take, best]
+    code, reasons = suitability(best_cf, mast, hub, sur, rows, ctx)
+    out = {
+        "rank": np.zeros(n, np.int64), "id": rows["id"].to_numpy(object),
+        "line": rows["line"].to_numpy(np.int64), "zone": zone,
+        "suitability": np.asarray(CLASSES, dtype=object)[code], "reasons": reasons,
+        "best_turbine_id": np.asarray([t.id for t in ctx.turbines], dtype=object)[best],
+        "best_aep_kwh": best_aep, "best_capacity_factor": best_cf,
+        "x_m": rows["x_m"].to_numpy(float), "y_m": rows["y_m"].to_numpy(float),
+        "length_m": rows["length_m"].to_numpy(float), "width_m": rows["width_m"].to_numpy(float),
+        "height_m": rows["height_m"].to_numpy(float),
+        "orientation_deg": rows["orientation_deg"].to_numpy(float),
+        "roof_type": rows["roof_type"].to_numpy(object),
+        "roof_pitch_deg": rows["roof_pitch_deg"].to_numpy(float),
+        "parapet_height_m": rows["parapet_height_m"].to_numpy(float),
+        "plan_area_fraction": sur["plan_area_fraction"],
+        "frontal_area_fraction": sur["frontal_area_fraction"],
+        "surroundings_height_m": sur["surroundings_height_m"],
+        "roughness_m": sur["roughness_m"], "displacement_m": sur["displacement_m"],
+        "surroundings_from": sur["surroundings_from"], "min_clear_mast_m": need,
+        "mast_height_m": mast, "hub_height_m": hub, "mean_speed_ms": mean_ms,
+        "turbulence_intensity": ti_mean, "suitability_code": code,
+    }
+    for j, t in enumerate(ctx.turbines):
+        out[f"aep_kwh_{t.id}"] = net_kwh[:, j]
+        out[f"capacity_factor_{t.id}"] = cf[:, j]
+    return pd.DataFrame(out)[result_columns(ctx.turbines)]
+
+
+def rank_results(table: pd.DataFrame) -> pd.DataFrame:
+    """Rank buildings: best class first, then larger best net AEP, then id; ``rank`` from 1."""
+    out = table.sort_values(["suitability_code", "best_aep_kwh", "id"],
+                            ascending=[True, False, True], kind="mergesort").reset_index(drop=True)
+    out["rank"] = np.arange(1, len(out) + 1, dtype=np.int64)
+    return out
+
+
+# ----------------------------------------------------------------------------------------------
+# Engines
+# ----------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class ScreeningResult:
+    """A ranked table (one row per screened building) and the rows that were not screened."""
+
+    table: pd.DataFrame
+    problems: list  # (where, message) items: bad rows by line and id, with the fix
+    n_rows: int     # rows read
+    bad_rows: pd.DataFrame  # line, id, problem of every row left out
+
+    @property
+    def n_screened(self) -> int:
+        return len(self.table)
+
+
+def _check_header(parts):
+    cols = parts[0].header if parts and parts[0].kind == "csv" else None
+    if parts and parts[0].kind == "frame":
+        cols = tuple(parts[0].source.columns)
+    if parts and parts[0].kind == "parquet":
+        import pyarrow.parquet as pq
+        cols = tuple(pq.ParquetFile(parts[0].source).schema_arrow.names)
+    probs = header_problems(cols or ())
+    if probs:
+        raise InputError(probs)
+
+
+def _bad_rows(checked_list, dups: pd.DataFrame) -> pd.DataFrame:
+    bad = [c.loc[c["problem"] != "", ["line", "id", "problem"]] for c in checked_list]
+    bad.append(dups[["line", "id", "problem"]])
+    bad = [b for b in bad if len(b)]
+    if not bad:
+        return pd.DataFrame({"line": np.array([], np.int64), "id": pd.Series([], dtype=object),
+                             "problem": pd.Series([], dtype=object)})
+    return pd.concat(bad, ignore_index=True).sort_values("line", kind="mergesort").reset_index(
+        drop=True)
+
+
+def finish_table(table: pd.DataFrame, turbines) -> pd.DataFrame:
+    """Fixed column order and dtypes (text as object), so every engine returns the same table."""
+    table = table[result_columns(turbines)].reset_index(drop=True)
+    for c in table.columns:
+        if not pd.api.types.is_numeric_dtype(table[c].dtype) and table[c].dtype != object:
+            table[c] = table[c].astype(object)
+    return table
+
+
+def screen_local(source, ctx: ScreeningContext, progress=None, part_bytes: int = PART_BYTES,
+                 part_rows: int = PART_ROWS) -> ScreeningResult:
+    """Screen a buildings table with pandas/numpy in this process.
+
+    Parameters
+    ----------
+    source : path of a CSV or Parquet table, or a DataFrame
+    ctx : the climate(s), turbines and settings
+    progress : optional callable(fraction done 0..1, text)
+
+    Raises
+    ------
+    InputError
+        The table cannot be read, or its columns are unusable (bad rows do not raise).
+    """
+    def tell(f, text):
+        if progress is not None:
+            progress(float(f), text)
+
+    parts = table_parts(source, part_bytes, part_rows)
+    _check_header(parts)
+    zones = ctx.zones()
+    checked = []
+    for i, p in enumerate(parts):
+        checked.append(check_part(read_part(p), zones))
+        tell(0.2 * (i + 1) / len(parts), f"read and checked part {i + 1} of {len(parts)}")
+    origin = origin_from_bounds([part_bounds(c) for c in checked])
+    if origin is not None:
+        ctx = replace(ctx, origin_deg=origin)
+        checked = [with_plan_positions(c, origin) for c in checked]
+    all_ids = pd.concat([c["id"] for c in checked], ignore_index=True)
+    all_lines = pd.concat([c["line"] for c in checked], ignore_index=True)
+    good = pd.concat([c["problem"] == "" for c in checked], ignore_index=True).to_numpy()
+    dups = duplicate_problems(all_ids[good], all_lines[good])
+    rejected = dups["line"].to_numpy(np.int64)
+    nb = neighbourhood_lookup(combine_cell_sums([part_cells(c, rejected) for c in checked]))
+    tell(0.3, "surroundings summed")
+    results = []
+    for i, c in enumerate(checked):
+        results.append(screen_part(c, ctx, nb, rejected))
+        tell(0.3 + 0.7 * (i + 1) / len(checked), f"screened part {i + 1} of {len(checked)}")
+    table = rank_results(pd.concat(results, ignore_index=True)) if results else _empty_result(ctx)
+    bad = _bad_rows(checked, dups)
+    word = "row" if parts and parts[0].kind == "parquet" else "line"
+    return ScreeningResult(table=finish_table(table, ctx.turbines),
+                           problems=row_problems(bad, word), n_rows=int(len(all_ids)),
+                           bad_rows=bad)
+
+
+def _read_check(part: Part, zones=None, origin=None) -> pd.DataFrame:
+    """One Dask partition: read a part, check its rows, place latitude/longitude on the plan."""
+    checked = check_part(read_part(part), zones)
+    return with_plan_positions(checked, origin) if origin is not None else checked
+
+
+def _summary(checked: pd.DataFrame) -> dict:
+    """Small facts of one checked part: its size, bad rows, lat/lon bounds, id hashes by line."""
+    ok = (checked["problem"] == "").to_numpy()
+    good = checked[ok]
+    return {"n": len(checked), "bounds": part_bounds(checked),
+            "bad": checked.loc[~ok, ["line", "id", "problem"]],
+            "hash": pd.util.hash_array(good["id"].to_numpy(object)),
+            "line": good["line"].to_numpy(np.int64)}
+
+
+def _cells_and_ids(checked: pd.DataFrame, rejected_lines) -> tuple:
+    """Cell sums of a part's good rows, and (id, line) of its rows among ``rejected_lines``."""
+    hit = np.isin(checked["line"].to_numpy(), rejected_lines)
+    return part_cells(checked, rejected_lines), checked.loc[hit, ["id", "line"]]
+
+
+def _safe_frame(table: pd.DataFrame) -> pd.DataFrame:
+    from .exports import neutralise_cell
+    out = table.copy()
+    for c in ("id", "zone", "reasons", "best_turbine_id", "surroundings_from"):
+        out[c] = [neutralise_cell(v) for v in out[c]]
+    return out
+
+
+def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BYTES,
+                part_rows: int = PART_ROWS, out_csv=None) -> ScreeningResult:
+    """Screen a buildings table as Dask partitions on ``client``'s cluster.
+
+    The partitions run the same functions as :func:`screen_local` (:func:`check_part`,
+    :func:`part_cells`, :func:`screen_part`); the neighbourhood sums are whole numbers, so the
+    table is identical. Only small facts come back to this process before the screening pass:
+    bad rows, 64-bit hashes of the ids (to find duplicates) and the cell sums.
+
+    Parameters
+    ----------
+    client : a ``distributed.Client`` (its cluster does the work)
+    out_csv : when given, the workers sort and write the ranked table there, and ``table`` of
+        the result holds only its first 1000 rows: for tables larger than this process's memory
+    """
+    import dask
+    import dask.dataframe as dd
+
+    parts = table_parts(source, part_bytes, part_rows)
+    _check_header(parts)
+    zones = ctx.zones()
+    with dask.config.set({"dataframe.convert-string": False}):
+        meta = check_part(read_part(parts[0]).iloc[:0], zones)
+        checked = dd.from_map(_read_check, parts, zones=zones, meta=meta, enforce_metadata=False)
+        if out_csv is None:
+            checked = client.persist(checked)
+        facts = dask.compute(*[dask.delayed(_summary)(d) for d in checked.to_delayed()])
+        origin = origin_from_bounds([f["bounds"] for f in facts])
+        if origin is not None:
+            ctx = replace(ctx, origin_deg=origin)
+            checked = dd.from_map(_read_check, parts, zones=zones, origin=origin, meta=meta,
+                                  enforce_metadata=False)
+            if out_csv is None:
+                checked = client.persist(checked)
+            facts = dask.compute(*[dask.delayed(_summary)(d) for d in checked.to_delayed()])
+        hashes = np.concatenate([f["hash"] for f in facts] or [np.zeros(0, np.uint64)])
+        lines = np.concatenate([f["line"] for f in facts] or [np.zeros(0, np.int64)])
+        uniq, inverse, counts = np.unique(hashes, return_inverse=True, return_counts=True)
+        rejected = np.sort(lines[counts[inverse] > 1])
+        got = dask.compute(*[dask.delayed(_cells_and_ids)(d, rejected)
+                             for d in checked.to_delayed()])
+        nb = neighbourhood_lookup(combine_cell_sums([g[0] for g in got]))
+        dup_rows = pd.concat([g[1] for g in got], ignore_index=True)
+        dups = duplicate_problems(dup_rows["id"], dup_rows["line"])
+        bad = _bad_rows([f["bad"] for f in facts], dups)
+        n_rows = int(sum(f["n"] for f in facts))
+        empty = _empty_result(ctx)
+        results = checked.map_partitions(screen_part, ctx, nb, rejected, meta=empty)
+        word = "row" if parts[0].kind == "parquet" else "line"
+        if out_csv is None:
+            table = rank_results(results.compute())
+        else:
+            ranked = results.sort_values(["suitability_code", "best_aep_kwh", "id"],
+                                         ascending=[True, False, True])
+            ranked = client.persist(ranked)
+            lengths = ranked.map_partitions(len).compute().to_numpy()
+            starts = np.concatenate([[1], 1 + np.cumsum(lengths)[:-1]]).astype(np.int64)
+            starts_s = pd.Series(starts)
+
+            def _ranks(df, partition_info=None):
+                df = df.copy()
+                s0 = int(starts_s.iloc[partition_info["number"]]) if partition_info else 1
+                df["rank"] = np.arange(s0, s0 + len(df), dtype=np.int64)
+                return df
+
+            ranked = ranked.map_partitions(_ranks, meta=empty)
+            ranked.map_partitions(_safe_frame, meta=empty).to_csv(
+                str(out_csv), single_file=True, index=False, lineterminator="\n")
+            table = ranked.head(1000, npartitions=-1)
+    return ScreeningResult(table=finish_table(table, ctx.turbines),
+                           problems=row_problems(bad, word), n_rows=n_rows, bad_rows=bad)
+
+
+def write_ranked_csv(table: pd.DataFrame, path) -> Path:
+    """Write a ranked table as CSV, atomically; formula-like text cells are defused
+    (:func:`engine.exports.safe_csv`)."""
+    from .exports import safe_csv
+
+    path = Path(path)
+    tmp = path.with_name(f".{path.name}.tmp")
+    tmp.write_text(safe_csv(table), encoding="utf-8")
+    os.replace(tmp, path)
+    return path
+
+
+# ----------------------------------------------------------------------------------------------
+# One building in detail
+# ----------------------------------------------------------------------------------------------
+
+#: ``st.session_state`` key under which the screening page leaves an Assessment for the
+#: detailed pages (documented in docs/screening.md).
+SESSION_KEY = "screening_assessment"
+
+
+def assessment_for_building(row, ctx: ScreeningContext) -> model.Assessment:
+    """The detailed assessment of one screened building: that building, one roof position.
+
+    Parameters
+    ----------
+    row : one row of a screening table (a mapping or a pandas Series)
+    ctx : the context it was screened with
+
+    Returns
+    -------
+    :class:`engine.model.Assessment` whose :func:`engine.pipeline.evaluate` gives the
+    screening's numbers for that building: the surroundings' roughness and displacement (and
+    the area fractions they came from) as the site's, the building alone, a roof position at its
+    centre on the screening's mast, the same climate, turbines, losses and settings.
+    """
+    from_fractions = str(row["surroundings_from"]) in ("neighbours in the table",
+                                                       "table: area fractions")
+    site = replace(
+        ctx.site, name=f"{ctx.site.name}: building {row['id']}"[:200],
+        terrain_roughness_m=float(row["roughness_m"]), displacement_m=float(row["displacement_m"]),
+        plan_area_fraction=float(row["plan_area_fraction"]) if from_fractions else None,
+        frontal_area_fraction=float(row["frontal_area_fraction"]) if from_fractions else None,
+        mean_building_height_m=float(row["surroundings_height_m"]) if from_fractions else None)
+    transfer = ctx.transfer if from_fractions else replace(ctx.transfer, use_morphometry=False)
+    zone = str(row["zone"]) if str(row["zone"]) in ctx.climates else ""
+    b = model.Building(id=str(row["id"]), x_m=float(row["x_m"]), y_m=float(row["y_m"]),
+                       length_m=float(row["length_m"]), width_m=float(row["width_m"]),
+                       height_m=float(row["height_m"]),
+                       orientation_deg=float(row["orientation_deg"]),
+                       roof_type=str(row["roof_type"]),
+                       roof_pitch_deg=float(row["roof_pitch_deg"]),
+                       parapet_height_m=float(row["parapet_height_m"]))
+    pos = model.Position(id=f"{b.id}-roof-centre", kind="roof", x_m=b.x_m, y_m=b.y_m,
+                         mast_height_m=float(row["mast_height_m"]), building_id=b.id,
+                         note="roof centre, mast chosen by the screening")
+    return model.Assessment(site=site, climate=ctx.climates[zone], buildings=(b,),
+                            positions=(pos,), turbines=ctx.turbines, losses=ctx.losses,
+                            ranking=ctx.ranking, transfer=transfer)
