@@ -805,6 +805,10 @@ def _html_block(b, attachments) -> str:
     if isinstance(b, FigureBlock):
         from .report_charts import figure_svg
         f = b.figure
+        if f.spec is None:
+            return (f'<figure id="figure-{_e(f.key)}" class="missing"><h3>{_e(f.title)}</h3>'
+                    f'<p class="caution">This chart could not be drawn: {_e(f.problem)}</p>'
+                    "</figure>")
         return (f'<figure id="figure-{_e(f.key)}"><h3>{_e(f.title)}</h3>\n{figure_svg(f)}\n'
                 f"<figcaption>{_e(f.caption)}</figcaption></figure>")
     raise TypeError(f"unknown block {type(b).__name__}")
@@ -1022,6 +1026,11 @@ class _Pdf:
         from .report_charts import PNG_SCALE, figure_png
 
         pdf = self.pdf
+        if f.spec is None:
+            self.font(10, bold=True)
+            pdf.cell(0, 6, self.t(f.title), new_x="LMARGIN", new_y="NEXT")
+            self.para(f"This chart could not be drawn: {f.problem}", "caution")
+            return
         png = figure_png(f)
         from PIL import Image
         with Image.open(io.BytesIO(png)) as im:

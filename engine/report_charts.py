@@ -11,9 +11,11 @@ import json
 import re
 from dataclasses import dataclass
 
+import numpy as np
 import vl_convert as vlc
 
 from . import charts
+from .errors import InputError
 
 #: PNG scale for the PDF (2 = twice the CSS pixel size, sharp in print).
 PNG_SCALE = 2
@@ -28,11 +30,10 @@ class Figure:
     key: str
     title: str
     caption: str
-    spec: dict
+    spec: dict | None = None
 
-    def spec_json(self) -> str:
-        """The spec as canonical JSON text (sorted keys), the same bytes on every run."""
-        return json.dumps(self.spec, sort_keys=True, ensure_ascii=False)
+    #: Why the chart could not be drawn (empty when ``spec`` holds it).
+    problem: str = ""
 
 
 def _spec(chart) -> dict:
@@ -40,82 +41,109 @@ def _spec(chart) -> dict:
     return json.loads(json.dumps(chart.to_dict(), default=float))
 
 
-def roof_zone_bands(evaluation, position_id: str) -> list:
-    """Roof-zone bands above a position's roof as ``{"name", "bottom_m", "top_m"}`` [m].
+def _figure(key, title, caption, build) -> Figure:
+    """A figure from ``build()``; when the input cannot be drawn, a figure carrying the reason."""
+    try:
+        return Figure(key, title, caption, _spec(build()))
+    except InputError as e:
+        return Figure(key, title, caption, None,
+                      "; ".join(f"{w}: {m}" for w, m in e.problems[:3])
+                      + (f" (and {len(e.problems) - 3} more)" if len(e.problems) > 3 else ""))
 
-    Read from the building models' per-position diagnostics of the effective climate, so
-    the bands drawn are the ones the ranking used: every pair of diagnostics named
-    ``<zone>_bottom_m`` / ``<zone>_top_m`` (heights above ground) becomes a band, and
-    ``<zone>_top_m`` alone a band starting at the roof.
+
+#: Roof zones of the building model, by the name of their clearance diagnostic.
+ZONE_NAMES = {"recirculation": "recirculation zone", "turbulence": "high-turbulence zone",
+              "wake": "roof wake"}
+
+
+def roof_zone_bands(evaluation, position_id: str) -> list:
+    """Roof-zone bands over a position's roof as ``{"name", "bottom_m", "top_m"}`` [m above ground].
+
+    Read from the building models' diagnostics of the effective climate, so the bands drawn
+    are the ones the ranking used: ``clearance_<zone>_m`` (P, S) is the hub's height above
+    the zone's boundary in each sector, hence the boundary stands at hub height minus the
+    clearance. The band's top is the highest boundary over the sectors that carry the main
+    share of the energy (``main_sector``; all sectors when absent); its bottom is the roof.
+    Positions off roofs, or a building model without these diagnostics, give no bands.
     """
     eff = evaluation.climate
     a = evaluation.assessment
     i = list(eff.position_ids).index(position_id)
     pos = a.positions[i]
+    if pos.kind != "roof":
+        return []
     base = a.base_height_m(pos)
+    hub = float(eff.hub_height_m[i])
+    S = eff.frequency.shape[1]
+    main = np.asarray(eff.diagnostics.get("main_sector", np.ones_like(eff.frequency, bool)))
+    use = main[i].astype(bool) if main.shape == eff.frequency.shape else np.ones(S, bool)
     bands = []
-    for name in sorted(eff.diagnostics):
-        if not name.endswith("_top_m"):
+    for zone, label in ZONE_NAMES.items():
+        clear = eff.diagnostics.get(f"clearance_{zone}_m")
+        if clear is None or np.shape(clear) != eff.frequency.shape:
             continue
-        zone = name[: -len("_top_m")]
-        top = eff.diagnostics[name]
-        bottom = eff.diagnostics.get(f"{zone}_bottom_m")
-        try:
-            top_v = float(top[i])
-            bottom_v = float(bottom[i]) if bottom is not None else base
-        except (TypeError, IndexError, ValueError):
+        c = np.asarray(clear, float)[i][use]
+        c = c[np.isfinite(c)]
+        if c.size == 0:
             continue
-        if top_v > bottom_v:
-            bands.append({"name": zone.replace("_", " "), "bottom_m": bottom_v, "top_m": top_v})
+        top = hub - float(c.min())
+        if top > base:
+            bands.append({"name": label, "bottom_m": base, "top_m": top})
     return bands
 
 
 def summary_figures(evaluation, position_id: str | None, turbine_id: str | None) -> list:
     """The summary's charts: plan, wind roses, profile at the recommended position, yields."""
     a = evaluation.assessment
-    figs = [Figure(
+    figs = [_figure(
         "plan", "Site plan",
         "Buildings (labelled with height) and candidate positions coloured by their best rank; "
         "grey positions are excluded. The wedge shows the most frequent wind sector.",
-        _spec(charts.plan_view(evaluation, selected=position_id)))]
-    figs.append(Figure(
+        lambda: charts.plan_view(evaluation, selected=position_id))]
+    figs.append(_figure(
         "wind-rose", "Wind rose of the reference climate",
         f"Share of the time (left) and of the wind's energy (right) from each of the "
         f"{a.climate.n_sectors} sectors, at the climate's own height of "
         f"{a.climate.height_m:g} m.",
-        _spec(charts.wind_rose(a.climate, evaluation.climate.air_density_kgm3))))
+        lambda: charts.wind_rose(a.climate, evaluation.climate.air_density_kgm3)))
     if position_id is not None and turbine_id is not None:
         zones = roof_zone_bands(evaluation, position_id)
         zone_text = ("Shaded bands: the rotor disc and the roof zones from the building model."
                      if zones else "Shaded band: the rotor disc. The building model reported "
                                    "no roof-zone heights for this position.")
-        figs.append(Figure(
+        figs.append(_figure(
             "profile", f"Vertical profile at {position_id}",
             "Mean undisturbed wind speed against height (the transfer the ranking starts "
             f"from, before building effects), with the roof level and hub height. {zone_text}",
-            _spec(charts.vertical_profile(evaluation, position_id, turbine_id, zones=zones))))
+            lambda: charts.vertical_profile(evaluation, position_id, turbine_id, zones=zones)))
     n = min(len(evaluation.table), 30)
-    figs.append(Figure(
+    figs.append(_figure(
         "yield", "Yield by position and turbine",
         f"Net energy per year of the {n} best-ranked position and turbine combinations.",
-        _spec(charts.ranking_bars(evaluation.table, top=n))))
+        lambda: charts.ranking_bars(evaluation.table, top=n)))
     return figs
 
 
-def _prefix_ids(svg: str, prefix: str) -> str:
-    ids = set(_ID_ATTR.findall(svg))
+def _renumber_ids(svg: str, prefix: str) -> str:
+    """Rename every element id to ``<prefix>-<n>`` in order of appearance, and its references.
+
+    Ids must be unique across the charts of one page, and vl-convert numbers gradients with a
+    counter that runs on between calls; renumbering makes both unique and repeatable.
+    """
+    ids = list(dict.fromkeys(_ID_ATTR.findall(svg)))
     if not ids:
         return svg
+    new = {old: f"{prefix}-{n}" for n, old in enumerate(ids)}
     pattern = re.compile(r'(\bid="|url\(#|href="#)(' + "|".join(
         re.escape(i) for i in sorted(ids, key=len, reverse=True)) + r')(?=["\)])')
-    return pattern.sub(lambda m: f"{m.group(1)}{prefix}-{m.group(2)}", svg)
+    return pattern.sub(lambda m: m.group(1) + new[m.group(2)], svg)
 
 
 def figure_svg(fig: Figure) -> str:
     """The figure as SVG text ready to inline in HTML (ids prefixed with the figure's key)."""
     svg = vlc.vegalite_to_svg(fig.spec)
     svg = re.sub(r"^<\?xml[^>]*>\s*", "", svg)
-    return _prefix_ids(svg, f"fig-{fig.key}")
+    return _renumber_ids(svg, f"fig-{fig.key}")
 
 
 def figure_png(fig: Figure, scale: float = PNG_SCALE) -> bytes:

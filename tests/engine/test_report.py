@@ -1,0 +1,390 @@
+"""Siting summary: content against the rank JSON, offline HTML, escaping, PDF, exports, CLI."""
+from __future__ import annotations
+
+import base64
+import dataclasses
+import hashlib
+import html
+import io
+import json
+import os
+import re
+import shutil
+import subprocess
+from contextlib import redirect_stdout
+from html.parser import HTMLParser
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy.special import gamma
+
+from engine import __version__, cli, pipeline, report, sitefile
+from engine.energy import HOURS_PER_YEAR
+
+ROOT = Path(__file__).resolve().parents[2]
+DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
+ARTIFACTS = ROOT / "test-artifacts"
+STAMP = "2026-03-04T05:06:07Z"
+STAMP_TEXT = "2026-03-04 05:06:07 UTC"
+
+
+class _Doc(HTMLParser):
+    """Collects tags with their attributes, table cells by table id, and all text."""
+
+    def __init__(self):
+        super().__init__(convert_charrefs=True)
+        self.tags, self.tables, self.text = [], {}, []
+        self._table, self._row, self._cell = None, None, None
+
+    def handle_starttag(self, tag, attrs):
+        attrs = dict(attrs)
+        self.tags.append((tag, attrs))
+        if tag == "table":
+            self._table = attrs.get("id")
+            self.tables[self._table] = []
+        elif tag == "tr" and self._table:
+            self._row = []
+        elif tag in ("td", "th") and self._row is not None:
+            self._cell = []
+
+    def handle_endtag(self, tag):
+        if tag in ("td", "th") and self._cell is not None:
+            self._row.append("".join(self._cell))
+            self._cell = None
+        elif tag == "tr" and self._row is not None:
+            self.tables[self._table].append(self._row)
+            self._row = None
+        elif tag == "table":
+            self._table = None
+
+    def handle_data(self, data):
+        self.text.append(data)
+        if self._cell is not None:
+            self._cell.append(data)
+
+
+def _parse(text: str) -> _Doc:
+    d = _Doc()
+    d.feed(text)
+    d.close()
+    return d
+
+
+def _cli_stdout(argv) -> str:
+    buf = io.StringIO()
+    with redirect_stdout(buf):
+        assert cli.main(argv) == 0
+    return buf.getvalue()
+
+
+def _pdf_text(pdf: bytes, tmp_path) -> str:
+    exe = shutil.which("pdftotext")
+    if exe is None:
+        pytest.skip("pdftotext (poppler-utils) is not installed")
+    f = tmp_path / "s.pdf"
+    f.write_bytes(pdf)
+    return subprocess.run([exe, "-layout", str(f), "-"], check=True, capture_output=True,
+                          text=True).stdout
+
+
+@pytest.fixture(scope="module")
+def demo():
+    """The demo site evaluated, its summary, HTML and PDF (fixed time stamp)."""
+    ev = pipeline.evaluate(sitefile.load(DEMO))
+    s = report.build_summary(ev, assessor="R. Quill", notes="Checked on a calm day.",
+                             generated_at=STAMP)
+    return {"ev": ev, "summary": s, "html": report.render_html(s), "pdf": report.render_pdf(s)}
+
+
+@pytest.fixture(scope="module")
+def rank_json_text():
+    """What ``python -m engine rank --format json`` prints for the demo site."""
+    return _cli_stdout(["rank", str(DEMO), "--format", "json"])
+
+
+def test_every_section_present(demo, tmp_path):
+    """The summary has every section, in order, in the content, the HTML and the PDF."""
+    s = demo["summary"]
+    assert tuple(x.key for x in s.sections) == report.SECTION_KEYS
+    doc = _parse(demo["html"])
+    ids = [a.get("id") for t, a in doc.tags if t == "section"]
+    assert ids == list(report.SECTION_KEYS)
+    for key in ("plan", "wind-rose", "profile", "yield"):  # the four charts of the issue
+        figs = [a for t, a in doc.tags if t == "figure" and a.get("id") == f"figure-{key}"]
+        assert len(figs) == 1 and "missing" not in figs[0].get("class", ""), key
+    text = _pdf_text(demo["pdf"], tmp_path)
+    flat = " ".join(text.split())
+    for n, sec in enumerate(s.sections, 1):
+        assert f"{n}. {sec.title}" in flat
+    for needle in ("R. Quill", STAMP_TEXT, "Checked on a calm day.", s.site_sha256[:16]):
+        assert needle in flat and needle in demo["html"]
+
+
+def test_ranking_numbers_match_rank_json(demo, rank_json_text):
+    """Every ranked row shown equals the rank command's JSON, formatted as documented."""
+    truth = json.loads(rank_json_text)["positions"]  # the rank command is the outside truth
+    doc = _parse(demo["html"])
+    rows = doc.tables["table-ranking"]
+    header, body = rows[0], rows[1:]
+    assert len(body) == len(truth)
+    t = demo["summary"].table("ranking")
+    assert list(t.columns) == header
+    cols = {report.column_header(c): c for c in report.COLUMN_FORMATS}
+    for shown, want in zip(body, truth):
+        for head, cell in zip(header, shown):
+            col = cols[head]
+            assert cell == report.format_cell(col, want.get(col)), (head, want["rank"])
+        # Physics bounds on what is printed: rated power caps the yield (8760 h x rated).
+        assert 0.0 <= want["capacity_factor"] <= 1.0
+        assert want["aep_kwh"] <= HOURS_PER_YEAR * want["rated_power_kw"] + 1e-9
+    first = next(r for r in truth if not r["excluded"])
+    rec = " ".join(b.text for b in demo["summary"].section("recommendation").blocks
+                   if isinstance(b, report.Paragraph))
+    assert f"{first['turbine_id']} at {first['position_id']} (rank {first['rank']})" in rec
+    assert f"{first['aep_kwh']:.0f} kWh" in rec
+
+
+def test_cell_formats_round_half_even_free():
+    """Formats print the value rounded to the stated decimals (Python's format, common practice)."""
+    assert report.format_cell("aep_kwh", 5685.84) == "5686"
+    assert report.format_cell("capacity_factor", 0.12981) == "13.0 %"
+    assert report.format_cell("mean_speed_ms", 4.6146) == "4.61"
+    assert report.format_cell("p90_aep_kwh", float("nan")) == report.DASH
+    assert report.format_cell("p90_aep_kwh", None) == report.DASH
+
+
+def test_embedded_data_files_match_exports(demo, rank_json_text):
+    """The HTML's data links carry the rank JSON as the CLI prints it and the exact site file."""
+    doc = _parse(demo["html"])
+    links = {a["download"]: a["href"] for t, a in doc.tags if t == "a" and "download" in a}
+    files = {n: base64.b64decode(h.split(",", 1)[1]) for n, h in links.items()}
+    rank = next(v for n, v in files.items() if n.endswith(".rank.json"))
+    assert rank.decode("utf-8") == rank_json_text
+    site = next(v for n, v in files.items() if n.endswith(".site.json"))
+    # SHA-256 by hashlib, independent of the summary's own hashing.
+    assert hashlib.sha256(site).hexdigest() == demo["summary"].site_sha256
+    assert sitefile.loads(site) == demo["ev"].assessment
+    csv = pd.read_csv(io.BytesIO(next(v for n, v in files.items()
+                                      if n.endswith(".ranking.csv"))))
+    truth = json.loads(rank_json_text)["positions"]
+    assert list(csv["position_id"]) == [r["position_id"] for r in truth]
+    np.testing.assert_allclose(csv["aep_kwh"], [r["aep_kwh"] for r in truth], rtol=1e-12)
+
+
+@pytest.mark.slow
+def test_second_run_identical_but_for_timestamp(demo):
+    """Same site file and stamp give the same bytes; another stamp changes only the stamp."""
+    ev = demo["ev"]
+    again = report.build_summary(ev, assessor="R. Quill", notes="Checked on a calm day.",
+                                 generated_at=STAMP)
+    assert report.render_html(again) == demo["html"]
+    assert report.render_pdf(again) == demo["pdf"]
+    later = report.build_summary(ev, assessor="R. Quill", notes="Checked on a calm day.",
+                                 generated_at="2027-11-12T13:14:15+00:00")
+    other = report.render_html(later)
+    assert other != demo["html"]
+    assert other.replace("2027-11-12 13:14:15 UTC", STAMP_TEXT).replace(
+        "2027-11-12T13:14:15Z", "2026-03-04T05:06:07Z") == demo["html"]
+
+
+def test_html_references_no_external_url(demo):
+    """Every src/href is a data: URI or an in-page anchor; nothing loads from anywhere."""
+    html_text = demo["html"]
+    doc = _parse(html_text)
+    refs = [(t, k, v) for t, a in doc.tags for k, v in a.items()
+            if k in ("src", "href", "xlink:href", "action", "poster", "srcset", "data")]
+    assert refs, "the summary should carry its data files as links"
+    for tag, key, value in refs:
+        assert value.startswith("data:") or value.startswith("#"), (tag, key, value[:60])
+    assert not [t for t, _ in doc.tags if t in ("script", "link", "iframe", "object", "embed",
+                                                "img", "base")]
+    assert "@import" not in html_text and not re.search(r"url\(\s*['\"]?(?!#)", html_text)
+    # The only http(s) text allowed is the SVG namespace names (identifiers, never fetched).
+    urls = set(re.findall(r"https?://[^\s\"'<>)]+", html_text))
+    assert urls <= {"http://www.w3.org/2000/svg", "http://www.w3.org/1999/xlink"}
+
+
+def test_svg_ids_unique_across_charts(demo):
+    """Inline SVG charts keep distinct element ids, so clip paths never point at another chart."""
+    ids = re.findall(r'\bid="([^"]+)"', demo["html"])
+    assert len(ids) == len(set(ids))
+    for ref in re.findall(r"url\(#([^)]+)\)", demo["html"]):
+        assert ref in ids
+
+
+def _hostile(ev):
+    a = ev.assessment
+    site = dataclasses.replace(a.site, name='<script>alert("x")</script> & Sons',
+                               notes="<img src=x onerror=alert(1)> notes")
+    pos = list(a.positions)
+    pos[0] = dataclasses.replace(pos[0], note="</td><script>bad()</script>")
+    return pipeline.evaluate(dataclasses.replace(a, site=site, positions=tuple(pos)))
+
+
+def test_markup_in_user_text_is_escaped(demo, tmp_path):
+    """Site name, notes and assessor with markup appear as text in HTML and PDF, never as tags."""
+    ev = _hostile(demo["ev"])
+    s = report.build_summary(ev, assessor="<b>Eve</b>", notes="<style>*{}</style>",
+                             generated_at=STAMP)
+    html_text = report.render_html(s)
+    doc = _parse(html_text)
+    tags = {t for t, _ in doc.tags}
+    assert not tags & {"script", "img", "b"}
+    assert [t for t, _ in doc.tags].count("style") == 1  # only the summary's own CSS
+    lower = html_text.lower()
+    assert "<script" not in lower and "<img" not in lower and "<b>eve" not in lower
+    text = "".join(doc.text)
+    for raw in ('<script>alert("x")</script> & Sons', "<img src=x onerror=alert(1)> notes",
+                "</td><script>bad()</script>", "<b>Eve</b>", "<style>*{}</style>"):
+        assert raw in text
+    pdf = report.render_pdf(s)
+    assert b"/JavaScript" not in pdf and b"/JS " not in pdf
+    flat = " ".join(_pdf_text(pdf, tmp_path).split())
+    assert '<script>alert("x")</script> & Sons' in flat
+    assert "<b>Eve</b>" in flat
+
+
+def test_pdf_opens_and_page_renders(demo):
+    """pdftoppm renders page 1 of the PDF to a PNG under test-artifacts/ (for a person to look at)."""
+    pdf = demo["pdf"]
+    assert pdf.startswith(b"%PDF-") and pdf.rstrip().endswith(b"%%EOF")
+    ARTIFACTS.mkdir(exist_ok=True)
+    (ARTIFACTS / "siting-summary.pdf").write_bytes(pdf)
+    (ARTIFACTS / "siting-summary.html").write_text(demo["html"], encoding="utf-8")
+    exe = shutil.which("pdftoppm")
+    if exe is None:
+        pytest.skip("pdftoppm (poppler-utils) is not installed; PDF written but not rendered")
+    out = ARTIFACTS / "siting-summary-page"
+    subprocess.run([exe, "-png", "-r", "80", "-f", "1", "-l", "1", "-singlefile",
+                    str(ARTIFACTS / "siting-summary.pdf"), str(out)], check=True, timeout=60)
+    from PIL import Image
+    with Image.open(f"{out}.png") as im:
+        assert im.size[0] > 500 and im.size[1] > 700  # A4 at 80 dpi is 661 x 935 px
+        assert np.unique(np.asarray(im.convert("L"))).size > 10  # something is drawn
+
+
+@pytest.mark.browser
+def test_html_screenshot_in_chromium(demo, tmp_path):
+    """Headless Chromium opens the HTML offline and writes a screenshot to test-artifacts/."""
+    exe = shutil.which("chromium") or ("/usr/bin/chromium" if os.path.exists("/usr/bin/chromium")
+                                       else None)
+    if exe is None:
+        if os.environ.get("PERCH_REQUIRE_BROWSER") == "1":
+            pytest.fail("PERCH_REQUIRE_BROWSER=1 but chromium is not installed")
+        pytest.skip("chromium is not installed")
+    page = tmp_path / "summary.html"
+    page.write_text(demo["html"], encoding="utf-8")
+    ARTIFACTS.mkdir(exist_ok=True)
+    shot = ARTIFACTS / "siting-summary-html.png"
+    if shot.exists():
+        shot.unlink()
+    subprocess.run([exe, "--headless", "--no-sandbox", "--disable-gpu",
+                    "--disable-background-networking", "--disable-component-update",
+                    "--no-first-run", f"--user-data-dir={tmp_path / 'profile'}",
+                    f"--screenshot={shot}", "--window-size=1100,2400", page.as_uri()],
+                   check=True, capture_output=True, timeout=120)
+    from PIL import Image
+    with Image.open(shot) as im:
+        assert im.size == (1100, 2400)
+        assert np.unique(np.asarray(im.convert("L"))).size > 10
+
+
+def test_pdf_without_unicode_font_uses_core_fonts(demo, tmp_path):
+    """With no TrueType font the PDF still builds, symbols spelt out in Latin-1."""
+    assert report.to_latin1("α ≤ 2 — ok, 3 m², 5 °C") == "alpha <= 2 - ok, 3 m², 5 °C"
+    pdf = report.render_pdf(demo["summary"], font=None)
+    assert pdf.startswith(b"%PDF-")
+    flat = " ".join(_pdf_text(pdf, tmp_path).split())
+    assert "1. The question" in flat and "R. Quill" in flat
+
+
+def test_cautions_in_both_formats(demo, tmp_path):
+    """The safety cautions (height, structure, masts, electrics, noise, planning, codes) are shown."""
+    words = ("Working at height", "structural engineer", "Mast loads", "licensed installer",
+             "neighbours", "Planning permission", "Local codes")
+    flat_pdf = " ".join(_pdf_text(demo["pdf"], tmp_path).split())
+    flat_html = " ".join("".join(_parse(demo["html"]).text).split())
+    for w in words:
+        assert w in flat_html and w in flat_pdf, w
+    # A short reminder comes before the first section, then the full list.
+    assert flat_html.index("Safety:") < flat_html.index("1. The question")
+
+
+def test_effective_climate_csv_against_weibull_mean(demo):
+    """Per-sector CSV: P x S rows, c = free c x factor, mean = c Γ(1 + 1/k) (scipy)."""
+    ev = demo["ev"]
+    df = pd.read_csv(io.BytesIO(report.effective_climate_csv(ev)))
+    P, S = ev.climate.frequency.shape
+    assert len(df) == P * S
+    assert list(df["position_id"].unique()) == list(ev.climate.position_ids)
+    np.testing.assert_allclose(df.groupby("position_id", sort=False)["frequency"].sum(), 1.0,
+                               atol=1e-9)
+    np.testing.assert_allclose(df["weibull_c_ms"], df["free_c_ms"] * df["speed_factor"],
+                               rtol=1e-12)
+    # Weibull mean c Γ(1 + 1/k) (Justus et al. 1978), gamma from scipy as the reference.
+    np.testing.assert_allclose(df["mean_speed_ms"],
+                               df["weibull_c_ms"] * gamma(1.0 + 1.0 / df["weibull_k"]),
+                               rtol=1e-12)
+    assert (df["mean_speed_ms"] >= 0).all() and (df["turbulence_intensity"] >= 0).all()
+
+
+@pytest.mark.slow
+def test_cli_report_writes_html_pdf_and_exports(demo, tmp_path):
+    """`report` writes the same HTML as the library, a PDF, and the four data files."""
+    html_out = tmp_path / "summary.html"
+    text = _cli_stdout(["report", str(DEMO), "--out", str(html_out), "--assessor", "R. Quill",
+                        "--notes", "Checked on a calm day.", "--generated-at", STAMP,
+                        "--exports", str(tmp_path / "data")])
+    assert "summary.html" in text
+    assert html_out.read_text(encoding="utf-8") == demo["html"]
+    names = sorted(p.name for p in (tmp_path / "data").iterdir())
+    assert [n.split(".", 1)[1] for n in names] == ["effective-climate.csv", "rank.json",
+                                                   "ranking.csv", "site.json"]
+    pdf_out = tmp_path / "summary.pdf"
+    _cli_stdout(["report", str(DEMO), "--out", str(pdf_out), "--assessor", "R. Quill",
+                 "--notes", "Checked on a calm day.", "--generated-at", STAMP])
+    assert pdf_out.read_bytes() == demo["pdf"]
+
+
+def test_cli_report_bad_arguments_exit_2(tmp_path, capsys):
+    """A wrong suffix and a bad time stamp are reported together with exit code 2."""
+    rc = cli.main(["report", str(DEMO), "--out", str(tmp_path / "s.docx"),
+                   "--generated-at", "yesterday"])
+    assert rc == 2
+    err = capsys.readouterr().err
+    assert "--out" in err and "--generated-at" in err
+    assert not (tmp_path / "s.docx").exists()
+
+
+def test_no_eligible_position_says_so(demo):
+    """When every combination is excluded, the summary recommends nothing and says why."""
+    a = demo["ev"].assessment
+    strict = dataclasses.replace(a, ranking=dataclasses.replace(a.ranking, max_mast_height_m=0.5))
+    ev = pipeline.evaluate(strict)
+    assert ev.table["excluded"].all()
+    s = report.build_summary(ev, generated_at=STAMP, with_charts=False)
+    text = " ".join(b.text for b in s.section("recommendation").blocks
+                    if isinstance(b, report.Paragraph))
+    assert "No position is recommended" in text
+    flags = "; ".join(ev.table["flags"].iloc[0])
+    assert html.escape(flags) in report.render_html(s)
+
+
+def test_reproducibility_block_lists_every_parameter(demo):
+    """Version, site-file hash and every site-file value are in the reproducibility section."""
+    s = demo["summary"]
+    rows = dict(s.table("reproduce").rows)
+    assert rows["Tool"] == f"perch {__version__}"
+    assert rows["Site file SHA-256"] == hashlib.sha256(DEMO.read_bytes()).hexdigest() \
+        or rows["Site file SHA-256"] == hashlib.sha256(
+            sitefile.dumps(demo["ev"].assessment).encode()).hexdigest()
+    params = dict(s.table("parameters").rows)
+    raw = json.loads(DEMO.read_text(encoding="utf-8"))
+    assert params["site.altitude_m"] == repr(float(raw["site"]["altitude_m"]))
+    assert params["turbines[0].rated_power_w"] == repr(float(raw["turbines"][0]["rated_power_w"]))
+    assert params["climate.weibull_k"].startswith("[" + repr(float(raw["climate"]["weibull_k"][0])))
+    n_leaves = sum(1 for _ in report._flatten(raw))
+    assert len(params) == len(report._flatten(sitefile.assessment_to_dict(demo["ev"].assessment)))
+    assert len(params) >= n_leaves
