@@ -18,7 +18,7 @@ import streamlit as st  # noqa: E402
 from dashboard import state, widgets  # noqa: E402
 from engine import units  # noqa: E402
 
-st.set_page_config(page_title="Perch: small wind siting", page_icon="🌬️", layout="wide")
+st.set_page_config(page_title="Perch: small wind siting", page_icon=":material/air:", layout="wide")
 
 state.init()
 state.sync_widgets()

@@ -54,7 +54,7 @@ def render(mode: str) -> None:
     _remember(mode)
     if mode == "demo":
         st.info("The built-in demo climate: an invented reference station in open terrain at "
-                "10 m. Use it to learn the tool, never for a real decision.", icon="ℹ️")
+                "10 m. Use it to learn the tool, never for a real decision.", icon=":material/info:")
         if state.get_path("climate") != _demo_climate():
             if st.button("Put the demo climate back", key="demo_climate_back"):
                 state.set_path("climate", _demo_climate())
@@ -126,7 +126,7 @@ def _table_form() -> None:
     for where, msg in st.session_state["problems"]:
         if where.startswith("climate.") and where.split(".")[1].split("[")[0] in (
                 "frequency", "weibull_k", "weibull_c_ms"):
-            st.error(f"**{where.split('.', 1)[1]}:** {msg}", icon="✋")
+            st.error(f"**{where.split('.', 1)[1]}:** {msg}", icon=":material/error:")
 
 
 def _mean_form() -> None:
@@ -157,7 +157,7 @@ def _mean_form() -> None:
     except InputError as e:
         for _, msg in e.problems:
             st.error(f"**Long-term mean wind speed ({s_unit})** {msg} (checked in m/s)",
-                     icon="✋")
+                     icon=":material/error:")
         state.set_local_problems("climate", [("climate.mean_speed", m) for _, m in e.problems])
         return
     state.set_local_problems("climate", [])
@@ -202,13 +202,13 @@ def _record_form() -> None:
         except InputError as e:
             state.set_local_problems("climate", e.problems)
     for where, msg in ss["local_problems"].get("climate", []):
-        st.error(f"**{where}:** {msg}", icon="✋")
+        st.error(f"**{where}:** {msg}", icon=":material/error:")
     res = ss.get("record_result")
     if res:
         st.markdown(f"**Quality control of {res['file']}**")
         st.code(res["qc"], language=None)
         for note in res["notes"]:
-            st.info(note, icon="ℹ️")
+            st.info(note, icon=":material/info:")
 
 
 def summary() -> None:
@@ -222,6 +222,6 @@ def summary() -> None:
     c1.metric(f"Mean speed at {units.length_from_si(clim.height_m, state.unit_of('length')):.0f}"
               f" {state.unit_of('length')}", f"{units.speed_from_si(mean, s_unit):.2f} {s_unit}")
     c2.metric("Prevailing sector", f"{charts.compass_name(deg)} ({deg:.0f}°)", f"{f:.0%} of the time",
-              delta_color="off")
-    c3.metric("Sectors", f"{clim.n_sectors}", clim.source.replace("_", " "), delta_color="off")
+              delta_color="off", delta_arrow="off")
+    c3.metric("Sectors", f"{clim.n_sectors}", clim.source.replace("_", " "), delta_color="off", delta_arrow="off")
     st.altair_chart(charts.wind_rose(clim), width="content")

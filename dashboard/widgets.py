@@ -44,7 +44,7 @@ def field_messages(path: str, label: str, kind: str = "plain") -> None:
         note = ""
         if kind in ("speed", "length") and state.unit_of(kind) not in ("m/s", "m"):
             note = f" (the rule is checked in {'m/s' if kind == 'speed' else 'metres'})"
-        st.error(f"**{label}** {m}{note}", icon="✋")
+        st.error(f"**{label}** {m}{note}", icon=":material/error:")
 
 
 def _key(path: str, kind: str) -> str:
@@ -185,11 +185,11 @@ def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> 
         rid = rows[i].get(id_field) if i < len(rows) else ""
         label = labels.get(field.split("[")[0], field.replace("_", " ")) if field else ""
         st.error(f"**Row {i + 1}{f' ({rid})' if rid else ''}{', ' + label if label else ''}:** "
-                 f"{msg}", icon="✋")
+                 f"{msg}", icon=":material/error:")
         shown += 1
     for where, msg in st.session_state["problems"]:
         if where == group:
-            st.error(f"**{group.capitalize()}:** {msg}", icon="✋")
+            st.error(f"**{group.capitalize()}:** {msg}", icon=":material/error:")
             shown += 1
     return shown
 
@@ -199,11 +199,11 @@ def step_banner(step: str, title: str) -> None:
     ok = state.complete(step)
     st.title(title)
     if ok:
-        st.success("Complete: this step's inputs are consistent.", icon="✅")
+        st.success("Complete: this step's inputs are consistent.", icon=":material/check_circle:")
     else:
         n = len(state.step_problems(step))
         st.warning(f"Needs attention: {n} problem(s) below. The results keep using the last "
-                   "complete inputs until they are fixed.", icon="⚠️")
+                   "complete inputs until they are fixed.", icon=":material/warning:")
 
 
 def editing() -> bool:

@@ -183,7 +183,7 @@ def _feature(kind, coords, **props):
 
 
 def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
-              width: int = 560, height: int = 460) -> alt.LayerChart:
+              width: int = 620, height: int = 500) -> alt.LayerChart:
     """Plan of the site: buildings as blocks labelled with height, positions coloured by rank.
 
     Local metres (or feet) east and north, equal scale on both axes, a north arrow and a wedge
@@ -432,7 +432,7 @@ def ranking_bars(table: pd.DataFrame, top: int = 12) -> alt.LayerChart:
     df["status"] = np.where(df["excluded"], "excluded", "eligible")
     centre = "p50_aep_kwh" if "p50_aep_kwh" in df else "aep_kwh"
     order = list(df["row"])
-    y = alt.Y("row:N", sort=order, title=None)
+    y = alt.Y("row:N", sort=order, title=None, axis=alt.Axis(labelLimit=280))
     bars = alt.Chart(df).mark_bar().encode(
         y=y, x=alt.X(f"{centre}:Q", title="net energy per year (kWh)"),
         color=alt.Color("status:N", title=None,

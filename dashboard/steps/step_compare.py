@@ -12,8 +12,8 @@ S, L = state.units_now()
 names = list(ss["scenarios"])
 if len(names) < 1:
     st.info("No scenario saved yet. On the Results step, set a what-if and press "
-            "“Save scenario”; save two or more to compare them here.", icon="ℹ️")
-    st.page_link("steps/step_results.py", label="Go to Results", icon="📊")
+            "“Save scenario”; save two or more to compare them here.", icon=":material/info:")
+    st.page_link("steps/step_results.py", label="Go to Results", icon=":material/bar_chart:")
     st.stop()
 
 if "compare_pick" not in ss or not set(ss["compare_pick"]) <= set(names):
@@ -33,7 +33,7 @@ if include_current:
     outcomes["current"] = results_view.scenario_outcome(state.evaluation(), S, L)
 
 if len(docs) < 2:
-    st.info("Pick at least two scenarios (or one and the current inputs).", icon="ℹ️")
+    st.info("Pick at least two scenarios (or one and the current inputs).", icon=":material/info:")
     st.stop()
 
 first = list(docs)[0]

@@ -87,4 +87,4 @@ if not state.step_problems("layout"):
     ev = state.evaluation()
     st.altair_chart(charts.plan_view(ev, L), width="content")
 else:
-    st.info("The plan is drawn again once the tables above have no problems.", icon="ℹ️")
+    st.info("The plan is drawn again once the tables above have no problems.", icon=":material/info:")

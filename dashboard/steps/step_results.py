@@ -12,7 +12,7 @@ S, L = state.units_now()
 bad = [(k, t) for k, t, _ in state.STEPS[:4] if not state.complete(k)]
 if bad:
     st.warning("Shown from the last complete inputs. Needs attention: "
-               + ", ".join(t for _, t in bad) + ".", icon="⚠️")
+               + ", ".join(t for _, t in bad) + ".", icon=":material/warning:")
 
 a = ss["valid"]
 pos_ids = [p.id for p in a.positions]
@@ -51,7 +51,7 @@ if widgets.editing():
                 st.toast(f"Saved “{used}”.")
             if ss["scenarios"]:
                 st.caption("Saved: " + ", ".join(ss["scenarios"]))
-            st.page_link("steps/step_compare.py", label="Compare what-ifs", icon="⚖️")
+            st.page_link("steps/step_compare.py", label="Compare what-ifs", icon=":material/compare_arrows:")
         widgets.toggle("Keep the rotor clear of the roof's high-turbulence zone",
                        "ranking.require_clear_of_turbulence_zone")
     state.validate()
@@ -66,7 +66,7 @@ best = ok.iloc[0] if len(ok) else None
 c1, c2, c3, c4 = st.columns(4)
 if best is not None:
     c1.metric("Best position", f"{best['position_id']}", f"with {best['turbine_id']}",
-              delta_color="off")
+              delta_color="off", delta_arrow="off")
     c2.metric("Net energy, P50", f"{best['aep_kwh']:,.0f} kWh/yr")
     if "p90_aep_kwh" in best.index:
         c3.metric("P90 (exceeded 9 years in 10)", f"{best['p90_aep_kwh']:,.0f} kWh/yr")
@@ -74,7 +74,7 @@ if best is not None:
         c4.metric("Cost per kWh", f"{best['lcoe_per_kwh']:.2f} {a.economics.currency}")
 else:
     st.error("Every position is excluded by a constraint; see the reasons in the table.",
-             icon="✋")
+             icon=":material/error:")
 
 st.subheader("Ranked positions")
 st.table(results_view.top_rows(table, S, L, n=5))
@@ -111,6 +111,8 @@ with c2:
         st.markdown(f"- {f}")
 with c1:
     st.altair_chart(charts.plan_view(ev, L, selected=dp), width="content")
+    st.caption("Colour: the position's place in the ranking (dark blue is best); grey: every "
+               "turbine there is excluded by a constraint. Ring: the position in detail.")
 
 VIEWS = {"rose": "Wind rose", "dist": "Speed distribution", "profile": "Vertical profile",
          "curve": "Power curve", "monthly": "Monthly energy", "bars": "Ranking chart"}
@@ -144,7 +146,7 @@ elif view == "monthly":
     m = charts.monthly_energy_kwh(ev, dp, dt)
     if m is None:
         st.info("This climate has no monthly mean speeds, so the year is not split into "
-                "months. A measured record gives them.", icon="ℹ️")
+                "months. A measured record gives them.", icon=":material/info:")
     else:
         st.altair_chart(charts.monthly_energy(m, f"Monthly net energy at {dp} with {dt}"),
                         width="content")

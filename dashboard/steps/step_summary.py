@@ -14,8 +14,8 @@ ev = state.evaluation()
 st.markdown("**Steps**")
 for i, (key, title, _) in enumerate(state.STEPS):
     ok = state.complete(key)
-    st.markdown(f"{i + 1}. {title}: {'complete' if ok else 'needs attention'} "
-                f"{'✅' if ok else '⚠️'}")
+    mark = ":material/check_circle:" if ok else ":material/warning:"
+    st.markdown(f"{mark} {i + 1}. {title}: {'complete' if ok else 'needs attention'}")
 
 st.subheader("Best positions")
 st.table(results_view.top_rows(ev.table, S, L, n=5))
@@ -46,7 +46,7 @@ if report:
             c2.download_button("Siting summary (PDF)", files["pdf"], f"{base}-summary.pdf",
                                "application/pdf", key="dl_pdf")
         for where, msg in files.get("problems", []):
-            st.error(f"**{where}:** {msg}", icon="✋")
+            st.error(f"**{where}:** {msg}", icon=":material/error:")
 
 st.subheader("Safety cautions")
 for title, text in widgets.CAUTIONS:

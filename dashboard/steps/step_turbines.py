@@ -86,7 +86,7 @@ if ids:
         valid = ss["valid"]
         vt = next((x for x in valid.turbines if x.id == tid), None)
         if vt is not None:
-            st.altair_chart(charts.power_curve(vt, S), width="content")
+            st.altair_chart(charts.power_curve(vt, S), width="stretch")
 
 if changed:
     before = state.complete("turbines")
