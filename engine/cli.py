@@ -98,6 +98,10 @@ from .cli_report import register_report  # noqa: E402  (the report module import
 
 COMMANDS.append(register_report)
 
+from .cli_screen import register_screen  # noqa: E402
+
+COMMANDS.append(register_screen)
+
 
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(prog="python -m engine",

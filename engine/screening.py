@@ -487,8 +487,8 @@ class ScreeningSettings:
     dense_plan_fraction: float = 0.35
     #: Height over the surroundings' mean height from which a building "stands above" them [-].
     tall_ratio: float = 1.5
-    #: Buildings evaluated at once (bounds memory: about 1 MB per building and turbine).
-    chunk_rows: int = 2000
+    #: Buildings evaluated at once (bounds memory: about 50 kB per building and turbine).
+    chunk_rows: int = 500
 
     def __post_init__(self):
         p = Problems()
@@ -790,13 +790,15 @@ def choose_mast_m(rows: pd.DataFrame, sur: dict, climate, air_density_kgm3, ctx)
 
     Notes
     -----
-    The main energy sectors depend on hub height (through the free stream), so the clearance
-    is found at a first mast (rotor radius + 1 m) and once more at the mast it gives.
+    The main energy sectors are found at a first mast (rotor radius + 1 m). When the Weibull
+    shape changes with height they depend on the hub height, so the clearance is found once
+    more at the mast the first pass gives; otherwise every sector's scale changes by the same
+    factor with height and the sectors stay the same.
     """
     r = ctx.rotor_radius_m
     step = ctx.settings.mast_step_m
     mast = np.full(len(rows), r + 1.0)
-    for _ in range(2):
+    for _ in range(2 if ctx.transfer.adjust_shape_with_height else 1):
         eff = roof_centre_climate(rows, sur, mast, climate, air_density_kgm3, ctx.transfer)
         need = eff.diagnostics["min_clear_mast_m"] + r
         mast = np.clip(np.ceil(np.round(need / step, 9)) * step, 0.5, 60.0)
@@ -882,7 +884,8 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
     Per zone (its climate) and per chunk of ``ctx.settings.chunk_rows`` buildings: the
     surroundings (:func:`surroundings`), the mast (:func:`choose_mast_m`), the effective climate
     at the roof's centre (:func:`roof_centre_climate`), the yield of every turbine
-    (:func:`engine.energy.yield_arrays`, as in the detailed assessment's energy table) and the
+    (:func:`engine.energy.prepare_bins`, the method of bins of the detailed assessment's
+    :func:`engine.energy.yield_arrays`) and the
     class (:func:`suitability`). ``rank`` is 0 until :func:`rank_results`.
     """
     from . import energy
@@ -905,6 +908,8 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
     net_kwh = np.empty((n, T))
     cf = np.empty((n, T))
     step = int(ctx.settings.chunk_rows)
+    keep = energy.net_fraction(ctx.losses)
+    rated_w = np.array([t.rated_power_w for t in ctx.turbines], float)[None, :]
     for zk in sorted(set(zkey)):
         clim = ctx.climates[zk]
         idx_zone = np.flatnonzero(zkey == zk)
@@ -915,14 +920,17 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
             mast[sel] = choose_mast_m(r, s, clim, rho, ctx)
             eff = roof_centre_climate(r, s, mast[sel], clim, rho, ctx.transfer)
             need[sel] = eff.diagnostics["min_clear_mast_m"]
-            y = energy.yield_arrays(eff.frequency, eff.weibull_k, eff.weibull_c_ms,
-                                    eff.turbulence_intensity, eff.inflow_skew_deg,
-                                    ctx.turbines, rho, ctx.losses)
+            # The gross energy of engine.energy.yield_arrays (its first step); the screening
+            # leaves out the speed sensitivity behind P90, which costs twice as much again.
+            bins = energy.prepare_bins(eff.frequency, eff.weibull_k, eff.weibull_c_ms,
+                                       eff.turbulence_intensity, eff.inflow_skew_deg,
+                                       ctx.turbines, rho)
+            net_wh = bins.energy_wh(1.0) * keep
             hub[sel] = eff.hub_height_m
             mean_ms[sel] = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.weibull_c_ms)
             ti_mean[sel] = np.sum(eff.frequency * eff.turbulence_intensity, axis=-1)
-            net_kwh[sel] = y.net_wh / 1000.0
-            cf[sel] = y.capacity_factor
+            net_kwh[sel] = net_wh / 1000.0
+            cf[sel] = net_wh / (rated_w * energy.HOURS_PER_YEAR)
     best = np.argmax(net_kwh, axis=1)
     take = np.arange(n)
     best_aep, best_cf = net_kwh[take, best], cf[take, best]
