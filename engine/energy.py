@@ -4,7 +4,8 @@ The chain for one site, all arrays broadcast over (position P, turbine T, sector
 
 1. the published curve (at 1.225 kg/m³) is carried to the site's air density
    (:func:`density_corrected_power_w`, stall and pitch variants);
-2. it is averaged over the turbulence at the rotor (:func:`gaussian_average`, σ = TI · V),
+2. it is averaged over the turbulence at the rotor (σ = TI · V), exactly for the piecewise-linear
+   curve (:func:`gaussian_average_segments`; :func:`gaussian_average` for any function),
    tabulated once per turbine over the turbulence intensities that occur
    (:func:`turbulent_curve_table_w`) and looked up per position and sector;
 3. skewed inflow lowers the speed the rotor sees, by axis type (:func:`skew_speed_factor`);
@@ -28,6 +29,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
+from scipy.special import ndtr
 
 from .model import RHO_STANDARD
 from .weibull import mixture_mean_ms, weibull_cdf
@@ -38,7 +40,7 @@ DEFAULT_EDGES_MS = np.arange(0.0, 40.0 + 1e-9, 0.5)
 #: Gauss-Hermite nodes for the turbulence average (exact for polynomials up to degree 47).
 GAUSS_NODES = 24
 #: Step of the turbulence-intensity table [-]; linear interpolation between rows.
-TI_TABLE_STEP = 0.01
+TI_TABLE_STEP = 0.02
 #: Turbulence intensities above this are held at it [-] (beyond any measured rooftop value).
 TI_MAX = 0.8
 #: Exponent n of the skewed-inflow power factor cos^n(γ) by rotor axis (see skew_speed_factor).
@@ -129,6 +131,88 @@ def gaussian_average(power_fn, speed_ms, sigma_ms, n_nodes=GAUSS_NODES):
     return np.sum(np.asarray(power_fn(v + s * z)) * w, axis=-1)
 
 
+def curve_segments(turbine, air_density_kgm3, rho0_kgm3=RHO_STANDARD):
+    """The density-corrected curve as exact linear pieces: knots x (K+1,), α (K,), β (K,).
+
+    On [x_k, x_k+1) the power is α_k + β_k V [W]; 0 below the first and above the last knot.
+
+    Notes
+    -----
+    Knots are the curve speeds (divided by (ρ/ρ0)^(1/3) for pitch regulation), cut-in,
+    cut-out and, for stall regulation, where P0 ρ/ρ0 crosses the power limit, so the pieces
+    reproduce :func:`density_corrected_power_w` exactly, jumps at cut-in and cut-out included.
+    """
+    ratio = float(air_density_kgm3) / float(rho0_kgm3)
+    sp = np.asarray(turbine.curve_speed_ms, float)
+    pw = np.asarray(turbine.curve_power_w, float)
+    if turbine.regulation == "pitch":
+        sp = sp / ratio ** (1.0 / 3.0)
+    else:
+        pw = pw * ratio
+        limit = power_limit_w(turbine)
+        d = pw - limit
+        cross = np.flatnonzero(d[:-1] * d[1:] < 0)
+        x_cross = sp[cross] + (limit - pw[cross]) * (sp[cross + 1] - sp[cross]) / (
+            pw[cross + 1] - pw[cross])
+        sp = np.concatenate([sp, x_cross])
+        pw = np.concatenate([pw, np.full(len(x_cross), limit)])
+        order = np.argsort(sp, kind="stable")
+        sp, pw = sp[order], np.minimum(pw[order], limit)
+    x = np.unique(np.concatenate([sp, [turbine.cut_in_ms, turbine.cut_out_ms]]))
+    y = np.interp(x, sp, pw, left=0.0, right=0.0)
+    # Each piece's line through its end points; a piece outside cut-in..cut-out, or outside
+    # the table, carries no power.
+    x0, x1, y0, y1 = x[:-1], x[1:], y[:-1], y[1:]
+    mid = 0.5 * (x0 + x1)
+    on = (mid >= turbine.cut_in_ms) & (mid <= turbine.cut_out_ms) & (mid >= sp[0]) & (mid <= sp[-1])
+    beta = np.where(on, (y1 - y0) / (x1 - x0), 0.0)
+    alpha = np.where(on, y0 - beta * x0, 0.0)
+    # Merge neighbouring pieces on the same line (the flat rated part, the zero below
+    # cut-in): exact, and it shortens the work of the turbulence average.
+    new_piece = np.ones(len(alpha), bool)
+    new_piece[1:] = (np.abs(np.diff(alpha)) > 1e-9 * (1.0 + np.abs(alpha[1:]))) | (
+        np.abs(np.diff(beta)) > 1e-12 * (1.0 + np.abs(beta[1:])))
+    starts = np.flatnonzero(new_piece)
+    return np.append(x[starts], x[-1]), alpha[starts], beta[starts]
+
+
+def gaussian_average_segments(knots, alpha, beta, mean_ms, sigma_ms):
+    """Exact E[P(V + X)], X ~ N(0, σ²), for a piecewise-linear P (:func:`curve_segments`) [W].
+
+    Parameters
+    ----------
+    knots, alpha, beta : the pieces, (K+1,), (K,), (K,)
+    mean_ms, sigma_ms : arrays broadcasting together, V and σ [m/s]; σ = 0 returns P(V)
+
+    Notes
+    -----
+    With z_k = (x_k - V)/σ, Φ and φ the standard normal CDF and density:
+    E = Σ_k α_k [Φ(z_k+1) - Φ(z_k)] + β_k {V [Φ(z_k+1) - Φ(z_k)] - σ [φ(z_k+1) - φ(z_k)]},
+    since ∫ x φ((x - V)/σ)/σ dx = V Φ(z) - σ φ(z). No quadrature error, so jumps at cut-in
+    and cut-out are averaged exactly.
+    """
+    v = np.asarray(mean_ms, float)[..., None]
+    s = np.asarray(sigma_ms, float)[..., None]
+    pos = s > 0
+    s_safe = np.where(pos, s, 1.0)
+    z = (np.asarray(knots, float) - v) / s_safe
+    cdf = ndtr(z)
+    pdf = np.exp(-0.5 * z * z) * (1.0 / math.sqrt(2.0 * math.pi))
+    d_cdf = np.diff(cdf, axis=-1)
+    d_pdf = np.diff(pdf, axis=-1)
+    avg = np.sum(alpha * d_cdf + beta * (v * d_cdf - s_safe * d_pdf), axis=-1)
+    # σ = 0: the curve itself from the same pieces. At a knot take the larger of the two
+    # one-sided values, so the turbine runs at exactly cut-in and at exactly cut-out, as in
+    # density_corrected_power_w.
+    v0 = v[..., 0]
+    inside = (v0 >= knots[0]) & (v0 <= knots[-1])
+    at_v = np.zeros_like(v0)
+    for side in ("left", "right"):
+        k = np.clip(np.searchsorted(knots, v0, side=side) - 1, 0, len(alpha) - 1)
+        at_v = np.maximum(at_v, np.where(inside, alpha[k] + beta[k] * v0, 0.0))
+    return np.where(pos[..., 0], avg, at_v)
+
+
 def ti_grid_for(turbulence_intensity, step=TI_TABLE_STEP, ti_max=TI_MAX):
     """Grid of turbulence intensities covering the given values, on multiples of ``step`` [-]."""
     ti = np.clip(np.asarray(turbulence_intensity, float), 0.0, ti_max)
@@ -138,7 +222,7 @@ def ti_grid_for(turbulence_intensity, step=TI_TABLE_STEP, ti_max=TI_MAX):
 
 
 def turbulent_curve_table_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAULT_EDGES_MS,
-                            reference_ti=0.0, n_nodes=GAUSS_NODES):
+                            reference_ti=0.0):
     """Density-corrected, turbulence-averaged power of each turbine [W], shape (T, I, J).
 
     Row ``i`` holds the curve at turbulence intensity ``ti_grid[i]`` on the bin edges.
@@ -154,16 +238,17 @@ def turbulent_curve_table_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAUL
 
     Notes
     -----
-    P_I(V) = E[P0(V + X)], X ~ N(0, σ²), σ² = max(I² - I_ref², 0) V². Gaussian averaging
+    P_I(V) = E[P0(V + X)], X ~ N(0, σ²), σ² = max(I² - I_ref², 0) V², computed exactly for
+    the piecewise-linear curve (:func:`gaussian_average_segments`). Gaussian averaging
     composes (σ1² + σ2²), so a curve measured at I_ref needs only the excess turbulence
     (exact when σ does not vary across the averaging window; approximate otherwise).
+    The average of a curve bounded by 0 and its power limit stays within both.
     """
     edges = np.asarray(edges_ms, float)
     ti = np.asarray(ti_grid, float)
     sigma = np.sqrt(np.maximum(ti ** 2 - float(reference_ti) ** 2, 0.0))[:, None] * edges[None, :]
-    return np.stack([
-        gaussian_average(lambda v, t=t: density_corrected_power_w(v, t, air_density_kgm3),
-                         edges[None, :], sigma, n_nodes) for t in turbines])
+    return np.stack([gaussian_average_segments(*curve_segments(t, air_density_kgm3),
+                                               edges[None, :], sigma) for t in turbines])
 
 
 def lookup_turbulent_curve_w(table_w, ti_grid, turbulence_intensity):
@@ -177,11 +262,11 @@ def lookup_turbulent_curve_w(table_w, ti_grid, turbulence_intensity):
          - ti_grid[0]) / step
     lo = np.clip(np.floor(x).astype(int), 0, max(len(ti_grid) - 2, 0))
     hi = np.minimum(lo + 1, len(ti_grid) - 1)
-    frac = (x - lo)[..., None]  # (P, S, 1)
-    a = table_w[:, lo, :]  # (T, P, S, J)
-    b = table_w[:, hi, :]
-    out = a + (b - a) * frac[None]
-    return np.moveaxis(out, 0, 1)
+    frac = (x - lo)[:, None, :, None]  # (P, 1, S, 1)
+    t_idx = np.arange(table_w.shape[0])[None, :, None]
+    a = table_w[t_idx, lo[:, None, :]]  # (P, T, S, J), contiguous
+    b = table_w[t_idx, hi[:, None, :]]
+    return a + (b - a) * frac
 
 
 def skew_speed_factor(inflow_skew_deg, axis):
@@ -223,13 +308,31 @@ def _weibull_x(edges_ms, k, c_ms):
     return np.exp(k * (log_v - np.log(c)[..., None]))
 
 
-def _bins_sum(frequency, x, power_edges_w, hours):
-    """N_h Σ_s f_s Σ_i [F(V_i) - F(V_{i-1})] (P_{i-1} + P_i)/2 with F = 1 - exp(-x)."""
-    F = -np.expm1(-x)
-    dF = np.diff(F, axis=-1)
+def bin_weights_w(power_edges_w):
+    """Weights w_j with Σ_i [F(V_i) - F(V_i-1)] (P_i-1 + P_i)/2 = Σ_j exp(-x_j) w_j [W].
+
+    Notes
+    -----
+    With F = 1 - exp(-x) and bin means m_i = (P_i + P_i+1)/2, summation by parts gives
+    w_0 = m_0, w_j = m_j - m_j-1 (0 < j < J-1), w_J-1 = -m_J-2: one exponential per edge
+    and one dot product per sector instead of a difference of CDFs.
+    """
     pw = np.asarray(power_edges_w, float)
-    p_mid = 0.5 * (pw[..., 1:] + pw[..., :-1])
-    return hours * np.sum(np.asarray(frequency) * np.sum(dF * p_mid, axis=-1), axis=-1)
+    m = 0.5 * (pw[..., 1:] + pw[..., :-1])
+    w = np.empty_like(pw)
+    w[..., 0] = m[..., 0]
+    w[..., 1:-1] = np.diff(m, axis=-1)
+    w[..., -1] = -m[..., -1]
+    return w
+
+
+def _bins_sum(frequency, x, weights_w, hours):
+    """N_h Σ_s f_s Σ_j exp(-x_j) w_j, the method of bins with :func:`bin_weights_w` [Wh]."""
+    g = np.exp(np.negative(x))
+    w = np.asarray(weights_w, float)
+    shape = np.broadcast_shapes(g.shape, w.shape)
+    per_sector = np.einsum("...j,...j->...", np.broadcast_to(g, shape), np.broadcast_to(w, shape))
+    return hours * np.sum(np.asarray(frequency) * per_sector, axis=-1)
 
 
 def aep_method_of_bins_wh(frequency, weibull_k, weibull_c_ms, power_edges_w,
@@ -295,6 +398,7 @@ class BinsSetup:
     weibull_k: np.ndarray  # (P, T, S)
     weibull_x: np.ndarray  # (P, T, S, J): (V_j / c_eff)^k
     curves_w: np.ndarray  # (P, T, S, J): corrected power at the edges
+    weights_w: np.ndarray  # (P, T, S, J): bin_weights_w(curves_w)
     skew_factor: np.ndarray  # (P, T, S)
 
     def energy_wh(self, scale=1.0, hours=HOURS_PER_YEAR) -> np.ndarray:
@@ -306,8 +410,10 @@ class BinsSetup:
         """
         lam = np.asarray(scale, float)
         if lam.ndim == 0:
+            if lam == 1.0:
+                return _bins_sum(self.frequency, self.weibull_x, self.weights_w, hours)
             x = self.weibull_x * np.exp(-self.weibull_k * math.log(float(lam)))[..., None]
-            return _bins_sum(self.frequency, x, self.curves_w, hours)
+            return _bins_sum(self.frequency, x, self.weights_w, hours)
         flat = lam.ravel()
         # Samples in chunks of about 4 million array elements to bound memory.
         chunk = max(1, int(4e6 // max(self.weibull_x.size, 1)))
@@ -315,7 +421,7 @@ class BinsSetup:
         for i in range(0, flat.size, chunk):
             lnl = np.log(flat[i:i + chunk])[:, None, None, None]
             x = self.weibull_x[None] * np.exp(-self.weibull_k[None] * lnl)[..., None]
-            parts.append(_bins_sum(self.frequency[None], x, self.curves_w[None], hours))
+            parts.append(_bins_sum(self.frequency[None], x, self.weights_w[None], hours))
         out = np.concatenate(parts, axis=0)
         return out.reshape(lam.shape + out.shape[1:])
 
@@ -356,7 +462,7 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     k_b = np.ascontiguousarray(np.broadcast_to(k[:, None, :], skew_f.shape))
     return BinsSetup(frequency=freq[:, None, :], weibull_k=k_b,
                      weibull_x=_weibull_x(edges, k_b, c[:, None, :] * skew_f),
-                     curves_w=curves, skew_factor=skew_f)
+                     curves_w=curves, weights_w=bin_weights_w(curves), skew_factor=skew_f)
 
 
 @dataclass(frozen=True)
@@ -468,7 +574,8 @@ def monthly_energy_wh(annual_wh, monthly_mean_ms, climate, frequency, weibull_k,
     safe = np.where(ratio > 0, ratio, 1.0)
     # (12, P, 1, S, J): (V/(r c))^k = (V/c)^k r^-k; a month with zero mean has no energy.
     xm = x[None] * np.exp(-k[None, :, None, :, None] * np.log(safe)[:, None, None, None, None])
-    rate = _bins_sum(np.asarray(frequency, float)[None, :, None, :], xm, curves[None], 1.0)
+    rate = _bins_sum(np.asarray(frequency, float)[None, :, None, :], xm,
+                     bin_weights_w(curves)[None], 1.0)
     rate = np.where(ratio[:, None, None] > 0, rate, 0.0)  # (12, P, T)
     e = rate * month_hours()[:, None, None]
     total = e.sum(axis=0)

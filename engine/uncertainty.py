@@ -57,7 +57,7 @@ def exceedance_z(level_percent) -> float:
     return float(norm.ppf(float(level_percent) / 100.0))
 
 
-def level_sensitivity(setup, uncertainty, level_percent, local=None):
+def level_sensitivity(setup, uncertainty, level_percent, local=None, e0=None):
     """d ln E / d ln V as the secant down to the speed of an exceedance level [-], (P, T).
 
     Parameters
@@ -66,6 +66,7 @@ def level_sensitivity(setup, uncertainty, level_percent, local=None):
     uncertainty : :class:`engine.model.Uncertainty`
     level_percent : exceedance level X [%], above 50
     local : local sensitivity (P, T) used where the secant is undefined (σ_V = 0 or no energy)
+    e0 : ``setup.energy_wh(1.0)`` when already computed
 
     Notes
     -----
@@ -76,7 +77,7 @@ def level_sensitivity(setup, uncertainty, level_percent, local=None):
     """
     sv = combined_speed_uncertainty(uncertainty)
     d = exceedance_z(level_percent) * sv
-    e0 = setup.energy_wh(1.0)
+    e0 = setup.energy_wh(1.0) if e0 is None else np.asarray(e0, float)
     fallback = np.zeros_like(e0) if local is None else np.asarray(local, float)
     if d <= 0:
         return fallback
@@ -113,8 +114,9 @@ def analytic_p_values(setup, net_fraction, uncertainty, local_sensitivity=None,
 
     The sensitivity of each level is :func:`level_sensitivity`; P50 is the net energy.
     """
-    p50 = setup.energy_wh(1.0) * float(net_fraction)
-    sens = {lv: (level_sensitivity(setup, uncertainty, lv, local_sensitivity) if lv > 50
+    gross = setup.energy_wh(1.0)
+    p50 = gross * float(net_fraction)
+    sens = {lv: (level_sensitivity(setup, uncertainty, lv, local_sensitivity, gross) if lv > 50
                  else (np.zeros_like(p50) if local_sensitivity is None else local_sensitivity))
             for lv in levels}
     return p_values(p50, sens, uncertainty, levels)
