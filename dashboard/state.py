@@ -29,7 +29,7 @@ STEPS = (
     ("summary", "Summary", ()),
 )
 
-#: Widget keys: ``w|<path>|<kind>|<unit>`` where kind is speed, length or plain.
+#: Widget keys: ``w|<path>|<kind>|<unit>[|<scope>]`` where kind is speed, length or plain.
 WIDGET_PREFIX = "w|"
 
 
@@ -124,10 +124,10 @@ def sync_widgets() -> None:
     for key in list(ss.keys()):
         if not isinstance(key, str) or not key.startswith(WIDGET_PREFIX):
             continue
-        try:
-            _, path, kind, unit = key.split("|")
-        except ValueError:
+        parts = key.split("|")
+        if len(parts) not in (4, 5):
             continue
+        path, kind, unit = parts[1:4]
         if kind in ("speed", "length") and unit != unit_of(kind):
             continue
         set_path(path, to_si(ss[key], kind))

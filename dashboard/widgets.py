@@ -47,14 +47,18 @@ def field_messages(path: str, label: str, kind: str = "plain") -> None:
         st.error(f"**{label}** {m}{note}", icon=":material/error:")
 
 
-def _key(path: str, kind: str) -> str:
-    return f"{state.WIDGET_PREFIX}{path}|{kind}|{state.unit_of(kind)}"
+def _key(path: str, kind: str, scope: str = "") -> str:
+    """Widget key; ``scope`` keeps a field shown on two pages from sharing one widget key
+    (a key left by the other page's widget is cleaned away at the end of a run)."""
+    key = f"{state.WIDGET_PREFIX}{path}|{kind}|{state.unit_of(kind)}"
+    return f"{key}|{scope}" if scope else key
 
 
 def number(label: str, path: str, kind: str = "plain", fmt: str = "%.2f", step=None,
-           help: str | None = None, optional: bool = False, disabled: bool = False):
+           help: str | None = None, optional: bool = False, disabled: bool = False,
+           scope: str = ""):
     """A number field bound to ``path`` in the draft; speeds and lengths in display units."""
-    key = _key(path, kind)
+    key = _key(path, kind, scope)
     if key not in st.session_state:
         v = state.to_display(state.get_path(path), kind)
         st.session_state[key] = None if v is None else (
@@ -79,8 +83,9 @@ def text(label: str, path: str, help: str | None = None, area: bool = False):
     return value
 
 
-def choice(label: str, path: str, options, help: str | None = None, fmt=None):
-    key = _key(path, "plain")
+def choice(label: str, path: str, options, help: str | None = None, fmt=None,
+           scope: str = ""):
+    key = _key(path, "plain", scope)
     options = list(options)
     if key not in st.session_state or st.session_state[key] not in options:
         cur = state.get_path(path)
@@ -91,8 +96,8 @@ def choice(label: str, path: str, options, help: str | None = None, fmt=None):
     return value
 
 
-def toggle(label: str, path: str, help: str | None = None):
-    key = _key(path, "plain")
+def toggle(label: str, path: str, help: str | None = None, scope: str = ""):
+    key = _key(path, "plain", scope)
     if key not in st.session_state:
         st.session_state[key] = bool(state.get_path(path, False))
     value = st.checkbox(label, key=key, help=help)

@@ -31,18 +31,20 @@ if widgets.editing():
             ss["whatif_position"] = wp
             i = next(j for j, p in enumerate(ss["draft"]["positions"]) if p.get("id") == wp)
             widgets.number("Mast height", f"positions.{i}.mast_height_m", "length", "%.1f",
-                           step=0.5)
+                           step=0.5, scope="whatif")
         with c2:
             widgets.choice("Rank by", "ranking.objective", ["net_aep", "p90_aep", "lcoe",
                                                              "payback"],
                            fmt=lambda o: {"net_aep": "net energy", "p90_aep": "P90 energy",
-                                          "lcoe": "cost per kWh", "payback": "payback time"}[o])
+                                          "lcoe": "cost per kWh", "payback": "payback time"}[o],
+                           scope="whatif")
             widgets.number("Tallest mast allowed", "ranking.max_mast_height_m", "length",
-                           "%.1f", step=0.5)
+                           "%.1f", step=0.5, scope="whatif")
         with c3:
-            widgets.number("Price of a kWh", "economics.tariff_per_kwh", fmt="%.3f", step=0.01)
+            widgets.number("Price of a kWh", "economics.tariff_per_kwh", fmt="%.3f", step=0.01,
+                           scope="whatif")
             widgets.number("Downtime loss (fraction)", "losses.availability", fmt="%.3f",
-                           step=0.01)
+                           step=0.01, scope="whatif")
         with c4:
             name = st.text_input("Save as scenario", key="scenario_name",
                                  placeholder=f"Scenario {len(ss['scenarios']) + 1}")
@@ -53,7 +55,7 @@ if widgets.editing():
                 st.caption("Saved: " + ", ".join(ss["scenarios"]))
             st.page_link("steps/step_compare.py", label="Compare what-ifs", icon=":material/compare_arrows:")
         widgets.toggle("Keep the rotor clear of the roof's high-turbulence zone",
-                       "ranking.require_clear_of_turbulence_zone")
+                       "ranking.require_clear_of_turbulence_zone", scope="whatif")
     state.validate()
     a = ss["valid"]
 
@@ -110,7 +112,7 @@ with c2:
     for f in row["flags"]:
         st.markdown(f"- {f}")
 with c1:
-    st.altair_chart(charts.plan_view(ev, L, selected=dp), width="content")
+    st.altair_chart(charts.plan_view(ev, L, selected=dp), width="stretch")
     st.caption("Colour: the position's place in the ranking (dark blue is best); grey: every "
                "turbine there is excluded by a constraint. Ring: the position in detail.")
 

@@ -1,0 +1,100 @@
+"""The dashboard in a real headless Chromium: walk the demo to the ranking, change a mast."""
+from __future__ import annotations
+
+import re
+
+import pytest
+
+from conftest import ARTIFACTS
+
+pytestmark = [pytest.mark.browser, pytest.mark.slow]
+
+IDLE = '[data-testid="stApp"][data-test-script-state="notRunning"]'
+
+
+def idle(page):
+    page.wait_for_selector(IDLE, state="attached")
+
+
+def shot(page, name: str) -> None:
+    """Full-page screenshot: the viewport grows to the main block's height first."""
+    height = page.evaluate(
+        "() => { const m = document.querySelector('[data-testid=\"stMain\"]');"
+        " return m ? m.scrollHeight : document.body.scrollHeight; }")
+    page.set_viewport_size({"width": 1400, "height": max(900, min(int(height) + 40, 8000))})
+    page.wait_for_timeout(400)
+    page.screenshot(path=str(ARTIFACTS / f"{name}.png"), full_page=True)
+    page.set_viewport_size({"width": 1400, "height": 1000})
+
+
+def first_ranked(page):
+    return page.locator('[data-testid="stTable"]').first.locator("tbody tr").first
+
+
+def choose(page, label: str, option: str, nth: int = 0) -> None:
+    """Pick ``option`` in the ``nth`` selectbox labelled ``label``."""
+    page.get_by_role("combobox", name=label, exact=True).nth(nth).click()
+    page.get_by_role("option", name=option, exact=True).click()
+    idle(page)
+
+
+def test_walk_the_demo_and_change_a_mast(page, dashboard_url):
+    """From the first step to the ranking; a taller mast on the terrace re-ranks it first."""
+    from playwright.sync_api import expect
+
+    page.goto(dashboard_url)
+    idle(page)
+    expect(page.get_by_role("heading", name="1. Site")).to_be_visible()
+    expect(page.get_by_text("All steps complete.")).to_be_visible()
+    shot(page, "browser-1-site")
+    for label, heading, name in (("2. Wind climate", "2. Wind climate", "browser-2-climate"),
+                                 ("3. Buildings & positions", "3. Buildings & positions",
+                                  "browser-3-layout"),
+                                 ("4. Turbines & costs", "4. Turbines & costs",
+                                  "browser-4-turbines"),
+                                 ("5. Results", "5. Results", "browser-5-results")):
+        page.get_by_role("link", name=re.compile("^" + re.escape(label))).click()
+        idle(page)
+        expect(page.get_by_role("heading", name=heading)).to_be_visible()
+        page.wait_for_timeout(300)
+        shot(page, name)
+
+    top = first_ranked(page)
+    expect(top).to_contain_text("yard-mast")
+    # a field shown on two steps keeps its value across the page change
+    expect(page.get_by_role("spinbutton", name="Price of a kWh")).to_have_value("0.250")
+    choose(page, "Position", "terrace-ridge")
+    mast = page.get_by_role("spinbutton", name="Mast height (m)")
+    expect(mast).to_have_value("3.0")
+    mast.fill("10")
+    mast.press("Enter")
+    expect(top).to_contain_text("terrace-ridge")
+    idle(page)
+    shot(page, "browser-6-results-taller-mast")
+
+    mast.fill("3")
+    mast.press("Enter")
+    expect(top).to_contain_text("yard-mast")
+
+    page.get_by_role("link", name=re.compile(r"^6\. Summary")).click()
+    idle(page)
+    expect(page.get_by_role("heading", name="Safety cautions")).to_be_visible()
+    expect(page.get_by_role("button", name="Site file (JSON)")).to_be_visible()
+    shot(page, "browser-7-summary")
+
+
+def test_bad_value_shows_message_in_the_browser(page, dashboard_url):
+    """An altitude out of range shows its message beside the field; fixing it clears it."""
+    from playwright.sync_api import expect
+
+    page.goto(dashboard_url)
+    idle(page)
+    alt = page.get_by_role("spinbutton", name="Altitude above sea level (m)")
+    alt.fill("9000")
+    alt.press("Enter")
+    expect(page.get_by_text(re.compile(r"must be (>=|≥) -450 and (<=|≤) 5000"))).to_be_visible()
+    expect(page.get_by_role("textbox", name="Site name")).to_have_value(re.compile("^Larkspur Yard"))
+    shot(page, "browser-8-bad-altitude")
+    alt.fill("45")
+    alt.press("Enter")
+    expect(page.get_by_text("All steps complete.")).to_be_visible()
