@@ -156,6 +156,8 @@ def fmt_value(v) -> str:
         return f"{float(v):.4g}" if math.isfinite(float(v)) else DASH
     if isinstance(v, (list, tuple)):
         return "; ".join(fmt_value(x) for x in v) if v else DASH
+    if isinstance(v, dict):
+        return "; ".join(f"{k} {fmt_value(x)}" for k, x in v.items()) if v else DASH
     return str(v)
 
 
@@ -178,9 +180,29 @@ COLUMN_FORMATS = {
     "speedup": ("Speed-up [-]", lambda v: fmt_fixed(v, 3)),
     "turbulence_intensity": ("Turbulence intensity", lambda v: fmt_percent(v, 1)),
     "lcoe_per_kwh": ("Cost of energy [per kWh]", lambda v: fmt_fixed(v, 3)),
+    "p75_aep_kwh": ("P75 AEP [kWh/yr]", lambda v: fmt_fixed(v, 0)),
+    "full_load_hours": ("Full-load hours [h/yr]", lambda v: fmt_fixed(v, 0)),
     "payback_years": ("Simple payback [years]", lambda v: fmt_fixed(v, 1)),
     "installed_cost": ("Installed cost", lambda v: fmt_fixed(v, 0)),
+    "npv": ("Net present value", lambda v: fmt_fixed(v, 0)),
+    "co2_avoided_kg_per_year": ("CO2 avoided [kg/yr]", lambda v: fmt_fixed(v, 0)),
+    "thrust_rated_n": ("Thrust near rated [N]", lambda v: fmt_fixed(v, 0)),
+    "thrust_extreme_n": ("Extreme thrust [N]", lambda v: fmt_fixed(v, 0)),
+    "mast_base_moment_nm": ("Mast base moment [N m]", lambda v: fmt_fixed(v, 0)),
+    "noise_margin_db": ("Noise margin [dB(A)]", lambda v: fmt_fixed(v, 1)),
+    "noise_worst_receptor": ("Worst receptor", str),
+    "noise_exceeds_limit": ("Noise over limit", fmt_value),
+    "noise_db_at_receptors": ("Noise at receptors [dB(A)]", lambda v: "; ".join(
+        f"{k} {fmt_fixed(x, 1)}" for k, x in v.items()) if v else DASH),
+    "in_recirculation_zone": ("In recirculation zone", fmt_value),
+    "in_turbulence_zone": ("In high-turbulence zone", fmt_value),
+    "in_roof_wake": ("In roof wake", fmt_value),
+    "min_clear_mast_m": ("Mast to clear roof zones [m]", lambda v: fmt_fixed(v, 1)),
+    "spilled_fraction": ("Spilled share in passage", lambda v: fmt_percent(v, 0)),
+    "shelter_factor": ("Shelter factor [-]", lambda v: fmt_fixed(v, 3)),
+    "speed_sensitivity": ("Energy per speed change [-]", lambda v: fmt_fixed(v, 2)),
     "excluded": ("Excluded", fmt_value),
+    "status": ("Status", str),
     "flags": ("Notes and exclusions", lambda v: "; ".join(v) if v else DASH),
 }
 
@@ -189,8 +211,15 @@ _COST_WORDS = ("cost", "lcoe", "payback", "npv", "saving", "revenue", "co2", "em
                "income", "value")
 
 
-def format_cell(column: str, value) -> str:
-    """The summary's text for one cell of the results table (the same in HTML and PDF)."""
+def format_cell(column: str, value, raw=None) -> str:
+    """The summary's text for one cell of the results table (the same in HTML and PDF).
+
+    ``value`` is the rank JSON's value (non-finite numbers are null there); ``raw`` the
+    results table's own value, used to say "never" for a payback that never comes (+inf).
+    """
+    if value is None and column == "payback_years" and isinstance(raw, (float, np.floating)) \
+            and np.isposinf(raw):
+        return "never"
     if column in COLUMN_FORMATS:
         if value is None:
             return DASH
@@ -209,8 +238,10 @@ def _aligned(column: str, values) -> str:
     return "r" if numeric else "l"
 
 
-def _records_table(key, records, columns, caption="") -> Table:
-    rows = tuple(tuple(format_cell(c, r.get(c)) for c in columns) for r in records)
+def _records_table(key, records, columns, caption="", raw=None) -> Table:
+    raw = raw if raw is not None else [{}] * len(records)
+    rows = tuple(tuple(format_cell(c, r.get(c), w.get(c)) for c in columns)
+                 for r, w in zip(records, raw))
     align = tuple(_aligned(c, [r.get(c) for r in records]) for c in columns)
     return Table(key=key, columns=tuple(column_header(c) for c in columns), rows=rows,
                  align=align, caption=caption)
@@ -420,6 +451,14 @@ def export_files(evaluation) -> dict:
 
 # ---------------------------------------------------------------- building the summary
 
+def _exclusion_reasons(record) -> list:
+    """The flags of an excluded row that are limits it fails (not advice like "check roof")."""
+    flags = list(record.get("flags") or [])
+    words = ("taller than", "above the limit", "above a receptor", "zone", "thrust", "limit")
+    hits = [f for f in flags if any(w in f for w in words)]
+    return hits or flags
+
+
 def _recommendation(evaluation, records) -> tuple[dict | None, list]:
     a = evaluation.assessment
     eligible = [r for r in records if not r.get("excluded")]
@@ -459,15 +498,22 @@ def _recommendation(evaluation, records) -> tuple[dict | None, list]:
                f"{format_cell('mean_speed_ms', best['mean_speed_ms'])} m/s"
                + (f" ({format_cell('speedup', best['speedup'])} times the undisturbed flow)"
                   if _finite(best.get("speedup")) else "") + ".")
-    n_ex = sum(1 for r in records if r.get("excluded"))
-    if n_ex:
-        reasons = {}
-        for r in records:
-            if r.get("excluded"):
-                for f in r.get("flags") or []:
-                    reasons[f] = reasons.get(f, 0) + 1
-        why.append(f"{n_ex} combination(s) were excluded: " + "; ".join(
-            f"{k} ({v})" for k, v in sorted(reasons.items())) + ".")
+    excluded = [r for r in records if r.get("excluded")]
+    if excluded:
+        v_best = best.get(col)
+        better = [r for r in excluded if _finite(r.get(col)) and _finite(v_best)
+                  and ((float(r[col]) > float(v_best)) if larger else
+                       (float(r[col]) < float(v_best)))]
+        text = f"{len(excluded)} combination(s) were excluded (their reasons are in the notes "
+        text += "after the ranking)."
+        if better:
+            shown = better[:2]
+            text += (f" {len(better)} of them would score better by {label}; the best of "
+                     "those: " + "; ".join(
+                         f"{r['turbine_id']} at {r['position_id']} ({format_cell(col, r[col])})"
+                         f" is out because {', '.join(_exclusion_reasons(r)) or 'of a limit'}"
+                         for r in shown) + ".")
+        why.append(text)
     if best.get("flags"):
         why.append("Notes on this position: " + "; ".join(best["flags"]) + ".")
     lines.append(Bullets(tuple(why)))
@@ -503,7 +549,8 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
     a = evaluation.assessment
     site = a.site
     doc = rank_document(evaluation)
-    records = doc["positions"]
+    records = [dict(r) for r in doc["positions"]]
+    raw = evaluation.table.to_dict("records")
     stamp = _timestamp(generated_at)
     sha = doc["site"]["site_file_sha256"]
     assessor = (assessor or site.assessor or "").strip()
@@ -542,14 +589,22 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
     cols = ["rank", "position_id", "turbine_id", "hub_height_m", "mean_speed_ms", centre]
     if any("p90_aep_kwh" in r for r in records):
         cols.append("p90_aep_kwh")
-    cols += ["capacity_factor", "flags"]
+    cols += ["capacity_factor", "status"]
+    for r in records:
+        r["status"] = "excluded" if r.get("excluded") else "eligible"
     rank_caption = ("Every position and turbine combination, best first; excluded ones are "
-                    "ranked last with the reason.")
+                    "ranked last. Their reasons, and advice for the others, follow.")
     if centre == "aep_kwh":
         rank_caption += (" Net AEP is the central (P50) estimate after losses; no P90 was "
                          "computed for this site.")
+    noted = [r for r in records if r.get("flags")]
+    notes_table = Table("notes", ("Rank", "Position", "Turbine", "Notes and exclusions"),
+                        tuple((str(r["rank"]), r["position_id"], r["turbine_id"],
+                               "; ".join(r["flags"])) for r in noted), ("r", "l", "l", "l"),
+                        "Reasons for exclusion and advice, per combination.")
     sections.append(Section("ranking", "Ranked positions", (
-        _records_table("ranking", records, cols, rank_caption),)))
+        _records_table("ranking", records, cols, rank_caption),)
+        + ((notes_table,) if noted else ())))
 
     # 4. Costs.
     cost_cols = [c for c in ("installed_cost", "lcoe_per_kwh", "payback_years")
@@ -570,7 +625,8 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
     if cost_cols:
         cost_blocks = (econ, _records_table(
             "costs", records, ["rank", "position_id", "turbine_id"] + cost_cols,
-            f"Cost metrics per combination ({e.currency})."), turb_costs)
+            f"Cost metrics per combination ({e.currency}). A payback of \"never\" means the "
+            "yearly income does not cover operation and maintenance.", raw=raw), turb_costs)
     else:
         cost_blocks = (econ, turb_costs, Paragraph(
             "No cost metrics (cost of energy, payback) were computed for this site.", "note"))
@@ -613,14 +669,14 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
               ("l", "l", "l", "r", "r", "r", "r", "l", "r")))))
 
     # 7. Further results: every other column, in chunks that fit a page.
-    shown = set(cols) | set(cost_cols) | {"position_id", "turbine_id", "rank"}
-    extra = [c for c in (records[0].keys() if records else [])
-             if c not in shown and c != "flags"]
+    shown = set(cols) | set(cost_cols) | {"position_id", "turbine_id", "rank", "flags",
+                                          "status"}
+    extra = [c for c in (records[0].keys() if records else []) if c not in shown]
     further = []
     for i in range(0, len(extra), 6):
         chunk = extra[i:i + 6]
         further.append(_records_table(f"further-{i // 6 + 1}", records,
-                                      ["rank", "position_id", "turbine_id"] + chunk))
+                                      ["rank", "position_id", "turbine_id"] + chunk, raw=raw))
     if not further:
         further.append(Paragraph("No further results.", "note"))
     sections.append(Section("further", "Further results per combination", tuple(further)))

@@ -52,7 +52,7 @@ def _figure(key, title, caption, build) -> Figure:
 
 
 #: Roof zones of the building model, by the name of their clearance diagnostic.
-ZONE_NAMES = {"recirculation": "recirculation zone", "turbulence": "high-turbulence zone",
+ZONE_NAMES = {"recirculation": "recirculation", "turbulence": "high turbulence",
               "wake": "roof wake"}
 
 
@@ -92,6 +92,26 @@ def roof_zone_bands(evaluation, position_id: str) -> list:
     return bands
 
 
+def _profile_top_m(assessment, position_id: str) -> float:
+    # The profile chart's height range (as engine.charts.profile_table draws it) [m].
+    pos = next(p for p in assessment.positions if p.id == position_id)
+    hub = assessment.hub_height_m(pos)
+    return max(2.0 * hub, hub + 6.0)
+
+
+def _merge_close_bands(bands: list, min_gap_m: float) -> list:
+    """Bands whose tops lie within ``min_gap_m`` become one, so their labels do not overlap."""
+    out = []
+    for b in sorted(bands, key=lambda b: b["top_m"]):
+        if out and b["top_m"] - out[-1]["top_m"] < min_gap_m:
+            last = out[-1]
+            out[-1] = {"name": f"{last['name']} / {b['name']}",
+                       "bottom_m": min(last["bottom_m"], b["bottom_m"]), "top_m": b["top_m"]}
+        else:
+            out.append(dict(b))
+    return out
+
+
 def summary_figures(evaluation, position_id: str | None, turbine_id: str | None) -> list:
     """The summary's charts: plan, wind roses, profile at the recommended position, yields."""
     a = evaluation.assessment
@@ -106,16 +126,34 @@ def summary_figures(evaluation, position_id: str | None, turbine_id: str | None)
         f"{a.climate.n_sectors} sectors, at the climate's own height of "
         f"{a.climate.height_m:g} m.",
         lambda: charts.wind_rose(a.climate, evaluation.climate.air_density_kgm3)))
+    kinds = {p.id: p.kind for p in a.positions}
+    profiles = []
     if position_id is not None and turbine_id is not None:
-        zones = roof_zone_bands(evaluation, position_id)
-        zone_text = ("Shaded bands: the rotor disc and the roof zones from the building model."
-                     if zones else "Shaded band: the rotor disc. The building model reported "
-                                   "no roof-zone heights for this position.")
+        profiles.append(("profile", position_id, turbine_id, "the recommended position"))
+    if position_id is None or kinds.get(position_id) != "roof":
+        # Roof zones matter on roofs: show the best-ranked roof row too (eligible or not).
+        roof_rows = evaluation.table[evaluation.table["kind"] == "roof"]
+        if len(roof_rows):
+            r = roof_rows.iloc[0]
+            profiles.append(("profile-roof", str(r["position_id"]), str(r["turbine_id"]),
+                             "the best-ranked roof position"))
+    for key, pid, tid, which in profiles:
+        zones = _merge_close_bands(roof_zone_bands(evaluation, pid),
+                                   0.05 * _profile_top_m(a, pid))
+        if zones:
+            zone_text = ("Shaded bands: the rotor disc and, from the roof up, the roof zones of "
+                         "the building model (highest boundary over the main energy sectors).")
+        elif kinds.get(pid) == "roof":
+            zone_text = ("Shaded band: the rotor disc. The building model reported no "
+                         "roof-zone heights for this position.")
+        else:
+            zone_text = "Shaded band: the rotor disc (no roof zones: not on a roof)."
         figs.append(_figure(
-            "profile", f"Vertical profile at {position_id}",
+            key, f"Vertical profile at {pid}, {which}",
             "Mean undisturbed wind speed against height (the transfer the ranking starts "
             f"from, before building effects), with the roof level and hub height. {zone_text}",
-            lambda: charts.vertical_profile(evaluation, position_id, turbine_id, zones=zones)))
+            lambda pid=pid, tid=tid, zones=zones: charts.vertical_profile(
+                evaluation, pid, tid, zones=zones)))
     n = min(len(evaluation.table), 30)
     figs.append(_figure(
         "yield", "Yield by position and turbine",

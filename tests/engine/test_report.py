@@ -135,7 +135,12 @@ def test_ranking_numbers_match_rank_json(demo, rank_json_text):
     for shown, want in zip(body, truth):
         for head, cell in zip(header, shown):
             col = cols[head]
+            if col == "status":
+                assert cell == ("excluded" if want["excluded"] else "eligible")
+                continue
             assert cell == report.format_cell(col, want.get(col)), (head, want["rank"])
+        notes = {r[0]: r[3] for r in doc.tables["table-notes"][1:]}
+        assert notes.get(str(want["rank"]), "") == "; ".join(want["flags"])
         # Physics bounds on what is printed: rated power caps the yield (8760 h x rated).
         assert 0.0 <= want["capacity_factor"] <= 1.0
         assert want["aep_kwh"] <= HOURS_PER_YEAR * want["rated_power_kw"] + 1e-9
@@ -144,6 +149,7 @@ def test_ranking_numbers_match_rank_json(demo, rank_json_text):
                    if isinstance(b, report.Paragraph))
     assert f"{first['turbine_id']} at {first['position_id']} (rank {first['rank']})" in rec
     assert f"{first['aep_kwh']:.0f} kWh" in rec
+    assert set(header) >= {"P50 AEP [kWh/yr]", "P90 AEP [kWh/yr]", "Capacity factor"}
 
 
 def test_cell_formats_round_half_even_free():
