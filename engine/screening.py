@@ -333,7 +333,7 @@ CELL_M = 20.0
 HALF_CELLS = 5
 #: Quantum of the summed areas [m²] and area-heights [m³]: sums are kept as whole numbers of
 #: this quantum, so they are exact and do not depend on how the table is split into parts.
-AREA_QUANTUM = 0.01
+AREA_QUANTUM = 1e-4
 #: Largest number of grid cells held at once while summing neighbourhoods.
 MAX_BAND_CELLS = 20_000_000
 
@@ -632,7 +632,7 @@ def with_plan_positions(checked: pd.DataFrame, origin_deg) -> pd.DataFrame:
 
 def good_rows(checked: pd.DataFrame, rejected_lines=()) -> pd.DataFrame:
     """Rows with no problem and not among ``rejected_lines`` (duplicate ids)."""
-    ok = (checked["problem"] == "").to_numpy()
+    ok = (checked["problem"] == "").to_numpy().copy()
     if len(rejected_lines):
         ok &= ~np.isin(checked["line"].to_numpy(), np.asarray(rejected_lines, np.int64))
     return checked[ok]
@@ -707,8 +707,23 @@ def free_stream(climate, roughness_m, displacement_m, hub_height_m, transfer_set
     d = np.asarray(displacement_m, float)
     st = transfer_settings
     if st.method == "power_law":
-        ratio = transfer.speed_ratio_power_law(hub - d, climate.height_m - climate.displacement_m,
-                                               z0, climate.roughness_m, st.power_law_exponent)
+        # Held at z_min above the displacement plane, like EN 1991-1-4 (as the transfer does).
+        z_to = np.maximum(hub - d, profiles.minimum_height_m(z0))
+        z_from = max(climate.height_m - climate.displacement_m,
+                     float(profiles.minimum_height_m(climate.roughness_m)))
+        if st.power_law_exponent > 0:
+            ratio = transfer.speed_ratio_power_law(z_to, z_from, None, climate.roughness_m,
+                                                   st.power_law_exponent)
+        else:
+            # The ASHRAE row depends on the roughness class only: one call per class present
+            # (engine.transfer maps a roughness to its row with these bounds).
+            bounds = [b for b, _ in transfer._ASHRAE_Z0_BOUNDS]
+            cls = np.searchsorted(np.asarray(bounds[:-1]), z0, side="right")
+            ratio = np.empty_like(z_to)
+            for j in np.unique(cls):
+                sel = cls == j
+                ratio[sel] = transfer.speed_ratio_power_law(
+                    z_to[sel], z_from, float(z0[sel][0]), climate.roughness_m, 0.0)
     else:
         ratio = profiles.transfer_speed_ratio(hub, z0, climate.height_m, climate.roughness_m,
                                               d, climate.displacement_m)
@@ -845,7 +860,7 @@ def suitability(best_cf, mast_m, hub_m, sur: dict, rows: pd.DataFrame, ctx: Scre
                     np.where(best_cf >= st.cf_marginal_below, 1,
                              np.where(best_cf >= st.cf_unsuitable_below, 2, 3)))
     mast_over = mast_m > limit + 1e-9
-    hub_low = hub_m <= sur["displacement_m"] + sur["roughness_m"]
+    hub_low = hub_m <= sur["displacement_m"]
     code = np.where(mast_over | hub_low, 3, code)
     pct = lambda v: f"{v * 100:g} %"  # noqa: E731 - a label, formatted once per run
     by_cf = np.array([
@@ -864,7 +879,8 @@ def suitability(best_cf, mast_m, hub_m, sur: dict, rows: pd.DataFrame, ctx: Scre
     extra = [
         (mast_over, f"needs a mast above the {limit:g} m limit to clear the roof's "
                     "turbulence zone"),
-        (hub_low, "rotor at or below the displacement height of the surroundings"),
+        (hub_low, "hub at or below the displacement height of the surroundings: deep in "
+                  "their wake, the profile there is only held at its lowest value"),
         (sur["plan_area_fraction"] > st.dense_plan_fraction,
          "dense surroundings slow the wind"),
         (rows["height_m"].to_numpy(float) >= st.tall_ratio * sur["surroundings_height_m"],

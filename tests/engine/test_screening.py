@@ -1,0 +1,325 @@
+"""Portfolio screening: same numbers as the detailed assessment, engines identical, rows checked."""
+from __future__ import annotations
+
+import math
+import sys
+from dataclasses import replace
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy import integrate
+
+from engine import cli, model, pipeline, screening, sitefile
+from engine.errors import InputError
+
+ROOT = Path(__file__).resolve().parents[2]
+DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
+SAMPLE = ROOT / "demo_sites" / "district_1000.csv"
+sys.path.insert(0, str(ROOT / "demo_sites"))
+import make_district  # noqa: E402
+
+
+@pytest.fixture(scope="module")
+def ctx():
+    return screening.context_from_assessment(sitefile.load(DEMO))
+
+
+@pytest.fixture(scope="module")
+def sample_result(ctx):
+    return screening.screen_local(SAMPLE, ctx)
+
+
+def _compare_with_detailed(result, ctx, picks):
+    for i in picks:
+        row = result.table.iloc[i]
+        ev = pipeline.evaluate(screening.assessment_for_building(row, ctx))
+        det = ev.table.set_index("turbine_id")
+        for t in ctx.turbines:
+            # Same functions, same inputs: equal to floating-point rounding.
+            assert row[f"aep_kwh_{t.id}"] == pytest.approx(det.loc[t.id, "aep_kwh"], rel=1e-12)
+            assert row[f"capacity_factor_{t.id}"] == pytest.approx(
+                det.loc[t.id, "capacity_factor"], rel=1e-12)
+            assert row["mean_speed_ms"] == pytest.approx(det.loc[t.id, "mean_speed_ms"], rel=1e-12)
+            assert row["hub_height_m"] == pytest.approx(det.loc[t.id, "hub_height_m"], rel=1e-12)
+            assert row["turbulence_intensity"] == pytest.approx(
+                det.loc[t.id, "turbulence_intensity"], rel=1e-12)
+            assert row["min_clear_mast_m"] == pytest.approx(
+                det.loc[t.id, "min_clear_mast_m"], rel=1e-12)
+
+
+def test_screening_equals_detailed_assessment(ctx, sample_result):
+    """Each building's screening numbers equal the detailed assessment of that building."""
+    n = len(sample_result.table)
+    _compare_with_detailed(sample_result, ctx, [0, 1, n // 3, n // 2, n - 2, n - 1])
+
+
+@pytest.mark.parametrize("transfer", [
+    model.TransferSettings(method="power_law"),
+    model.TransferSettings(adjust_shape_with_height=True),
+])
+def test_screening_equals_detailed_with_other_transfer(ctx, transfer):
+    """The equality holds for the power-law transfer and the height-adjusted Weibull shape."""
+    c2 = replace(ctx, transfer=transfer)
+    frame = pd.read_csv(SAMPLE).iloc[:300]
+    res = screening.screen_local(frame, c2)
+    _compare_with_detailed(res, c2, [0, 150, 299])
+
+
+def test_mast_clears_turbulence_zone_with_largest_rotor(ctx, sample_result):
+    """The chosen mast keeps the largest rotor's lowest tip above the zone's top at the hub."""
+    t = sample_result.table
+    r = max(x.rotor_radius_m for x in ctx.turbines)
+    assert np.all(t["mast_height_m"] - r >= t["min_clear_mast_m"] - 1e-9)
+    assert np.all(t["mast_height_m"] >= 0.5)  # Position model: mast at least 0.5 m
+
+
+def test_results_bounded_by_physics(ctx, sample_result):
+    """Energy never exceeds rated power all year; speeds and fractions stay physical."""
+    t = sample_result.table
+    for tb in ctx.turbines:
+        # Common practice: AEP <= 8760 h x rated power; capacity factor in [0, 1].
+        assert np.all(t[f"aep_kwh_{tb.id}"] >= 0)
+        assert np.all(t[f"aep_kwh_{tb.id}"] <= 8760 * tb.rated_power_w / 1000)
+        assert np.all((t[f"capacity_factor_{tb.id}"] >= 0) & (t[f"capacity_factor_{tb.id}"] <= 1))
+    assert np.all(t["mean_speed_ms"] >= 0)
+    assert np.all((t["plan_area_fraction"] > 0) & (t["plan_area_fraction"] < 1))
+    # Macdonald et al. (1998): 0 <= d < H and z0 > 0.
+    assert np.all(t["displacement_m"] < t["surroundings_height_m"])
+    assert np.all(t["roughness_m"] > 0)
+
+
+def test_ranking_by_class_then_yield(sample_result):
+    """Rows are ranked best class first, then larger best yield; ranks run 1..N."""
+    t = sample_result.table
+    assert t["rank"].tolist() == list(range(1, len(t) + 1))
+    assert np.all(np.diff(t["suitability_code"]) >= 0)
+    same = np.diff(t["suitability_code"]) == 0
+    assert np.all(np.diff(t["best_aep_kwh"])[same] <= 0)
+    assert set(t["suitability"]) <= set(screening.CLASSES)
+    assert all(r for r in t["reasons"])
+
+
+def test_classes_follow_capacity_factor_thresholds(ctx, sample_result):
+    """Class boundaries sit at the field-trial capacity factors of the settings (3, 5, 10 %)."""
+    t = sample_result.table
+    st = ctx.settings
+    # Energy Saving Trust (2009) best urban < 3 %; rural ~5 %; Warwick (2009) 4.15 %.
+    assert (st.cf_unsuitable_below, st.cf_marginal_below) == (0.03, 0.05)
+    ok = t["mast_height_m"] <= ctx.ranking.max_mast_height_m
+    cf = t["best_capacity_factor"]
+    assert np.all(t.loc[ok & (cf < 0.03), "suitability"] == "unsuitable")
+    assert np.all(t.loc[ok & (cf >= 0.03) & (cf < 0.05), "suitability"] == "marginal")
+    assert np.all(t.loc[ok & (cf >= 0.05) & (cf < 0.10), "suitability"] == "worth a visit")
+    assert np.all(t.loc[ok & (cf >= 0.10), "suitability"] == "promising")
+
+
+def test_frontal_area_mean_is_cauchy_mean_projection():
+    """Direction-mean frontal area equals the numerically averaged projected width x height."""
+    L, W, H = 30.0, 12.0, 9.0
+
+    def projected(theta):
+        return H * (L * abs(math.sin(theta)) + W * abs(math.cos(theta)))
+
+    # Independent reference: scipy quadrature of the projection over all directions.
+    mean, _ = integrate.quad(projected, 0.0, 2.0 * math.pi, limit=200)
+    assert screening.frontal_area_mean_m2(L, W, H) == pytest.approx(mean / (2 * math.pi), rel=1e-9)
+
+
+def test_neighbourhood_matches_brute_force_and_any_split():
+    """Window sums equal a direct sum over the square, and do not depend on how rows are split."""
+    d = make_district.make_district(3000, seed=7)
+    cells = screening.cell_sums(d.x_m, d.y_m, d.length_m, d.width_m, d.height_m)
+    nb = screening.neighbourhood_lookup(cells)
+    lp, lf, hm = nb.at(d.x_m, d.y_m)
+    cx, cy = screening.cell_index(d.x_m, d.y_m)
+    m, side = screening.HALF_CELLS, (2 * screening.HALF_CELLS + 1) * screening.CELL_M
+    area = (d.length_m * d.width_m).to_numpy()
+    for i in (0, 1234, 2999):
+        sel = (np.abs(cx - cx[i]) <= m) & (np.abs(cy - cy[i]) <= m)
+        # Direct sum over the (2m+1)^2 cells; sums are kept in whole quanta (1e-4 m², m³).
+        q = screening.AREA_QUANTUM
+        assert lp[i] == pytest.approx(area[sel].sum() / side ** 2, abs=sel.sum() * q / side ** 2)
+        assert hm[i] == pytest.approx((area * d.height_m.to_numpy())[sel].sum() / area[sel].sum(),
+                                      rel=1e-7)
+    parts = [screening.cell_sums(*(d[c].iloc[a:b] for c in ("x_m", "y_m", "length_m", "width_m",
+                                                                "height_m")))
+             for a, b in ((0, 1000), (1000, 1001), (1001, 3000))]
+    old = screening.MAX_BAND_CELLS
+    try:
+        screening.MAX_BAND_CELLS = 400  # force many bands
+        nb2 = screening.neighbourhood_lookup(screening.combine_cell_sums(parts))
+    finally:
+        screening.MAX_BAND_CELLS = old
+    assert all(np.array_equal(a, b) for a, b in zip(nb2.at(d.x_m, d.y_m), (lp, lf, hm)))
+
+
+def test_given_fractions_use_macdonald():
+    """Area fractions given in the table give Macdonald's d/H and z0/H for a staggered array."""
+    frame = pd.DataFrame({"id": ["a"], "x_m": [0.0], "y_m": [0.0], "length_m": [10.0],
+                          "width_m": [10.0], "height_m": [10.0], "plan_area_fraction": [0.2],
+                          "frontal_area_fraction": [0.2], "mean_building_height_m": [10.0]})
+    checked = screening.check_part(frame.assign(line=[2]))
+    nb = screening.neighbourhood_lookup(screening.part_cells(checked))
+    sur = screening.surroundings(checked, nb)
+    # Macdonald, Griffiths & Hall (1998), A = 4.43, beta = 1, C_D = 1.2, kappa = 0.4 (recomputed).
+    d_h = 1 + 4.43 ** -0.2 * (0.2 - 1)
+    z0_h = (1 - d_h) * math.exp(-(0.5 * 1.0 * 1.2 / 0.16 * (1 - d_h) * 0.2) ** -0.5)
+    assert d_h == pytest.approx(0.4060, abs=5e-5)  # REFERENCES.md, derived
+    assert sur["displacement_m"][0] == pytest.approx(10 * d_h, rel=1e-12)
+    assert sur["roughness_m"][0] == pytest.approx(10 * z0_h, rel=1e-12)
+
+
+def test_terrain_category_and_roughness_columns():
+    """A terrain category takes EN 1991-1-4 Table 4.1's z0; a given roughness is kept."""
+    frame = pd.DataFrame({"id": ["a", "b"], "x_m": [0.0, 500.0], "y_m": [0.0, 0.0],
+                          "length_m": [10.0, 10.0], "width_m": [10.0, 10.0],
+                          "height_m": [10.0, 10.0], "terrain_category": ["III", ""],
+                          "roughness_m": [np.nan, 0.7], "displacement_m": [np.nan, 3.0]})
+    checked = screening.check_part(frame.assign(line=[2, 3]))
+    nb = screening.neighbourhood_lookup(screening.part_cells(checked))
+    sur = screening.surroundings(checked, nb)
+    assert sur["roughness_m"][0] == 0.3  # EN 1991-1-4 Table 4.1, category III
+    assert sur["displacement_m"][0] == 0.0
+    assert (sur["roughness_m"][1], sur["displacement_m"][1]) == (0.7, 3.0)
+
+
+def test_latitude_longitude_to_local_metres():
+    """Local metres from latitude/longitude agree with the great-circle distance within 0.1 %."""
+    lat0, lon0 = 52.0, 5.0
+    lat, lon = 52.02, 5.03
+    x, y = screening.local_metres(lat, lon, (lat0, lon0))
+    p1, p2, dl = math.radians(lat0), math.radians(lat), math.radians(lon - lon0)
+    # Haversine formula, mean Earth radius 6 371 008.8 m (IUGG).
+    a = math.sin((p2 - p1) / 2) ** 2 + math.cos(p1) * math.cos(p2) * math.sin(dl / 2) ** 2
+    dist = 2 * 6_371_008.8 * math.asin(math.sqrt(a))
+    assert math.hypot(x, y) == pytest.approx(dist, rel=1e-3)
+
+
+def test_bad_rows_reported_good_rows_kept(ctx, tmp_path):
+    """Bad rows are listed by line and id with the fix; every good row is screened."""
+    text = ("id,x_m,y_m,length_m,width_m,height_m,roof_type,zone\n"
+            "g1,0,0,12,8,9,flat,\n"
+            "b1,30,0,12,8,abc,flat,\n"        # line 3: not a number
+            "b2,60,0,-4,8,9,flat,\n"          # line 4: negative length
+            ",90,0,12,8,9,flat,\n"            # line 5: empty id
+            "b4,120,0,12,8,9,domed,\n"        # line 6: unknown roof type
+            "d1,150,0,12,8,9,flat,\n"         # line 7: duplicate id
+            "g2,180,0,12,8,9,pitched,\n"
+            "d1,210,0,12,8,9,flat,\n"         # line 9: duplicate id
+            "g3,240,0,12,8,1,flat,\n"         # line 10: height below 2 m
+            "g4,270,0,12,8,12,,\n")
+    path = tmp_path / "b.csv"
+    path.write_text(text)
+    res = screening.screen_local(path, ctx)
+    where = {w: m for w, m in res.problems}
+    assert "height_m must be a number, got 'abc'" in where["line 3 (id 'b1')"]
+    assert "length_m must be >= 1 and <= 1000, got -4 m" in where["line 4 (id 'b2')"]
+    assert "id is empty" in where["line 5"]
+    assert "roof_type must be one of flat, pitched, got 'domed'" in where["line 6 (id 'b4')"]
+    assert "appears on 2 lines (7, 9)" in where["line 7 (id 'd1')"]
+    assert "line 9 (id 'd1')" in where
+    assert "height_m must be >= 2" in where["line 10 (id 'g3')"]
+    assert sorted(res.table["id"]) == ["g1", "g2", "g4"]
+    assert res.n_rows == 10
+
+
+def test_table_level_problems_raise(ctx, tmp_path):
+    """A table without required columns raises one InputError naming every missing column."""
+    path = tmp_path / "t.csv"
+    path.write_text("name,x,y\na,0,0\n")
+    with pytest.raises(InputError) as e:
+        screening.screen_local(path, ctx)
+    text = str(e.value)
+    assert "'id' is missing" in text and "'height_m' is missing" in text and "unknown column" in text
+    with pytest.raises(InputError):
+        screening.screen_local(tmp_path / "missing.csv", ctx)
+
+
+def test_zone_without_climate_is_a_bad_row(ctx):
+    """With climates for named zones only, a row of another zone is reported, not guessed."""
+    clim = ctx.climates[""]
+    c2 = replace(ctx, climates={"north": clim})
+    frame = pd.DataFrame({"id": ["a", "b"], "x_m": [0.0, 40.0], "y_m": [0.0, 0.0],
+                          "length_m": [10.0, 10.0], "width_m": [10.0, 10.0],
+                          "height_m": [10.0, 10.0], "zone": ["north", "south"]})
+    res = screening.screen_local(frame, c2)
+    assert res.table["id"].tolist() == ["a"]
+    assert "zone 'south' has no climate" in res.problems[0][1]
+
+
+def test_limits_match_the_building_model():
+    """The vectorised row limits are those of engine.model.Building (a value just outside fails)."""
+    base = dict(id="a", x_m=0.0, y_m=0.0, length_m=10.0, width_m=10.0, height_m=10.0)
+    for name in ("x_m", "y_m", "length_m", "width_m", "height_m", "orientation_deg",
+                 "roof_pitch_deg", "parapet_height_m"):
+        lo, hi, _, lo_open, hi_open = screening.NUMERIC_LIMITS[name]
+        model.Building(**{**base, name: lo if not lo_open else lo + 1e-6,
+                          "roof_type": "pitched" if name == "roof_pitch_deg" else "flat"})
+        for bad in (lo - 1e-6, hi + 1e-6 if not hi_open else hi):
+            with pytest.raises(InputError):
+                model.Building(**{**base, name: bad})
+
+
+def test_parquet_rows_numbered(ctx, tmp_path):
+    """A Parquet table is read by row groups; bad rows are reported by row number."""
+    frame = make_district.make_district(50, seed=3)
+    frame.loc[10, "width_m"] = 0.2
+    path = tmp_path / "d.parquet"
+    frame.to_parquet(path, row_group_size=20)
+    res = screening.screen_local(path, ctx)
+    assert res.problems[0][0] == f"row 11 (id '{frame.loc[10, 'id']}')"
+    assert res.n_screened == 49
+
+
+def test_cli_screen_writes_ranked_table(tmp_path, capsys):
+    """`python -m engine screen` writes the ranked CSV, lists bad rows, exits 0."""
+    frame = pd.read_csv(SAMPLE).iloc[:40].copy()
+    frame["height_m"] = frame["height_m"].astype(object)
+    frame.loc[5, "height_m"] = "=1+1"
+    src = tmp_path / "b.csv"
+    frame.to_csv(src, index=False)
+    out = tmp_path / "ranked.csv"
+    rc = cli.main(["screen", str(src), "--out", str(out), "--climate", str(DEMO), "--quiet",
+                   "--turbines", "ha-1k5,va-1k"])
+    assert rc == 0
+    back = pd.read_csv(out)
+    assert len(back) == 39 and list(back.columns[:3]) == ["rank", "id", "line"]
+    assert "aep_kwh_va-1k" in back.columns and "aep_kwh_ha-5k" not in back.columns
+    err = capsys.readouterr().err
+    assert "line 7 (id" in err and "structural engineer" in err
+    assert cli.main(["screen", str(tmp_path / "none.csv"), "--out", str(out)]) == 2
+
+
+@pytest.fixture(scope="module")
+def dask_client():
+    """A two-worker Dask cluster on the loopback interface, closed after the tests."""
+    distributed = pytest.importorskip("distributed")
+    cluster = distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                       dashboard_address=None, host="127.0.0.1")
+    client = distributed.Client(cluster)
+    try:
+        yield client
+    finally:
+        client.close()
+        cluster.close()
+
+
+@pytest.mark.slow
+def test_local_and_dask_identical_on_ten_thousand(ctx, dask_client, tmp_path):
+    """Local and Dask engines give identical tables on 10^4 buildings, bad rows included."""
+    path = tmp_path / "d10k.csv"
+    frame = make_district.make_district(10_000, seed=11)
+    frame.loc[17, "height_m"] = -3.0
+    frame.to_csv(path, index=False)
+    loc = screening.screen_local(path, ctx, part_bytes=150_000)
+    dk = screening.screen_dask(path, ctx, dask_client, part_bytes=150_000)
+    pd.testing.assert_frame_equal(loc.table, dk.table, check_exact=True)
+    assert loc.problems == dk.problems and len(loc.problems) == 1
+    assert len(dk.table) == 9_999
+    out = tmp_path / "ranked.csv"
+    screening.screen_dask(path, ctx, dask_client, part_bytes=150_000, out_csv=out)
+    back = pd.read_csv(out)
+    assert back["id"].tolist() == loc.table["id"].tolist()
+    assert back["rank"].tolist() == loc.table["rank"].tolist()
