@@ -326,6 +326,22 @@ def bin_weights_w(power_edges_w):
     return w
 
 
+def _bins_sum_and_slope(frequency, x, k, weights_w, hours):
+    """Method-of-bins energy and its derivative d E / d ln λ at λ = 1 (scale c → λc) [Wh].
+
+    Notes
+    -----
+    E(λ) = N_h Σ_s f_s Σ_j exp(-x_j λ^-k) w_j, so dE/d ln λ = N_h Σ_s f_s k_s Σ_j x_j
+    exp(-x_j) w_j: the exact slope of the binned sum, from the same exponentials.
+    """
+    g = np.exp(np.negative(x))
+    gw = g * np.asarray(weights_w, float)
+    f = np.asarray(frequency)
+    e = hours * np.sum(f * gw.sum(axis=-1), axis=-1)
+    slope = hours * np.sum(f * np.asarray(k) * np.einsum("...j,...j->...", gw, x), axis=-1)
+    return e, slope
+
+
 def _bins_sum(frequency, x, weights_w, hours):
     """N_h Σ_s f_s Σ_j exp(-x_j) w_j, the method of bins with :func:`bin_weights_w` [Wh]."""
     g = np.exp(np.negative(x))
@@ -397,8 +413,7 @@ class BinsSetup:
     frequency: np.ndarray  # (P, 1, S)
     weibull_k: np.ndarray  # (P, T, S)
     weibull_x: np.ndarray  # (P, T, S, J): (V_j / c_eff)^k
-    curves_w: np.ndarray  # (P, T, S, J): corrected power at the edges
-    weights_w: np.ndarray  # (P, T, S, J): bin_weights_w(curves_w)
+    weights_w: np.ndarray  # (P, T, S, J): bin_weights_w of the corrected curves
     skew_factor: np.ndarray  # (P, T, S)
 
     def energy_wh(self, scale=1.0, hours=HOURS_PER_YEAR) -> np.ndarray:
@@ -458,11 +473,13 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     skew_f = np.stack([factors[a] for a in axes], axis=1)  # (P, T, S)
     grid = ti_grid_for(ti)
     table = turbulent_curve_table_w(turbines, air_density_kgm3, grid, edges, reference_ti)
-    curves = lookup_turbulent_curve_w(table, grid, ti)
+    # Bin weights are linear in the curve, so interpolating the table's weights in TI is
+    # the same as taking the weights of the interpolated curves, and cheaper.
+    weights = lookup_turbulent_curve_w(bin_weights_w(table), grid, ti)
     k_b = np.ascontiguousarray(np.broadcast_to(k[:, None, :], skew_f.shape))
     return BinsSetup(frequency=freq[:, None, :], weibull_k=k_b,
                      weibull_x=_weibull_x(edges, k_b, c[:, None, :] * skew_f),
-                     curves_w=curves, weights_w=bin_weights_w(curves), skew_factor=skew_f)
+                     weights_w=weights, skew_factor=skew_f)
 
 
 @dataclass(frozen=True)
@@ -513,13 +530,29 @@ def speed_sensitivity(setup: BinsSetup, step=SENSITIVITY_STEP) -> np.ndarray:
     return np.where(ok, sens, 0.0)
 
 
+def energy_and_sensitivity(setup: BinsSetup, hours=HOURS_PER_YEAR):
+    """Energy (P, T) [Wh] and d ln E / d ln V (P, T) [-] from the derivative of the bins sum.
+
+    Notes
+    -----
+    s = (dE/d ln λ) / E with :func:`_bins_sum_and_slope`; the same quantity as the central
+    difference of :func:`speed_sensitivity` (to O(h²)) at the cost of one pass.
+    """
+    e, slope = _bins_sum_and_slope(setup.frequency, setup.weibull_x, setup.weibull_k,
+                                   setup.weights_w, hours)
+    sens = np.divide(slope, e, out=np.zeros_like(e), where=e > 0)
+    return e, sens
+
+
 def yield_arrays(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflow_skew_deg,
                  turbines, air_density_kgm3, losses, edges_ms=DEFAULT_EDGES_MS,
-                 turbulence=True, reference_ti=0.0, sensitivity_step=SENSITIVITY_STEP):
+                 turbulence=True, reference_ti=0.0, sensitivity_step=0.0):
     """Gross and net yield with every correction, and the speed sensitivity, arrays (P, T).
 
     Parameters are those of :func:`prepare_bins`, plus ``losses``
-    (:class:`engine.model.Losses`) and the sensitivity step (:func:`speed_sensitivity`).
+    (:class:`engine.model.Losses`) and ``sensitivity_step``: 0 takes the slope of the bins
+    sum (:func:`energy_and_sensitivity`), a step h > 0 the central difference
+    (:func:`speed_sensitivity`).
 
     Notes
     -----
@@ -529,10 +562,13 @@ def yield_arrays(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     setup = prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity,
                          inflow_skew_deg, turbines, air_density_kgm3, edges_ms, turbulence,
                          reference_ti)
-    gross = setup.energy_wh(1.0)
+    if sensitivity_step:
+        gross, sens = setup.energy_wh(1.0), speed_sensitivity(setup, sensitivity_step)
+    else:
+        gross, sens = energy_and_sensitivity(setup)
     rated = np.array([t.rated_power_w for t in turbines], float)
     return YieldArrays(gross_wh=gross, net_wh=gross * net_fraction(losses),
-                       speed_sensitivity=speed_sensitivity(setup, sensitivity_step),
+                       speed_sensitivity=sens,
                        skew_factor_mean=np.sum(setup.frequency * setup.skew_factor, axis=-1),
                        rated_power_w=rated, setup=setup)
 

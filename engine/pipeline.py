@@ -42,7 +42,8 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     gross_kwh = y.gross_wh / 1000.0
     net_kwh = y.net_wh / 1000.0
     pv = uncertainty.analytic_p_values(y.setup, energy.net_fraction(assessment.losses),
-                                       assessment.uncertainty, y.speed_sensitivity)
+                                       assessment.uncertainty, y.speed_sensitivity,
+                                       gross_wh=y.gross_wh)
     mean_ms = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.weibull_c_ms)  # (P,)
     pos = assessment.positions
     mast = np.array([float(p.mast_height_m) for p in pos])

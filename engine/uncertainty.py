@@ -109,12 +109,13 @@ def p_values(p50, speed_sensitivity, uncertainty, levels=LEVELS) -> dict:
 
 
 def analytic_p_values(setup, net_fraction, uncertainty, local_sensitivity=None,
-                      levels=LEVELS) -> dict:
+                      levels=LEVELS, gross_wh=None) -> dict:
     """P50, P75, P90 of net energy for every row of a bins setup, ``{level: (P, T)}`` [Wh].
 
     The sensitivity of each level is :func:`level_sensitivity`; P50 is the net energy.
+    ``gross_wh`` is ``setup.energy_wh(1.0)`` when already computed.
     """
-    gross = setup.energy_wh(1.0)
+    gross = setup.energy_wh(1.0) if gross_wh is None else np.asarray(gross_wh, float)
     p50 = gross * float(net_fraction)
     sens = {lv: (level_sensitivity(setup, uncertainty, lv, local_sensitivity, gross) if lv > 50
                  else (np.zeros_like(p50) if local_sensitivity is None else local_sensitivity))

@@ -208,6 +208,18 @@ def test_cubic_curve_energy_and_sensitivity():
     assert y.speed_sensitivity[0, 0] == pytest.approx(3.0, rel=5e-3)
 
 
+def test_slope_of_bins_sum_equals_central_difference():
+    """d ln E / d ln V from the bins-sum derivative equals a numerical central difference."""
+    lib = turbines.load_library()
+    rng = np.random.default_rng(11)
+    setup = energy.prepare_bins(rng.dirichlet(np.ones(4), 3), rng.uniform(1.5, 2.5, (3, 4)),
+                                rng.uniform(3, 9, (3, 4)), rng.uniform(0.05, 0.4, (3, 4)),
+                                rng.uniform(0, 30, (3, 4)), lib, 1.2)
+    e, s = energy.energy_and_sensitivity(setup)
+    assert e == pytest.approx(setup.energy_wh(1.0), rel=1e-12)
+    assert s == pytest.approx(energy.speed_sensitivity(setup, 1e-4), rel=1e-6)
+
+
 def test_losses_chain_multiplies():
     """Losses multiply: (1 - 0.05)(1 - 0.04)(1 - 0.02)(1 - 0.01) (common practice)."""
     lo = model.Losses(availability=0.05, electrical=0.04, icing=0.02, cut_out_hysteresis=0.01)
