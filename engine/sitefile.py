@@ -110,7 +110,8 @@ def _build(cls, data, where: str, problems: Problems):
         if key not in fields:
             close = [n for n in fields if n.split("_")[0] == str(key).split("_")[0]]
             hint = f"; did you mean {close[0]!r}?" if close else ""
-            problems.add(f"{prefix}{key}", f"unknown key{hint} (allowed: {', '.join(fields)})")
+            shown = key if str(key).strip() else repr(key)  # an empty key must still be named
+            problems.add(f"{prefix}{shown}", f"unknown key{hint} (allowed: {', '.join(fields)})")
     kwargs, ok = {}, True
     for name, f in fields.items():
         required = f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING
