@@ -607,8 +607,8 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
         + ((notes_table,) if noted else ())))
 
     # 4. Costs.
-    cost_cols = [c for c in ("installed_cost", "lcoe_per_kwh", "payback_years")
-                 if any(c in r for r in records)]
+    cost_cols = [c for c in ("installed_cost", "lcoe_per_kwh", "payback_years", "npv",
+                             "co2_avoided_kg_per_year") if any(c in r for r in records)]
     cost_cols += sorted({c for r in records for c in r if c not in cost_cols
                          and c not in COLUMN_FORMATS and any(w in c for w in _COST_WORDS)})
     e = a.economics
@@ -800,7 +800,9 @@ table { border-collapse: collapse; width: 100%; margin: .5rem 0 1rem; font-size:
 th, td { border-bottom: 1px solid var(--rule); padding: .25rem .45rem; vertical-align: top;
          text-align: left; }
 th { background: #f3f5f7; font-weight: 600; }
-td.r, th.r { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+td.r, th.r { text-align: right; font-variant-numeric: tabular-nums; }
+td.r { white-space: nowrap; }
+.wide { overflow-x: auto; }
 table.kv td:first-child { width: 14rem; color: var(--muted); }
 td { overflow-wrap: anywhere; }
 td.n { white-space: nowrap; overflow-wrap: normal; }
@@ -810,7 +812,7 @@ caption { caption-side: bottom; text-align: left; color: var(--muted); font-size
 .caution { background: var(--warnbg); color: var(--warn); padding: .5rem .8rem;
            border-left: 4px solid var(--warn); border-radius: 2px; }
 figure { margin: 1rem 0 1.5rem; break-inside: avoid; }
-figure svg { max-width: 100%; height: auto; }
+figure svg { max-width: 100%; height: auto; display: block; margin: 0 auto; }
 figcaption { color: var(--muted); font-size: .85rem; }
 footer { margin-top: 2rem; color: var(--muted); font-size: .8rem; border-top: 1px solid
          var(--rule); padding-top: .5rem; }
@@ -845,7 +847,7 @@ def _html_table(t: Table) -> str:
         out.append("<tr>" + "".join(f'<td class="{_cell_class(v, a)}">{_e(v)}</td>'
                                     for v, a in zip(row, t.align)) + "</tr>")
     out.append("</tbody></table>")
-    return "\n".join(out)
+    return '<div class="wide">' + "\n".join(out) + "</div>"
 
 
 def _html_block(b, attachments) -> str:
