@@ -1,0 +1,144 @@
+"""District screening page: which roofs of a whole portfolio are worth a visit?
+
+Upload a buildings table (or take the invented demo district), screen it with the current
+assessment's climate, site and turbines (:func:`engine.screening.screen_local`), then look at
+the plan, sort the shortlist and open one building in the detailed assessment. The page only
+arranges and calls: every number comes from :mod:`engine.screening`.
+
+"Open in detailed assessment" leaves the building's :class:`engine.model.Assessment` in
+``st.session_state[engine.screening.SESSION_KEY]`` (``"screening_assessment"``) and makes it
+the working copy of the detailed steps.
+"""
+from __future__ import annotations
+
+import tempfile
+from pathlib import Path
+
+import streamlit as st
+
+from dashboard import state, widgets
+from engine import screening, sitefile
+from engine.errors import InputError
+from engine.exports import safe_csv
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO_DISTRICT = ROOT / "demo_sites" / "district_1000.csv"
+#: Rows shown in the shortlist table (the download has them all).
+SHORTLIST_ROWS = 500
+SHORTLIST_COLUMNS = ["rank", "id", "suitability", "best_turbine_id", "best_aep_kwh",
+                     "best_capacity_factor", "mast_height_m", "hub_height_m", "mean_speed_ms",
+                     "height_m", "roof_type", "plan_area_fraction", "zone", "reasons", "line"]
+
+
+def _context(turbine_ids):
+    return screening.context_from_assessment(st.session_state["valid"], turbine_ids)
+
+
+def _run(source_path: Path, turbine_ids) -> None:
+    ctx = _context(turbine_ids)
+    bar = st.progress(0.0, text="Starting")
+    try:
+        res = screening.screen_local(source_path, ctx,
+                                     progress=lambda f, text: bar.progress(min(f, 1.0), text=text))
+    except InputError as e:
+        bar.empty()
+        st.session_state["screening_result"] = None
+        st.session_state["screening_error"] = e.problems
+        return
+    bar.progress(1.0, text="Done")
+    st.session_state["screening_result"] = res
+    st.session_state["screening_context"] = ctx
+    st.session_state["screening_error"] = None
+
+
+st.title("District screening")
+st.caption("A first pass over many buildings: roughness of each building's surroundings from "
+           "the table itself, a mast at the roof's centre that clears the roof's turbulence "
+           "zone, yield of each chosen turbine with the same engine as the detailed "
+           "assessment, and a class with its reasons. It says which roofs are worth a visit, "
+           "not which are safe or consented.")
+widgets.cautions()
+
+valid = st.session_state["valid"]
+with st.form("screening_form"):
+    upload = st.file_uploader("Buildings table (CSV or Parquet)", type=["csv", "parquet"],
+                              key="screening_upload",
+                              help="Columns: id, x_m, y_m (or latitude_deg, longitude_deg), "
+                                   "length_m, width_m, height_m; optional orientation_deg, "
+                                   "roof_type, roof_pitch_deg, parapet_height_m, zone and the "
+                                   "surroundings (see docs/screening.md).")
+    st.caption("Without an upload, the invented demo district (1000 buildings) is screened.")
+    ids = [t.id for t in valid.turbines]
+    chosen = st.multiselect("Turbines to screen with", ids, default=ids, key="screening_turbines",
+                            help="From the current assessment's turbines step.")
+    st.caption(f"Climate, site and losses: those of the current assessment "
+               f"(**{valid.site.name}**, climate “{valid.climate.label or 'unnamed'}”).")
+    go = st.form_submit_button("Screen", type="primary")
+
+if go:
+    if not chosen:
+        st.error("Choose at least one turbine.")
+    elif upload is not None:
+        suffix = Path(upload.name).suffix.lower() or ".csv"
+        with tempfile.TemporaryDirectory() as tmp:
+            path = Path(tmp) / f"buildings{suffix}"
+            path.write_bytes(upload.getvalue())
+            _run(path, chosen)
+    else:
+        _run(DEMO_DISTRICT, chosen)
+
+err = st.session_state.get("screening_error")
+if err:
+    st.error("The table cannot be screened:\n\n" + "\n".join(f"- **{w}**: {m}" for w, m in err))
+
+res = st.session_state.get("screening_result")
+if res is not None:
+    table = res.table
+    counts = table["suitability"].value_counts()
+    cols = st.columns(len(screening.CLASSES) + 1)
+    cols[0].metric("Screened", f"{res.n_screened:,d} of {res.n_rows:,d}")
+    for c, name in zip(cols[1:], screening.CLASSES):
+        c.metric(name.capitalize(), f"{int(counts.get(name, 0)):,d}")
+    if res.problems:
+        with st.expander(f"{len(res.bad_rows):,d} row(s) left out: fix them and screen again",
+                         expanded=True):
+            st.table([{"where": w, "problem and fix": m} for w, m in res.problems])
+    st.altair_chart(screening.plan_scatter_chart(table), width="content")
+
+    st.subheader("Shortlist")
+    show = st.multiselect("Classes", list(screening.CLASSES),
+                          default=[c for c in screening.CLASSES if c != "unsuitable"],
+                          key="screening_classes")
+    short = table[table["suitability"].isin(show)][SHORTLIST_COLUMNS].head(SHORTLIST_ROWS)
+    st.caption(f"Best {len(short):,d} rows of the chosen classes, ranked; click a column "
+               "header to sort. The download holds every row and every turbine.")
+    st.dataframe(short, hide_index=True, key="screening_shortlist",
+                 column_config={
+                     "best_aep_kwh": st.column_config.NumberColumn("net AEP [kWh/yr]",
+                                                                   format="%.0f"),
+                     "best_capacity_factor": st.column_config.NumberColumn(
+                         "capacity factor", format="%.3f"),
+                     "mast_height_m": st.column_config.NumberColumn("mast [m]", format="%.1f"),
+                     "hub_height_m": st.column_config.NumberColumn("hub [m]", format="%.1f"),
+                     "mean_speed_ms": st.column_config.NumberColumn("mean speed [m/s]",
+                                                                    format="%.2f"),
+                 })
+    st.download_button("Download the ranked table (CSV)", safe_csv(table).encode("utf-8"),
+                       file_name="screening_ranked.csv", mime="text/csv",
+                       key="screening_download")
+
+    st.subheader("Open one building in the detailed assessment")
+    if len(short):
+        rank_of = dict(zip(short["id"], short["rank"]))
+        pick = st.selectbox("Building", list(rank_of), key="screening_pick",
+                            format_func=lambda i: f"{i} (rank {int(rank_of[i])})")
+        if st.button("Open in detailed assessment", key="screening_open"):
+            row = short[short["id"] == pick].index[0]
+            row = table.loc[row]
+            a = screening.assessment_for_building(row, st.session_state["screening_context"])
+            st.session_state[screening.SESSION_KEY] = a
+            state.replace_draft(sitefile.assessment_to_dict(a), f"screening: building {pick}")
+            st.success(f"Building {pick} is now the working assessment: one roof position at "
+                       "its centre on the screening's mast. Go to the steps to refine it.")
+    else:
+        st.info("No building in the chosen classes.")
