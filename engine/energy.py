@@ -9,7 +9,8 @@ The chain for one site, all arrays broadcast over (position P, turbine T, sector
    tabulated once per turbine over the turbulence intensities that occur
    (:func:`turbulent_curve_table_w`) and looked up per position and sector;
 3. skewed inflow lowers the speed the rotor sees, by axis type (:func:`skew_speed_factor`);
-4. the method of bins sums the curve against each sector's Weibull (:func:`bins_energy_wh`);
+4. the method of bins sums the curve against each sector's Weibull (:class:`BinsSetup`,
+   :func:`aep_method_of_bins_wh` for a plain curve);
 5. the losses chain turns gross into net energy (:func:`losses_chain`).
 
 :func:`yield_arrays` runs steps 1-5 and the speed sensitivity d ln E / d ln V used by
