@@ -24,6 +24,7 @@ import json
 import math
 import os
 import re
+import shlex
 import unicodedata
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -399,6 +400,17 @@ def _parse_timestamp(text: str) -> _dt.datetime:
     return _dt.datetime.strptime(text, "%Y-%m-%d %H:%M:%S UTC").replace(tzinfo=_dt.timezone.utc)
 
 
+def _reproduce_command(stem, stamp, assessor, file_assessor, notes) -> str:
+    """The command line that rebuilds this summary from its attached site file."""
+    parts = ["python", "-m", "engine", "report", f"{stem}.site.json", "--out", "summary.html",
+             "--generated-at", stamp.replace(" UTC", "Z").replace(" ", "T")]
+    if assessor and assessor != (file_assessor or "").strip():
+        parts += ["--assessor", assessor]
+    if notes.strip():
+        parts += ["--notes", notes]
+    return shlex.join(parts)
+
+
 def _library_versions() -> str:
     parts = []
     for name, dist in (("numpy", "numpy"), ("scipy", "scipy"), ("pandas", "pandas"),
@@ -754,9 +766,7 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
             ("Libraries", _library_versions()),
             ("Site file SHA-256", sha),
             ("Summary made", stamp),
-            ("To reproduce", f"python -m engine report {stem}.site.json --out summary.html "
-                             f"--generated-at \"{stamp.replace(' UTC', 'Z').replace(' ', 'T')}\""
-                             + (" --assessor NAME" if assessor else "")),
+            ("To reproduce", _reproduce_command(stem, stamp, assessor, site.assessor, notes)),
         ), ("l", "l")),
         Paragraph("The chain has no random parts: the same site file with the same tool and "
                   "libraries gives the same numbers, and the same time stamp the same summary. "

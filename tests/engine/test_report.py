@@ -152,13 +152,37 @@ def test_ranking_numbers_match_rank_json(demo, rank_json_text):
     assert set(header) >= {"P50 AEP [kWh/yr]", "P90 AEP [kWh/yr]", "Capacity factor"}
 
 
-def test_cell_formats_round_half_even_free():
+def test_pdf_ranking_rows_match_rank_json(demo, rank_json_text, tmp_path):
+    """Each ranked row of the PDF reads rank, ids and numbers as the rank JSON has them."""
+    truth = json.loads(rank_json_text)["positions"]
+    lines = _pdf_text(demo["pdf"], tmp_path).splitlines()
+    for r in truth:
+        cells = [str(r["rank"]), r["position_id"], r["turbine_id"],
+                 report.format_cell("hub_height_m", r["hub_height_m"]),
+                 report.format_cell("mean_speed_ms", r["mean_speed_ms"]),
+                 report.format_cell("p50_aep_kwh", r["p50_aep_kwh"]),
+                 report.format_cell("p90_aep_kwh", r["p90_aep_kwh"]),
+                 report.format_cell("capacity_factor", r["capacity_factor"])]
+        pattern = re.compile(r"^\s*" + r"\s+".join(re.escape(c) for c in cells) + r"\s+(eligible|excluded)\s*$")
+        assert any(pattern.match(line) for line in lines), r["rank"]
+    exe = shutil.which("pdfdetach")
+    if exe:
+        f = tmp_path / "s.pdf"
+        f.write_bytes(demo["pdf"])
+        listing = subprocess.run([exe, "-list", str(f)], capture_output=True, text=True,
+                                 check=True).stdout
+        for suffix in (".site.json", ".rank.json", ".ranking.csv", ".effective-climate.csv"):
+            assert suffix in listing
+
+
+def test_cell_formats():
     """Formats print the value rounded to the stated decimals (Python's format, common practice)."""
     assert report.format_cell("aep_kwh", 5685.84) == "5686"
     assert report.format_cell("capacity_factor", 0.12981) == "13.0 %"
     assert report.format_cell("mean_speed_ms", 4.6146) == "4.61"
     assert report.format_cell("p90_aep_kwh", float("nan")) == report.DASH
     assert report.format_cell("p90_aep_kwh", None) == report.DASH
+    assert report.format_cell("payback_years", None, float("inf")) == "never"
 
 
 def test_embedded_data_files_match_exports(demo, rank_json_text):
@@ -397,3 +421,20 @@ def test_reproducibility_block_lists_every_parameter(demo):
     n_leaves = sum(1 for _ in report._flatten(raw))
     assert len(params) == len(report._flatten(sitefile.assessment_to_dict(demo["ev"].assessment)))
     assert len(params) >= n_leaves
+
+
+@pytest.mark.slow
+def test_printed_command_reproduces_the_summary(demo, tmp_path, monkeypatch):
+    """Running the summary's own 'To reproduce' command on its attached site file gives the same HTML."""
+    import shlex
+
+    doc = _parse(demo["html"])
+    links = {a["download"]: a["href"] for t, a in doc.tags if t == "a" and "download" in a}
+    name = next(n for n in links if n.endswith(".site.json"))
+    (tmp_path / name).write_bytes(base64.b64decode(links[name].split(",", 1)[1]))
+    command = dict(demo["summary"].table("reproduce").rows)["To reproduce"]
+    argv = shlex.split(command)
+    assert argv[:4] == ["python", "-m", "engine", "report"]
+    monkeypatch.chdir(tmp_path)
+    _cli_stdout(argv[3:])
+    assert (tmp_path / "summary.html").read_text(encoding="utf-8") == demo["html"]
