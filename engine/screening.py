@@ -740,7 +740,7 @@ def free_stream(climate, roughness_m, displacement_m, hub_height_m, transfer_set
 
 
 def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_density_kgm3,
-                        transfer_settings):
+                        transfer_settings, clearance_only: bool = False):
     """Effective climate of a roof position at each building's centre, one position per row.
 
     The steps :func:`engine.flow.effective_climate` takes for an assessment of that one
@@ -751,7 +751,8 @@ def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_dens
     Returns
     -------
     :class:`engine.flow.EffectiveClimate` with P = len(rows); diagnostics (P,):
-    ``min_clear_mast_m``, ``in_turbulence_zone``, ``in_recirculation_zone``, ``in_roof_wake``
+    ``min_clear_mast_m``, ``in_turbulence_zone``, ``in_recirculation_zone``, ``in_roof_wake``.
+    With ``clearance_only``, just the (P,) ``min_clear_mast_m`` [m] (the roof flow is skipped).
     """
     from . import buildings, flow, roofflow, roofzones
 
@@ -777,6 +778,10 @@ def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_dens
     zero = np.zeros(P)
     X, Xd = buildings.roof_fetch_m(zero, zero, L, W, phi, sector_deg)
     roof_len = X + Xd
+    zone_top = roofzones.turbulence_zone_top_m(X, R, roof_len) + para[:, None]
+    min_clear = roofzones.min_clear_mast_m(zone_top, main)
+    if clearance_only:
+        return min_clear
     z = (mast - para)[:, None]
     clear = roofzones.zone_clearances_m(z, X, R, roof_len)
     gamma = np.abs(np.mod(sector_deg[None, :] - phi[:, None] - 90.0 + 90.0, 180.0) - 90.0)
@@ -784,8 +789,6 @@ def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_dens
     s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds)
     ti = roofflow.roof_turbulence_intensity(ti0, s_roof, z, X, R, roof_len, dt)
     skew = roofflow.roof_inflow_skew_deg(z, X, R, roof_len)
-    zone_top = roofzones.turbulence_zone_top_m(X, R, roof_len) + para[:, None]
-    min_clear = roofzones.min_clear_mast_m(zone_top, main)
     diag = {"min_clear_mast_m": min_clear,
             "in_turbulence_zone": ((clear["turbulence"] < 0) & main).any(axis=1),
             "in_recirculation_zone": ((clear["recirculation"] < 0) & main).any(axis=1),
@@ -814,8 +817,8 @@ def choose_mast_m(rows: pd.DataFrame, sur: dict, climate, air_density_kgm3, ctx)
     step = ctx.settings.mast_step_m
     mast = np.full(len(rows), r + 1.0)
     for _ in range(2 if ctx.transfer.adjust_shape_with_height else 1):
-        eff = roof_centre_climate(rows, sur, mast, climate, air_density_kgm3, ctx.transfer)
-        need = eff.diagnostics["min_clear_mast_m"] + r
+        need = roof_centre_climate(rows, sur, mast, climate, air_density_kgm3, ctx.transfer,
+                                   clearance_only=True) + r
         mast = np.clip(np.ceil(np.round(need / step, 9)) * step, 0.5, 60.0)
     return np.round(mast, 6)
 
@@ -875,7 +878,6 @@ def suitability(best_cf, mast_m, hub_m, sur: dict, rows: pd.DataFrame, ctx: Scre
     cf_code = np.where(best_cf >= st.cf_promising_from, 0,
                        np.where(best_cf >= st.cf_marginal_below, 1,
                                 np.where(best_cf >= st.cf_unsuitable_below, 2, 3)))
-    text = by_cf[cf_code]
     extra = [
         (mast_over, f"needs a mast above the {limit:g} m limit to clear the roof's "
                     "turbulence zone"),
@@ -888,9 +890,17 @@ def suitability(best_cf, mast_m, hub_m, sur: dict, rows: pd.DataFrame, ctx: Scre
         (rows["roof_type"].to_numpy(object) == "pitched",
          "pitched roof: the flow over it depends strongly on direction"),
     ]
-    for mask, words in extra:
-        text = np.where(mask, text + ("; " + words), text)
-    return code.astype(np.int64), text
+    # Each row's reasons are one combination of a few fixed phrases: write each combination
+    # present once and let the rows share it (no text work per row).
+    combo = cf_code.astype(np.int64)
+    for bit, (mask, _) in enumerate(extra):
+        combo = combo + (np.asarray(mask, bool).astype(np.int64) << (2 + bit))
+    uniq, inverse = np.unique(combo, return_inverse=True)
+    phrases = np.empty(len(uniq), dtype=object)
+    for i, u in enumerate(uniq):
+        parts = [by_cf[u & 3]] + [w for bit, (_, w) in enumerate(extra) if u >> (2 + bit) & 1]
+        phrases[i] = "; ".join(parts)
+    return code.astype(np.int64), phrases[inverse.ravel()]
 
 
 def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
@@ -1030,7 +1040,10 @@ def _bad_rows(checked_list, dups: pd.DataFrame) -> pd.DataFrame:
 
 def finish_table(table: pd.DataFrame, turbines) -> pd.DataFrame:
     """Fixed column order and dtypes (text as object), so every engine returns the same table."""
-    table = table[result_columns(turbines)].reset_index(drop=True)
+    cols = result_columns(turbines)
+    if list(table.columns) != cols:
+        table = table[cols]
+    table = table.reset_index(drop=True)
     for c in table.columns:
         if not pd.api.types.is_numeric_dtype(table[c].dtype) and table[c].dtype != object:
             table[c] = table[c].astype(object)
@@ -1078,7 +1091,9 @@ def screen_local(source, ctx: ScreeningContext, progress=None, part_bytes: int =
     for i, c in enumerate(checked):
         results.append(screen_part(c, ctx, nb, rejected))
         tell(0.3 + 0.7 * (i + 1) / len(checked), f"screened part {i + 1} of {len(checked)}")
-    table = rank_results(pd.concat(results, ignore_index=True)) if results else _empty_result(ctx)
+    table = pd.concat(results, ignore_index=True) if results else _empty_result(ctx)
+    del results
+    table = rank_results(table)
     bad = _bad_rows(checked, dups)
     word = "row" if parts and parts[0].kind == "parquet" else "line"
     return ScreeningResult(table=finish_table(table, ctx.turbines),
