@@ -149,7 +149,7 @@ def roof_fetch_m(u_m, v_m, length_m, width_m, orientation_deg, direction_deg):
 
     def exit_t(c, h, d):
         # Distance along direction d from coordinate c to the side it crosses.
-        with np.errstate(divide="ignore", invalid="ignore"):
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             t = np.where(d > 1e-12, (h - c) / d, np.where(d < -1e-12, (h + c) / -d, np.inf))
         return t
 
