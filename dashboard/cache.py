@@ -50,3 +50,51 @@ def climate_from_upload(data: bytes, file_name: str, height_m: float, roughness_
         displacement_m=displacement_m, n_sectors=n_sectors, speed_unit=speed_unit,
         altitude_m=altitude_m)
     return sitefile.assessment_to_dict(clim), report.to_text(), list(diag.get("import_notes", ()))
+
+
+@st.cache_data(show_spinner=False, max_entries=96)
+def chart_spec(kind: str, text: str, speed_unit: str, length_unit: str,
+               position_id: str = "", turbine_id: str = "") -> dict:
+    """Vega-Lite spec of one chart of the results, cached on everything it depends on.
+
+    Built without Altair's per-object schema checks (the builders' specs are checked once by
+    the tests), which would otherwise dominate a what-if rerun.
+    """
+    from altair.utils.schemapi import debug_mode
+
+    from engine import charts
+    ev = evaluate_text(text)
+    a = ev.assessment
+    with debug_mode(False):
+        if kind == "plan":
+            chart = charts.plan_view(ev, length_unit, selected=position_id or None)
+        elif kind == "bars":
+            chart = charts.ranking_bars(ev.table)
+        elif kind == "rose":
+            chart = charts.wind_rose(a.climate, ev.climate.air_density_kgm3)
+        elif kind == "dist":
+            chart = charts.speed_distribution(ev, position_id, speed_unit)
+        elif kind == "profile":
+            try:
+                from engine.report_charts import roof_zone_bands
+                zones = roof_zone_bands(ev, position_id)
+            except (ImportError, ValueError, KeyError):
+                zones = []
+            chart = charts.vertical_profile(ev, position_id, turbine_id, length_unit,
+                                            speed_unit, zones=zones)
+        elif kind == "curve":
+            tur = next(t for t in a.turbines if t.id == turbine_id)
+            chart = charts.power_curve(tur, speed_unit,
+                                       corrected=charts.corrected_curve(ev, position_id,
+                                                                        turbine_id),
+                                       distribution=charts.hub_distribution(ev, position_id,
+                                                                            speed_unit))
+        elif kind == "monthly":
+            m = charts.monthly_energy_kwh(ev, position_id, turbine_id)
+            if m is None:
+                return {}
+            chart = charts.monthly_energy(m, f"Monthly net energy at {position_id} with "
+                                             f"{turbine_id}")
+        else:
+            raise KeyError(kind)
+        return chart.to_dict(validate=False)

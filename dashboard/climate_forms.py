@@ -223,5 +223,7 @@ def summary() -> None:
               f" {state.unit_of('length')}", f"{units.speed_from_si(mean, s_unit):.2f} {s_unit}")
     c2.metric("Prevailing sector", f"{charts.compass_name(deg)} ({deg:.0f}°)", f"{f:.0%} of the time",
               delta_color="off", delta_arrow="off")
-    c3.metric("Sectors", f"{clim.n_sectors}", clim.source.replace("_", " "), delta_color="off", delta_arrow="off")
-    st.altair_chart(charts.wind_rose(clim), width="content")
+    c3.metric("Sectors", f"{clim.n_sectors}", clim.source.replace("_", " "), delta_color="off",
+              delta_arrow="off")
+    s_, l_ = state.units_now()
+    st.vega_lite_chart(cache.chart_spec("rose", state.draft_text(), s_, l_), width="content")

@@ -426,7 +426,9 @@ def monthly_energy(frame: pd.DataFrame, title: str) -> alt.Chart:
 
 def ranking_bars(table: pd.DataFrame, top: int = 12) -> alt.LayerChart:
     """Ranked rows as horizontal bars of net energy, with the P50–P90 range where present."""
-    df = table.head(top).copy()
+    keep = [c for c in ("rank", "position_id", "turbine_id", "excluded", "aep_kwh",
+                        "p50_aep_kwh", "p90_aep_kwh") if c in table.columns]
+    df = table.head(top)[keep].copy()  # only what is drawn: Altair serialises every column
     df["row"] = [f"{r}. {p} / {t}" for r, p, t in zip(df["rank"], df["position_id"],
                                                        df["turbine_id"])]
     df["status"] = np.where(df["excluded"], "excluded", "eligible")

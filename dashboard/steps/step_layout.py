@@ -1,8 +1,8 @@
 """Step 3: buildings, candidate positions and the places where noise matters."""
 import streamlit as st
 
-from dashboard import state, widgets
-from engine import charts, model
+from dashboard import cache, state, widgets
+from engine import model
 
 widgets.step_banner("layout", "3. Buildings & positions")
 st.caption("Local plan coordinates: x east, y north, from any fixed point on the site. "
@@ -84,7 +84,7 @@ widgets.row_messages("positions", prow, P_LABELS)
 widgets.row_messages("receptors", rrow, {f: lab for f, lab, _, _ in R_COLS})
 
 if not state.step_problems("layout"):
-    ev = state.evaluation()
-    st.altair_chart(charts.plan_view(ev, L), width="content")
+    st.vega_lite_chart(cache.chart_spec("plan", state.draft_text(), state.unit_of("speed"), L),
+                       width="content")
 else:
     st.info("The plan is drawn again once the tables above have no problems.", icon=":material/info:")

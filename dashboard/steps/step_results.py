@@ -2,8 +2,8 @@
 import numpy as np
 import streamlit as st
 
-from dashboard import results_view, state, widgets
-from engine import charts, units
+from dashboard import cache, results_view, state, widgets
+from engine import units
 
 ss = st.session_state
 widgets.step_banner("results", "5. Results")
@@ -14,72 +14,97 @@ if bad:
     st.warning("Shown from the last complete inputs. Needs attention: "
                + ", ".join(t for _, t in bad) + ".", icon=":material/warning:")
 
+OBJECTIVE_NAMES = {"net_aep": "net energy", "p90_aep": "P90 energy", "lcoe": "cost per kWh",
+                   "payback": "payback time"}
+
+
+# The what-if controls and the ranking form one fragment: a change there reruns only this
+# part, so the new ranking shows at once; the plan and charts follow in a full rerun.
+@st.fragment
+def whatif_and_ranking():
+    S, L = state.units_now()
+    a = ss["valid"]
+    pos_ids = [p.id for p in a.positions]
+    if widgets.editing():
+        with st.container(border=True):
+            st.markdown("**What if…** change a value and the ranking follows at once.")
+            c1, c2, c3, c4 = st.columns(4)
+            with c1:
+                if ss.get("whatif_position") not in pos_ids:
+                    ss["whatif_position"] = pos_ids[0]
+                wp = st.selectbox("Position", pos_ids,
+                                  index=pos_ids.index(ss["whatif_position"]),
+                                  key="whatif_position_w")
+                ss["whatif_position"] = wp
+                i = next(j for j, p in enumerate(ss["draft"]["positions"])
+                         if p.get("id") == wp)
+                widgets.number("Mast height", f"positions.{i}.mast_height_m", "length", "%.1f",
+                               step=0.5, scope="whatif")
+            with c2:
+                widgets.choice("Rank by", "ranking.objective", ["net_aep", "p90_aep", "lcoe",
+                                                                 "payback"],
+                               fmt=OBJECTIVE_NAMES.get, scope="whatif")
+                widgets.number("Tallest mast allowed", "ranking.max_mast_height_m", "length",
+                               "%.1f", step=0.5, scope="whatif")
+            with c3:
+                widgets.number("Price of a kWh", "economics.tariff_per_kwh", fmt="%.3f",
+                               step=0.01, scope="whatif")
+                widgets.number("Downtime loss (fraction)", "losses.availability", fmt="%.3f",
+                               step=0.01, scope="whatif")
+            with c4:
+                name = st.text_input("Save as scenario", key="scenario_name",
+                                     placeholder=f"Scenario {len(ss['scenarios']) + 1}")
+                if st.button("Save scenario", key="save_scenario",
+                             disabled=state.any_problems()):
+                    used = state.save_scenario(name)
+                    st.toast(f"Saved “{used}”.")
+                if ss["scenarios"]:
+                    st.caption("Saved: " + ", ".join(ss["scenarios"]))
+                st.page_link("steps/step_compare.py", label="Compare what-ifs",
+                             icon=":material/compare_arrows:")
+            widgets.toggle("Keep the rotor clear of the roof's high-turbulence zone",
+                           "ranking.require_clear_of_turbulence_zone", scope="whatif")
+        state.validate()
+        a = ss["valid"]
+
+    text = state.draft_text()
+    ev = cache.evaluate_text(text)
+    table = ev.table
+    ss["ranking_text"] = text
+
+    # ---------------------------------------------------------------- headline and ranking
+    ok = table[~table["excluded"]]
+    best = ok.iloc[0] if len(ok) else None
+    c1, c2, c3, c4 = st.columns(4)
+    if best is not None:
+        c1.metric("Best position", f"{best['position_id']}", f"with {best['turbine_id']}",
+                  delta_color="off", delta_arrow="off")
+        c2.metric("Net energy, P50", f"{best['aep_kwh']:,.0f} kWh/yr")
+        if "p90_aep_kwh" in best.index:
+            c3.metric("P90 (exceeded 9 years in 10)", f"{best['p90_aep_kwh']:,.0f} kWh/yr")
+        if "lcoe_per_kwh" in best.index and np.isfinite(best["lcoe_per_kwh"]):
+            c4.metric("Cost per kWh", f"{best['lcoe_per_kwh']:.2f} {a.economics.currency}")
+    else:
+        st.error("Every position is excluded by a constraint; see the reasons in the table.",
+                 icon=":material/error:")
+
+    st.subheader("Ranked positions")
+    st.table(results_view.top_rows(table, S, L, n=5))
+
+    if not ss.get("full_run", True) and ss.get("charts_text") != text:
+        st.rerun(scope="app")  # bring the plan and charts up to date
+
+
+ss["full_run"] = True
+whatif_and_ranking()
 a = ss["valid"]
 pos_ids = [p.id for p in a.positions]
 tur_ids = [t.id for t in a.turbines]
-
-# ---------------------------------------------------------------- what-if controls
-if widgets.editing():
-    with st.container(border=True):
-        st.markdown("**What if…** change a value and the ranking follows at once.")
-        c1, c2, c3, c4 = st.columns(4)
-        with c1:
-            if ss.get("whatif_position") not in pos_ids:
-                ss["whatif_position"] = pos_ids[0]
-            wp = st.selectbox("Position", pos_ids, index=pos_ids.index(ss["whatif_position"]),
-                              key="whatif_position_w")
-            ss["whatif_position"] = wp
-            i = next(j for j, p in enumerate(ss["draft"]["positions"]) if p.get("id") == wp)
-            widgets.number("Mast height", f"positions.{i}.mast_height_m", "length", "%.1f",
-                           step=0.5, scope="whatif")
-        with c2:
-            widgets.choice("Rank by", "ranking.objective", ["net_aep", "p90_aep", "lcoe",
-                                                             "payback"],
-                           fmt=lambda o: {"net_aep": "net energy", "p90_aep": "P90 energy",
-                                          "lcoe": "cost per kWh", "payback": "payback time"}[o],
-                           scope="whatif")
-            widgets.number("Tallest mast allowed", "ranking.max_mast_height_m", "length",
-                           "%.1f", step=0.5, scope="whatif")
-        with c3:
-            widgets.number("Price of a kWh", "economics.tariff_per_kwh", fmt="%.3f", step=0.01,
-                           scope="whatif")
-            widgets.number("Downtime loss (fraction)", "losses.availability", fmt="%.3f",
-                           step=0.01, scope="whatif")
-        with c4:
-            name = st.text_input("Save as scenario", key="scenario_name",
-                                 placeholder=f"Scenario {len(ss['scenarios']) + 1}")
-            if st.button("Save scenario", key="save_scenario", disabled=state.any_problems()):
-                used = state.save_scenario(name)
-                st.toast(f"Saved “{used}”.")
-            if ss["scenarios"]:
-                st.caption("Saved: " + ", ".join(ss["scenarios"]))
-            st.page_link("steps/step_compare.py", label="Compare what-ifs", icon=":material/compare_arrows:")
-        widgets.toggle("Keep the rotor clear of the roof's high-turbulence zone",
-                       "ranking.require_clear_of_turbulence_zone", scope="whatif")
-    state.validate()
-    a = ss["valid"]
-
-ev = state.evaluation()
+text = ss["ranking_text"]
+ev = cache.evaluate_text(text)
 table = ev.table
-
-# ---------------------------------------------------------------- headline and ranking
 ok = table[~table["excluded"]]
 best = ok.iloc[0] if len(ok) else None
-c1, c2, c3, c4 = st.columns(4)
-if best is not None:
-    c1.metric("Best position", f"{best['position_id']}", f"with {best['turbine_id']}",
-              delta_color="off", delta_arrow="off")
-    c2.metric("Net energy, P50", f"{best['aep_kwh']:,.0f} kWh/yr")
-    if "p90_aep_kwh" in best.index:
-        c3.metric("P90 (exceeded 9 years in 10)", f"{best['p90_aep_kwh']:,.0f} kWh/yr")
-    if "lcoe_per_kwh" in best.index and np.isfinite(best["lcoe_per_kwh"]):
-        c4.metric("Cost per kWh", f"{best['lcoe_per_kwh']:.2f} {a.economics.currency}")
-else:
-    st.error("Every position is excluded by a constraint; see the reasons in the table.",
-             icon=":material/error:")
-
-st.subheader("Ranked positions")
-st.table(results_view.top_rows(table, S, L, n=5))
 with st.expander(f"All {len(table)} rows with every figure and reason", expanded=False):
     st.dataframe(results_view.display_table(table, S, L), hide_index=True, width="stretch")
 
@@ -112,7 +137,7 @@ with c2:
     for f in row["flags"]:
         st.markdown(f"- {f}")
 with c1:
-    st.altair_chart(charts.plan_view(ev, L, selected=dp), width="stretch")
+    st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="stretch")
     st.caption("Colour: the position's place in the ranking (dark blue is best); grey: every "
                "turbine there is excluded by a constraint. Ring: the position in detail.")
 
@@ -124,33 +149,14 @@ view = st.segmented_control("Chart", list(VIEWS), format_func=VIEWS.get,
                             default=ss["detail_view"], key="detail_view_w")
 ss["detail_view"] = view or ss["detail_view"]
 view = ss["detail_view"]
+spec = cache.chart_spec(view, text, S, L, dp, dt)
+if spec:
+    st.vega_lite_chart(spec, width="content")
+elif view == "monthly":
+    st.info("This climate has no monthly mean speeds, so the year is not split into months. "
+            "A measured record gives them.", icon=":material/info:")
 if view == "rose":
-    st.altair_chart(charts.wind_rose(a.climate, ev.climate.air_density_kgm3),
-                    width="content")
     st.caption("The reference climate before buildings: share of the time and of the wind's "
                "energy from each sector.")
-elif view == "dist":
-    st.altair_chart(charts.speed_distribution(ev, dp, S), width="content")
-elif view == "profile":
-    try:
-        from engine.report_charts import roof_zone_bands
-        zones = roof_zone_bands(ev, dp)
-    except (ImportError, ValueError, KeyError):
-        zones = []
-    st.altair_chart(charts.vertical_profile(ev, dp, dt, L, S, zones=zones),
-                    width="content")
-elif view == "curve":
-    tur = next(t for t in a.turbines if t.id == dt)
-    st.altair_chart(charts.power_curve(tur, S, corrected=charts.corrected_curve(ev, dp, dt),
-                                       distribution=charts.hub_distribution(ev, dp, S)),
-                    width="content")
-elif view == "monthly":
-    m = charts.monthly_energy_kwh(ev, dp, dt)
-    if m is None:
-        st.info("This climate has no monthly mean speeds, so the year is not split into "
-                "months. A measured record gives them.", icon=":material/info:")
-    else:
-        st.altair_chart(charts.monthly_energy(m, f"Monthly net energy at {dp} with {dt}"),
-                        width="content")
-else:
-    st.altair_chart(charts.ranking_bars(table), width="content")
+ss["charts_text"] = text
+ss["full_run"] = False

@@ -1,0 +1,117 @@
+"""Dashboard speed and memory in a real browser, measured side by side in one run.
+
+1. Time from a what-if change (a mast height typed and Enter pressed) to the updated ranking
+   on the page, median of several changes, against the 300 ms target; next to it, the time
+   the chain itself takes for the same site (``pipeline.evaluate``), so the share spent in
+   the dashboard and the browser is visible.
+2. The server's resident memory before and after 100 what-if changes, each to a new mast
+   height (so the cache keeps filling to its bound), against the 50 MB target.
+
+Run: ``python benchmarks/bench_dashboard.py`` (needs /usr/bin/chromium and playwright).
+"""
+from __future__ import annotations
+
+import statistics
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT))
+sys.path.insert(0, str(ROOT / "tests"))
+
+from conftest import (ARTIFACTS, CHROMIUM, CHROMIUM_ARGS, free_port,  # noqa: E402
+                      start_dashboard, stop, wait_healthy)
+
+IDLE = '[data-testid="stApp"][data-test-script-state="notRunning"]'
+TARGET_MS = 300.0
+TARGET_MB = 50.0
+
+
+def rss_mb(pid: int) -> float:
+    """Resident set size of a process [MB] from /proc."""
+    for line in Path(f"/proc/{pid}/status").read_text().splitlines():
+        if line.startswith("VmRSS:"):
+            return int(line.split()[1]) / 1024.0
+    return float("nan")
+
+
+def chain_ms(repeats: int = 20) -> float:
+    from engine import pipeline, sitefile
+    a = sitefile.load(ROOT / "demo_sites" / "larkspur_yard.json")
+    pipeline.evaluate(a)
+    t = []
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        pipeline.evaluate(a)
+        t.append((time.perf_counter() - t0) * 1000)
+    return statistics.median(t)
+
+
+def main(n_timed: int = 9, n_memory: int = 100) -> int:
+    from playwright.sync_api import expect, sync_playwright
+
+    ARTIFACTS.mkdir(exist_ok=True)
+    port = free_port()
+    proc = start_dashboard(port, ARTIFACTS / "bench-dashboard-server.log")
+    try:
+        wait_healthy(port, proc)
+        with sync_playwright() as pw:
+            browser = pw.chromium.launch(executable_path=CHROMIUM, headless=True,
+                                         args=CHROMIUM_ARGS)
+            page = browser.new_page(viewport={"width": 1400, "height": 1000})
+            page.set_default_timeout(20000)
+            page.goto(f"http://127.0.0.1:{port}/results")
+            page.wait_for_selector(IDLE, state="attached")
+            page.get_by_role("combobox", name="Position", exact=True).first.click()
+            page.get_by_role("option", name="terrace-ridge", exact=True).click()
+            page.wait_for_selector(IDLE, state="attached")
+            mast = page.get_by_role("spinbutton", name="Mast height (m)")
+            top = page.locator('[data-testid="stTable"]').first.locator("tbody tr").first
+            # The terrace at 10 m ranks first and at 3 m does not: each change flips the top row.
+            states = [("10", "terrace-ridge"), ("3", "yard-mast")]
+            for value, first in states:  # warm the caches once
+                mast.fill(value)
+                mast.press("Enter")
+                expect(top).to_contain_text(first)
+            page.wait_for_selector(IDLE, state="attached")
+            times = []
+            for i in range(n_timed):
+                value, first = states[i % 2]
+                mast.fill(value)
+                t0 = time.perf_counter()
+                mast.press("Enter")
+                expect(top).to_contain_text(first, timeout=10000)
+                times.append((time.perf_counter() - t0) * 1000)
+                page.wait_for_selector(IDLE, state="attached")
+            page.wait_for_timeout(500)
+            before = rss_mb(proc.pid)
+            t0 = time.perf_counter()
+            for i in range(n_memory):
+                mast.fill(f"{3.0 + 0.1 * (i + 1):.1f}")
+                mast.press("Enter")
+                page.wait_for_selector(IDLE, state="attached")
+            page.wait_for_timeout(1000)
+            after = rss_mb(proc.pid)
+            memory_s = time.perf_counter() - t0
+            browser.close()
+    finally:
+        stop(proc)
+    med = statistics.median(times)
+    core = chain_ms()
+    print("Dashboard benchmark (demo site, headless Chromium, this machine)")
+    print(f"  widget change -> updated ranking: median {med:.0f} ms of {n_timed} "
+          f"(min {min(times):.0f}, max {max(times):.0f}); target < {TARGET_MS:.0f} ms; "
+          f"ratio to target {med / TARGET_MS:.2f}")
+    print(f"  the chain alone (pipeline.evaluate): median {core:.1f} ms; "
+          f"share of the round trip {core / med:.0%}")
+    print(f"  server RSS: {before:.1f} MB before, {after:.1f} MB after {n_memory} what-if "
+          f"changes ({memory_s:.1f} s); growth {after - before:+.1f} MB; target < "
+          f"{TARGET_MB:.0f} MB; ratio to target {(after - before) / TARGET_MB:.2f}")
+    ok = med < TARGET_MS and (after - before) < TARGET_MB
+    print("  result:", "within both targets" if ok else "OUTSIDE a target")
+    return 0 if ok else 1
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
