@@ -109,9 +109,11 @@ def cmd_screen(args) -> int:
             with Client(args.scheduler) as client:
                 res = screening.screen_dask(args.buildings, ctx, client, out_csv=args.out)
         else:
-            # Thread workers in this process (in-process transport, no network listener):
-            # process workers would re-run this command when they start.
+            # Thread workers in this process (process workers would re-run this command when
+            # they start). TCP on 127.0.0.1: without a host the in-process cluster still opens
+            # its HTTP ports on every interface.
             with LocalCluster(n_workers=args.workers, threads_per_worker=1, processes=False,
+                              protocol="tcp", host="127.0.0.1",
                               dashboard_address=None) as cluster, \
                     Client(cluster) as client:
                 res = screening.screen_dask(args.buildings, ctx, client, out_csv=args.out)

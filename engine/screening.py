@@ -488,7 +488,7 @@ class ScreeningSettings:
     #: Height over the surroundings' mean height from which a building "stands above" them [-].
     tall_ratio: float = 1.5
     #: Buildings evaluated at once (bounds memory: about 50 kB per building and turbine).
-    chunk_rows: int = 500
+    chunk_rows: int = 250
 
     def __post_init__(self):
         p = Problems()
@@ -1170,7 +1170,8 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
         lines = np.concatenate([f["line"] for f in facts] or [np.zeros(0, np.int64)])
         uniq, inverse, counts = np.unique(hashes, return_inverse=True, return_counts=True)
         rejected = np.sort(lines[counts[inverse] > 1])
-        got = dask.compute(*[dask.delayed(_cells_and_ids)(d, rejected)
+        rejected_d = dask.delayed(rejected, traverse=False)
+        got = dask.compute(*[dask.delayed(_cells_and_ids)(d, rejected_d)
                              for d in checked.to_delayed()])
         nb = neighbourhood_lookup(combine_cell_sums([g[0] for g in got]))
         dup_rows = pd.concat([g[1] for g in got], ignore_index=True)
@@ -1178,7 +1179,9 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
         bad = _bad_rows([f["bad"] for f in facts], dups)
         n_rows = int(sum(f["n"] for f in facts))
         empty = _empty_result(ctx)
-        results = checked.map_partitions(screen_part, ctx, nb, rejected, meta=empty)
+        # The neighbourhood table goes into the graph once, not once per partition.
+        shared = [dask.delayed(v, traverse=False) for v in (ctx, nb, rejected)]
+        results = checked.map_partitions(screen_part, *shared, meta=empty)
         word = "row" if parts[0].kind == "parquet" else "line"
         if out_csv is None:
             table = rank_results(results.compute())
