@@ -226,4 +226,5 @@ def summary() -> None:
     c3.metric("Sectors", f"{clim.n_sectors}", clim.source.replace("_", " "), delta_color="off",
               delta_arrow="off")
     s_, l_ = state.units_now()
-    st.vega_lite_chart(cache.chart_spec("rose", state.draft_text(), s_, l_), width="content")
+    st.vega_lite_chart(cache.chart_spec("rose", state.draft_text(), s_, l_), width="content",
+                       theme=None)

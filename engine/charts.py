@@ -183,7 +183,7 @@ def _feature(kind, coords, **props):
 
 
 def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
-              width: int = 620, height: int = 500) -> alt.LayerChart:
+              width: int = 460, height: int = 400) -> alt.LayerChart:
     """Plan of the site: buildings as blocks labelled with height, positions coloured by rank.
 
     Local metres (or feet) east and north, equal scale on both axes, a north arrow and a wedge
@@ -219,7 +219,7 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
     span = max(x1 - x0, y1 - y0, 10.0)
     pad = 0.18 * span
     # Compass in the top-right corner, outside the drawn features.
-    cx, cy, cr = x1 + pad * 0.7, y1 + pad * 0.4, 0.09 * span
+    cx, cy, cr = x1 + pad * 1.3, y1 + pad * 0.6, 0.09 * span
     prev_deg, prev_f = prevailing_sector(a.climate)
     half = 180.0 / a.climate.n_sectors
     wedge = [[cx, cy]]
@@ -237,7 +237,7 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
     ]
     # Frame corners fix the projection's fit to a padded square around everything.
     frame = [_feature("Point", [x0 - pad, y0 - pad], id="frame"),
-             _feature("Point", [x1 + pad * 1.6, y1 + pad * 1.6], id="frame")]
+             _feature("Point", [x1 + pad * 2.1, y1 + pad * 1.8], id="frame")]
     proj = alt.Projection(type="identity", reflectY=True)
 
     def geo(features):
@@ -287,8 +287,10 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
     ).project(**proj.to_dict())
     ring = point_base.transform_filter(alt.datum.selected).mark_point(
         size=650, stroke="#d62", strokeWidth=3, filled=False).project(**proj.to_dict())
-    names = point_base.mark_text(dy=-15, fontSize=10, color="#123").encode(
-        text="position_id:N").project(**proj.to_dict())
+    # Names slant up and to the right of their markers so close neighbours stay readable.
+    names = point_base.mark_text(angle=330, align="left", dx=8, dy=-6, fontSize=10,
+                                 color="#123").encode(text="position_id:N").project(
+        **proj.to_dict())
     return alt.layer(frame_l, blocks, wedge_l, north_l, text_l, dots, ring, names).properties(
         width=width, height=height,
         title=f"Plan view ({lu}, east to the right, north up)").resolve_scale(color="independent")

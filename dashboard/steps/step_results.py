@@ -137,7 +137,7 @@ with c2:
     for f in row["flags"]:
         st.markdown(f"- {f}")
 with c1:
-    st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="stretch")
+    st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="content", theme=None)
     st.caption("Colour: the position's place in the ranking (dark blue is best); grey: every "
                "turbine there is excluded by a constraint. Ring: the position in detail.")
 
@@ -151,7 +151,7 @@ ss["detail_view"] = view or ss["detail_view"]
 view = ss["detail_view"]
 spec = cache.chart_spec(view, text, S, L, dp, dt)
 if spec:
-    st.vega_lite_chart(spec, width="content")
+    st.vega_lite_chart(spec, width="content", theme=None)
 elif view == "monthly":
     st.info("This climate has no monthly mean speeds, so the year is not split into months. "
             "A measured record gives them.", icon=":material/info:")
