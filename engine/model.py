@@ -35,6 +35,8 @@ REGULATION_TYPES = ("stall", "pitch")
 IEC_SMALL_CLASSES = ("I", "II", "III", "IV", "S")
 CLIMATE_SOURCES = ("table", "measured", "long_term", "mean_speed")
 OBJECTIVES = ("net_aep", "p90_aep", "lcoe", "payback")
+TRANSFER_METHODS = ("log_law", "power_law")
+MORPHOMETRY_LAYOUTS = ("staggered", "square")
 
 
 def _raise(p: Problems) -> None:
@@ -416,6 +418,8 @@ class SpotReading:
     reference_speed_ms: tuple[float, ...]
     reference_height_m: float = 10.0
     note: str = ""
+    #: Replace the model's speed-up of this position and sector by the measured one.
+    use_for_calibration: bool = False
 
     def __post_init__(self):
         p = Problems()
@@ -450,6 +454,35 @@ class RankingSettings:
 
 
 @dataclass(frozen=True)
+class TransferSettings:
+    """How the reference climate is carried to the site's terrain and hub heights.
+
+    See :mod:`engine.transfer`. ``log_law``: EN 1991-1-4 terrain factor and log law;
+    ``power_law``: U2 = U1 (z2/z1)^α with ``power_law_exponent`` α, or with α = 0 the exponent
+    and boundary-layer depth of each terrain from the ASHRAE Handbook table.
+    """
+
+    method: str = "log_law"
+    power_law_exponent: float = 0.0
+    #: Derive the site's roughness and displacement from its plan/frontal area fractions and
+    #: mean building height (Macdonald et al. 1998) instead of terrain_roughness_m.
+    use_morphometry: bool = False
+    morphometry_layout: str = "staggered"
+    #: Adjust the Weibull shape k with height (Justus & Mikhail 1976); else k is kept.
+    adjust_shape_with_height: bool = False
+
+    def __post_init__(self):
+        p = Problems()
+        _choice(p, "method", self.method, TRANSFER_METHODS)
+        check_range(p, "power_law_exponent", self.power_law_exponent, 0, 0.6, "")
+        _choice(p, "morphometry_layout", self.morphometry_layout, MORPHOMETRY_LAYOUTS)
+        for name in ("use_morphometry", "adjust_shape_with_height"):
+            if not isinstance(getattr(self, name), bool):
+                p.add(name, f"must be true or false, got {getattr(self, name)!r}")
+        _raise(p)
+
+
+@dataclass(frozen=True)
 class Assessment:
     """Everything a result depends on: what a site file holds."""
 
@@ -464,6 +497,7 @@ class Assessment:
     ranking: RankingSettings = field(default_factory=RankingSettings)
     receptors: tuple[Receptor, ...] = ()
     spot_readings: tuple[SpotReading, ...] = ()
+    transfer: TransferSettings = field(default_factory=TransferSettings)
     format_version: int = FORMAT_VERSION
 
     def __post_init__(self):
@@ -492,6 +526,11 @@ class Assessment:
                               f"names building {b!r}, which is not in buildings")
                 if len(set(pos.gap_buildings)) != len(pos.gap_buildings):
                     p.add(f"positions[{i}].gap_buildings", "must name two different buildings")
+        if self.transfer.use_morphometry:
+            for name in ("plan_area_fraction", "frontal_area_fraction", "mean_building_height_m"):
+                if getattr(self.site, name) is None:
+                    p.add(f"site.{name}", "is needed when transfer.use_morphometry is true; "
+                                          "enter it or set use_morphometry to false")
         pos_ids = {q.id for q in self.positions}
         for i, s in enumerate(self.spot_readings):
             if s.position_id not in pos_ids:
