@@ -323,3 +323,29 @@ def test_local_and_dask_identical_on_ten_thousand(ctx, dask_client, tmp_path):
     back = pd.read_csv(out)
     assert back["id"].tolist() == loc.table["id"].tolist()
     assert back["rank"].tolist() == loc.table["rank"].tolist()
+
+
+def test_plan_chart_colours_by_class_and_thins_lower_classes(sample_result):
+    """The plan chart colours points by class and keeps every point of the two best classes."""
+    table = sample_result.table
+    spec = screening.plan_scatter_chart(table).to_dict()
+    assert spec["encoding"]["color"]["scale"]["domain"] == list(screening.CLASSES)
+    pts = screening.plan_points(table, max_points=300)
+    assert len(pts) == min(300, len(table))
+    n_top = int((table["suitability_code"] <= 1).sum())
+    assert int((pts["suitability_code"] <= 1).sum()) == min(n_top, 300)
+
+
+def test_demo_district_sample_is_reproducible():
+    """The committed 1000-building sample is what the seeded generator writes."""
+    made = make_district.make_district(1000)
+    saved = pd.read_csv(SAMPLE, dtype={"id": str})
+    pd.testing.assert_frame_equal(made.reset_index(drop=True), saved, check_dtype=False)
+
+
+def test_building_assessment_is_a_valid_site_file(ctx, sample_result):
+    """The assessment handed to the detailed steps round-trips through the site file."""
+    a = screening.assessment_for_building(sample_result.table.iloc[3], ctx)
+    assert sitefile.loads(sitefile.dumps(a)) == a
+    assert a.positions[0].kind == "roof" and len(a.buildings) == 1
+    assert screening.SESSION_KEY == "screening_assessment"  # documented in docs/screening.md
