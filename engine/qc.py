@@ -270,7 +270,10 @@ def run_qc(record: Record, settings: QCSettings | None = None) -> QCReport:
                                             _first_rows(new)))
 
     notes = list(record.notes)
-    tv = t[valid]
+    # Gaps are steps missing from the file's time axis (rows with a usable, increasing time),
+    # not rows excluded for their values; the recovery rate accounts for both.
+    time_ok = ~bad_t & (t > prev_max)
+    tv = t[time_ok]
     if tv.size >= 2:
         steps = np.diff(tv)
         step = float(np.median(steps))
@@ -290,7 +293,7 @@ def run_qc(record: Record, settings: QCSettings | None = None) -> QCReport:
         expected = int(tv.size)
         start = end = _iso(tv[0]) if tv.size else ""
         notes.append("fewer than two valid rows: no step, gaps or recovery can be worked out")
-    recovery = float(tv.size / expected) if expected else 0.0
+    recovery = float(valid.sum() / expected) if expected else 0.0
     return QCReport(file_name=record.file_name, n_rows=n, n_valid=int(valid.sum()),
                     rules=tuple(results), value_rules=tuple(value_results), step_s=step_s,
                     period_start=start, period_end=end, expected_records=expected,
