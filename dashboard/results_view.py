@@ -64,23 +64,24 @@ def top_rows(table: pd.DataFrame, speed_unit: str, length_unit: str, n: int = 5)
 
 
 def scenario_outcome(evaluation, speed_unit: str, length_unit: str) -> dict:
-    """Headline numbers of one scenario: the best eligible row and what it stands on."""
+    """Headline numbers of one scenario as text: the best eligible row and what it stands on."""
     t = evaluation.table
     ok = t[~t["excluded"]]
     best = ok.iloc[0] if len(ok) else t.iloc[0]
+    hub = float(units.length_from_si(best["hub_height_m"], length_unit))
     out = {
         "best position": str(best["position_id"]),
         "best turbine": str(best["turbine_id"]),
-        f"hub height ({length_unit})": round(float(units.length_from_si(
-            best["hub_height_m"], length_unit)), 1),
-        "net energy (kWh/yr)": round(float(best["aep_kwh"]), 0),
+        f"hub height ({length_unit})": f"{hub:.1f}",
+        "net energy (kWh/yr)": f"{float(best['aep_kwh']):,.0f}",
     }
-    for col, label, nd in (("p90_aep_kwh", "P90 (kWh/yr)", 0), ("lcoe_per_kwh", "cost per kWh", 3),
-                           ("payback_years", "payback (years)", 1)):
+    for col, label, fmt in (("p90_aep_kwh", "P90 (kWh/yr)", "{:,.0f}"),
+                            ("lcoe_per_kwh", "cost per kWh", "{:.3f}"),
+                            ("payback_years", "payback (years)", "{:.1f}")):
         if col in best.index:
             v = float(best[col])
-            out[label] = round(v, nd) if np.isfinite(v) else None
-    out["eligible rows"] = int(len(ok))
+            out[label] = fmt.format(v) if np.isfinite(v) else "never"
+    out["eligible rows"] = str(int(len(ok)))
     return out
 
 

@@ -52,7 +52,7 @@ def _mark(df):
     return styles
 
 
-st.table(out.astype(str).style.apply(_mark, axis=None))
+st.table(out.astype(str).style.apply(_mark, axis=None), hide_index=False)
 
 st.subheader("Inputs that differ")
 diff = results_view.input_differences(docs)
@@ -60,7 +60,7 @@ if diff.empty:
     st.success("The inputs are the same in every scenario shown.")
 else:
     d = diff.set_index("input")
-    st.table(d.style.apply(_mark, axis=None))
+    st.table(d.style.apply(_mark, axis=None), hide_index=False)
 
 if widgets.editing():
     st.subheader("Manage")

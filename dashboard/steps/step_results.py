@@ -89,7 +89,7 @@ def whatif_and_ranking():
                  icon=":material/error:")
 
     st.subheader("Ranked positions")
-    st.table(results_view.top_rows(table, S, L, n=5))
+    st.table(results_view.top_rows(table, S, L, n=5), hide_index=False)
 
     if not ss.get("full_run", True) and ss.get("charts_text") != text:
         st.rerun(scope="app")  # bring the plan and charts up to date

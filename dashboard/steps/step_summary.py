@@ -18,7 +18,7 @@ for i, (key, title, _) in enumerate(state.STEPS):
     st.markdown(f"{mark} {i + 1}. {title}: {'complete' if ok else 'needs attention'}")
 
 st.subheader("Best positions")
-st.table(results_view.top_rows(ev.table, S, L, n=5))
+st.table(results_view.top_rows(ev.table, S, L, n=5), hide_index=False)
 
 st.subheader("Take away")
 st.caption("Exports keep SI units, named in every column (``hub_height_m``, ``aep_kwh``). "

@@ -237,3 +237,44 @@ def test_engine_never_imports_streamlit():
             names = ([a.name for a in node.names] if isinstance(node, ast.Import)
                      else [node.module or ""] if isinstance(node, ast.ImportFrom) else [])
             assert not any(n.split(".")[0] == "streamlit" for n in names), path
+
+
+def _record_csv() -> bytes:
+    """An invented 10-minute record (seeded), 30 days, speed and direction."""
+    import numpy as np
+    rng = np.random.default_rng(20261201)
+    n = 30 * 144
+    t = pd.date_range("2025-01-01", periods=n, freq="10min", tz="UTC")
+    speed = rng.weibull(2.0, n) * 6.0
+    direction = (rng.normal(240.0, 60.0, n)) % 360.0
+    df = pd.DataFrame({"timestamp": t.strftime("%Y-%m-%dT%H:%M:%SZ"),
+                       "speed_ms": speed.round(2), "direction_deg": direction.round(0)})
+    return df.to_csv(index=False).encode()
+
+
+def test_measured_record_builds_the_climate_through_the_page():
+    """An uploaded record becomes the climate, tied to the file by its SHA-256."""
+    import hashlib
+    data = _record_csv()
+    at = _go(_app(), "steps/step_climate.py")
+    at.radio(key="climate_mode_w").set_value("measured").run()
+    at.file_uploader(key="record_upload").upload("mast.csv", data, "text/csv").run()
+    at.button(key="build_record").click().run()
+    assert not at.exception
+    clim = at.session_state["valid"].climate
+    assert clim.source == "measured"
+    assert clim.record_sha256 == hashlib.sha256(data).hexdigest()  # FIPS 180-4 digest
+    assert sum(clim.frequency) == pytest.approx(1.0, abs=1e-3)
+    assert any("Quality control" in m for m in _texts(at, "markdown"))
+    at = _go(at, "steps/step_results.py")
+    assert len(at.table[0].value) == 5
+
+
+@pytest.mark.slow
+def test_report_files_are_built_when_the_engine_has_them(demo_eval):
+    """The summary step's report builder returns an HTML page and a PDF."""
+    if exports.report_builders() is None:
+        pytest.skip("engine/report.py has no builders yet")
+    files = exports.build_report(demo_eval)
+    assert files["html"].startswith(b"<!DOCTYPE html>")
+    assert files["pdf"].startswith(b"%PDF-")  # PDF 1.x header (ISO 32000-1, 7.5.2)
