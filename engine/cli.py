@@ -102,6 +102,10 @@ from .cli_screen import register_screen  # noqa: E402
 
 COMMANDS.append(register_screen)
 
+from .cli_climate import register_climate  # noqa: E402
+
+COMMANDS.append(register_climate)
+
 
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(prog="python -m engine",

@@ -31,6 +31,9 @@ from .errors import InputError, Problems
 #: Largest record accepted [bytes]. Ten years of 10-minute data is about 25-40 MB.
 MAX_RECORD_BYTES = 100 * 1024 * 1024
 
+#: Most columns and header length accepted (a record has a handful of columns).
+MAX_COLUMNS = 200
+MAX_HEADER_CHARS = 20000
 #: Speed units and their factor to m/s (NIST SP 811, Appendix B).
 SPEED_UNITS = {"m/s": 1.0, "km/h": 1.0 / 3.6, "mph": 0.44704, "knots": 1852.0 / 3600.0}
 #: Pressure units and their factor to Pa.
@@ -310,8 +313,16 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
     if gust_unit is not None and gust_unit not in SPEED_UNITS:
         problems.add("gust_unit", f"must be one of {', '.join(SPEED_UNITS)}, got {gust_unit!r}")
     problems.raise_if_any()
+    if len(lines[0]) > MAX_HEADER_CHARS:
+        raise InputError([(f"{where}: line {skip + 1}", f"the header line is "
+                           f"{len(lines[0])} characters long; a record's header names a few "
+                           "columns (timestamp, speed, direction, ...). Check the file")])
     sep = _find_separator(lines, where, separator)
     header = [h.strip().strip('"') for h in lines[0].split(sep)]
+    if len(header) > MAX_COLUMNS:
+        raise InputError([(f"{where}: line {skip + 1}", f"has {len(header)} columns, more than "
+                           f"{MAX_COLUMNS}; keep the timestamp, speed, direction and the few "
+                           "optional columns")])
     if not any(re.search(r"[A-Za-z]", h) for h in header):
         raise InputError([(f"{where}: line {skip + 1}", "has no column names; the first line "
                            "must name the columns, e.g. timestamp,speed_ms,direction_deg")])
@@ -395,7 +406,8 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
                 notes.append(f"{name} column {mapping[name]!r} has no unit in its header; "
                              "taken as m/s")
             scale[name], offset[name] = SPEED_UNITS[unit], 0.0
-            mean_si = np.nanmean(vals) * scale[name]
+            with np.errstate(over="ignore", invalid="ignore"):
+                mean_si = np.nanmean(vals) * scale[name]
             if name == "speed" and unit == "m/s" and mean_si > 25:
                 notes.append(f"mean speed {mean_si:.1f} m/s is implausibly high for m/s; "
                              "is the column in km/h or knots?")
