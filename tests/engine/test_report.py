@@ -439,3 +439,19 @@ def test_printed_command_reproduces_the_summary(demo, tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     _cli_stdout(argv[3:])
     assert (tmp_path / "summary.html").read_text(encoding="utf-8") == demo["html"]
+
+
+@pytest.mark.slow
+def test_markup_in_position_id_escaped_in_charts(demo):
+    """A position id with markup is drawn as text inside the inline SVG charts, never as a tag."""
+    a = demo["ev"].assessment
+    pos = list(a.positions)
+    pos[-1] = dataclasses.replace(pos[-1], id="<script>x()</script>")
+    ev = pipeline.evaluate(dataclasses.replace(a, positions=tuple(pos)))
+    s = report.build_summary(ev, generated_at=STAMP)
+    html_text = report.render_html(s)
+    assert "<script" not in html_text.lower()
+    doc = _parse(html_text)
+    assert "script" not in {t for t, _ in doc.tags}
+    svg_text = "".join(re.findall(r"<svg.*?</svg>", html_text, re.S))
+    assert "&lt;script&gt;x()&lt;/script&gt;" in svg_text
