@@ -202,6 +202,12 @@ COLUMN_FORMATS = {
     "spilled_fraction": ("Spilled share in passage", lambda v: fmt_percent(v, 0)),
     "shelter_factor": ("Shelter factor [-]", lambda v: fmt_fixed(v, 3)),
     "speed_sensitivity": ("Energy per speed change [-]", lambda v: fmt_fixed(v, 2)),
+    "skew_speed_factor": ("Inflow-skew factor [-]", lambda v: fmt_fixed(v, 3)),
+    "governing_limit": ("Passage limited by", lambda v: v or DASH),
+    "spot_measured_speedup": ("Spot speed-up, measured", lambda v: fmt_fixed(v, 3)),
+    "spot_speedup_ci_low": ("Spot speed-up, low", lambda v: fmt_fixed(v, 3)),
+    "spot_speedup_ci_high": ("Spot speed-up, high", lambda v: fmt_fixed(v, 3)),
+    "spot_model_speedup": ("Model speed-up at spot", lambda v: fmt_fixed(v, 3)),
     "excluded": ("Excluded", fmt_value),
     "status": ("Status", str),
     "flags": ("Notes and exclusions", lambda v: "; ".join(v) if v else DASH),
@@ -680,18 +686,34 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
                            "Sound power [dB(A)]"), t_rows,
               ("l", "l", "l", "r", "r", "r", "r", "l", "r")))))
 
-    # 7. Further results: every other column, in chunks that fit a page.
+    # 7. Further results: every other column, per position where the value does not depend
+    # on the turbine (building diagnostics), else per combination; in chunks that fit a page.
     shown = set(cols) | set(cost_cols) | {"position_id", "turbine_id", "rank", "flags",
-                                          "status"}
+                                          "status", "excluded"}
     extra = [c for c in (records[0].keys() if records else []) if c not in shown]
+    first_rows = {}
+    for r, w in zip(records, raw):
+        first_rows.setdefault(r["position_id"], (r, w))
+    per_position = [c for c in extra if all(
+        json.dumps(r.get(c), sort_keys=True) == json.dumps(first_rows[r["position_id"]][0].get(c),
+                                                           sort_keys=True) for r in records)]
+    per_row = [c for c in extra if c not in per_position]
+    order = [p.id for p in a.positions if p.id in first_rows]
+    pos_records = [first_rows[i][0] for i in order]
+    pos_raw = [first_rows[i][1] for i in order]
     further = []
-    for i in range(0, len(extra), 6):
-        chunk = extra[i:i + 6]
-        further.append(_records_table(f"further-{i // 6 + 1}", records,
-                                      ["rank", "position_id", "turbine_id"] + chunk, raw=raw))
+    for i in range(0, len(per_position), 7):
+        further.append(_records_table(
+            f"further-position-{i // 7 + 1}", pos_records, ["position_id"] + per_position[i:i + 7],
+            "Per position (the same for every turbine)." if i == 0 else "", raw=pos_raw))
+    for i in range(0, len(per_row), 6):
+        further.append(_records_table(
+            f"further-row-{i // 6 + 1}", records,
+            ["rank", "position_id", "turbine_id"] + per_row[i:i + 6],
+            "Per position and turbine." if i == 0 else "", raw=raw))
     if not further:
         further.append(Paragraph("No further results.", "note"))
-    sections.append(Section("further", "Further results per combination", tuple(further)))
+    sections.append(Section("further", "Further results", tuple(further)))
 
     # 8. Data quality and uncertainty.
     c = a.climate
