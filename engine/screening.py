@@ -350,18 +350,35 @@ def frontal_area_mean_m2(length_m, width_m, height_m):
             * (np.asarray(length_m, float) + np.asarray(width_m, float)))
 
 
-def cell_index(x_m, y_m, cell_m=CELL_M):
-    """Integer plan cell (column, row) of each point."""
-    return (np.floor(np.asarray(x_m, float) / cell_m).astype(np.int64),
-            np.floor(np.asarray(y_m, float) / cell_m).astype(np.int64))
+def cell_index(x_m, y_m, anchor=(0.0, 0.0), cell_m=CELL_M):
+    """Integer plan cell (column, row) of each point, cells counted from ``anchor`` [m]."""
+    return (np.floor((np.asarray(x_m, float) - anchor[0]) / cell_m).astype(np.int64),
+            np.floor((np.asarray(y_m, float) - anchor[1]) / cell_m).astype(np.int64))
 
 
-def cell_sums(x_m, y_m, length_m, width_m, height_m) -> pd.DataFrame:
+def part_anchor(checked: pd.DataFrame):
+    """(min x, min y) [m] of a part's good rows, or None: the cell grid starts at the table's
+    south-west corner, so moving a whole table moves no building to another cell."""
+    good = checked[checked["problem"] == ""]
+    if not len(good):
+        return None
+    return float(good["x_m"].min()), float(good["y_m"].min())
+
+
+def combine_anchors(anchors) -> tuple:
+    """South-west corner of several parts (exact: a min reduction)."""
+    anchors = [a for a in anchors if a is not None]
+    if not anchors:
+        return (0.0, 0.0)
+    return min(a[0] for a in anchors), min(a[1] for a in anchors)
+
+
+def cell_sums(x_m, y_m, length_m, width_m, height_m, anchor=(0.0, 0.0)) -> pd.DataFrame:
     """Per occupied cell: whole-quantum sums of plan area, frontal area and area × height.
 
     Returns a DataFrame with int64 columns cx, cy, area, frontal, area_height, count.
     """
-    cx, cy = cell_index(x_m, y_m)
+    cx, cy = cell_index(x_m, y_m, anchor)
     L, W, H = (np.asarray(a, float) for a in (length_m, width_m, height_m))
     a = np.rint(L * W / AREA_QUANTUM).astype(np.int64)
     f = np.rint(frontal_area_mean_m2(L, W, H) / AREA_QUANTUM).astype(np.int64)
@@ -392,6 +409,7 @@ class Neighbourhood:
     frontal: np.ndarray    # (C,) int64 frontal area in quanta
     area_height: np.ndarray  # (C,) int64 area x height in quanta
     lot_area_m2: float
+    anchor: tuple = (0.0, 0.0)  # [m] where cell (0, 0) starts
 
     def at(self, x_m, y_m):
         """Plan area fraction, frontal area fraction, mean height [m] around each point.
@@ -402,7 +420,7 @@ class Neighbourhood:
         whose centres lie in the (2 m + 1)-cell square around the point's cell (the building
         itself included); A_lot the square's area.
         """
-        cx, cy = cell_index(x_m, y_m)
+        cx, cy = cell_index(x_m, y_m, self.anchor)
         key = (cy - self.cy0) * self.width + (cx - self.cx0)
         i = np.clip(np.searchsorted(self.keys, key), 0, max(len(self.keys) - 1, 0))
         if len(self.keys) == 0 or not np.all(self.keys[i] == key):
@@ -415,7 +433,7 @@ class Neighbourhood:
 
 
 def neighbourhood_lookup(cells: pd.DataFrame, half_cells: int = HALF_CELLS,
-                         cell_m: float = CELL_M) -> Neighbourhood:
+                         cell_m: float = CELL_M, anchor=(0.0, 0.0)) -> Neighbourhood:
     """Sum each occupied cell's (2 m + 1)² neighbourhood, by integral images in row bands.
 
     Whole-number sums (int64): exact, so any split of the table into parts gives the same.
@@ -424,7 +442,7 @@ def neighbourhood_lookup(cells: pd.DataFrame, half_cells: int = HALF_CELLS,
     lot = ((2 * m + 1) * cell_m) ** 2
     if len(cells) == 0:
         z = np.zeros(0, np.int64)
-        return Neighbourhood(0, 0, 1, z, z, z, z, lot)
+        return Neighbourhood(0, 0, 1, z, z, z, z, lot, tuple(anchor))
     cx = cells["cx"].to_numpy(np.int64)
     cy = cells["cy"].to_numpy(np.int64)
     cx0, cy0 = int(cx.min()), int(cy.min())
@@ -454,7 +472,7 @@ def neighbourhood_lookup(cells: pd.DataFrame, half_cells: int = HALF_CELLS,
             r_a, r_b = np.maximum(r - m, 0), np.minimum(r + m + 1, h)
             c_a, c_b = c - m, c + m + 1
             o[dst] = g[r_b, c_b] - g[r_a, c_b] - g[r_b, c_a] + g[r_a, c_a]
-    return Neighbourhood(cx0, cy0, width, keys, out[0], out[1], out[2], lot)
+    return Neighbourhood(cx0, cy0, width, keys, out[0], out[1], out[2], lot, tuple(anchor))
 
 
 # ----------------------------------------------------------------------------------------------
@@ -638,10 +656,10 @@ def good_rows(checked: pd.DataFrame, rejected_lines=()) -> pd.DataFrame:
     return checked[ok]
 
 
-def part_cells(checked: pd.DataFrame, rejected_lines=()) -> pd.DataFrame:
+def part_cells(checked: pd.DataFrame, rejected_lines=(), anchor=(0.0, 0.0)) -> pd.DataFrame:
     """Cell sums of a part's good rows (first reduction of a screening run)."""
     g = good_rows(checked, rejected_lines)
-    return cell_sums(g["x_m"], g["y_m"], g["length_m"], g["width_m"], g["height_m"])
+    return cell_sums(g["x_m"], g["y_m"], g["length_m"], g["width_m"], g["height_m"], anchor)
 
 
 def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered"):
@@ -1085,7 +1103,9 @@ def screen_local(source, ctx: ScreeningContext, progress=None, part_bytes: int =
     good = pd.concat([c["problem"] == "" for c in checked], ignore_index=True).to_numpy()
     dups = duplicate_problems(all_ids[good], all_lines[good])
     rejected = dups["line"].to_numpy(np.int64)
-    nb = neighbourhood_lookup(combine_cell_sums([part_cells(c, rejected) for c in checked]))
+    anchor = combine_anchors([part_anchor(c) for c in checked])
+    nb = neighbourhood_lookup(combine_cell_sums([part_cells(c, rejected, anchor)
+                                                 for c in checked]), anchor=anchor)
     tell(0.3, "surroundings summed")
     results = []
     for i, c in enumerate(checked):
@@ -1114,13 +1134,13 @@ def _summary(checked: pd.DataFrame) -> dict:
     return {"n": len(checked), "bounds": part_bounds(checked),
             "bad": checked.loc[~ok, ["line", "id", "problem"]],
             "hash": pd.util.hash_array(good["id"].to_numpy(object)),
-            "line": good["line"].to_numpy(np.int64)}
+            "line": good["line"].to_numpy(np.int64), "anchor": part_anchor(checked)}
 
 
-def _cells_and_ids(checked: pd.DataFrame, rejected_lines) -> tuple:
+def _cells_and_ids(checked: pd.DataFrame, rejected_lines, anchor) -> tuple:
     """Cell sums of a part's good rows, and (id, line) of its rows among ``rejected_lines``."""
     hit = np.isin(checked["line"].to_numpy(), rejected_lines)
-    return part_cells(checked, rejected_lines), checked.loc[hit, ["id", "line"]]
+    return part_cells(checked, rejected_lines, anchor), checked.loc[hit, ["id", "line"]]
 
 
 def _safe_frame(table: pd.DataFrame) -> pd.DataFrame:
@@ -1171,9 +1191,10 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
         uniq, inverse, counts = np.unique(hashes, return_inverse=True, return_counts=True)
         rejected = np.sort(lines[counts[inverse] > 1])
         rejected_d = dask.delayed(rejected, traverse=False)
-        got = dask.compute(*[dask.delayed(_cells_and_ids)(d, rejected_d)
+        anchor = combine_anchors([f["anchor"] for f in facts])
+        got = dask.compute(*[dask.delayed(_cells_and_ids)(d, rejected_d, anchor)
                              for d in checked.to_delayed()])
-        nb = neighbourhood_lookup(combine_cell_sums([g[0] for g in got]))
+        nb = neighbourhood_lookup(combine_cell_sums([g[0] for g in got]), anchor=anchor)
         dup_rows = pd.concat([g[1] for g in got], ignore_index=True)
         dups = duplicate_problems(dup_rows["id"], dup_rows["line"])
         bad = _bad_rows([f["bad"] for f in facts], dups)

@@ -349,3 +349,26 @@ def test_building_assessment_is_a_valid_site_file(ctx, sample_result):
     assert sitefile.loads(sitefile.dumps(a)) == a
     assert a.positions[0].kind == "roof" and len(a.buildings) == 1
     assert screening.SESSION_KEY == "screening_assessment"  # documented in docs/screening.md
+
+
+def test_latitude_longitude_table_screens_like_local_metres(ctx):
+    """Buildings given by latitude/longitude land on the same plan and get the same results."""
+    xy = pd.read_csv(SAMPLE, dtype={"id": str}).iloc[:60]
+    lat0, lon0 = 48.0, 11.0
+    R = 6_371_008.8  # IUGG mean Earth radius, as the conversion uses
+    # Latitudes centred on lat0, so the plan's scale is cos(lat0) as in this construction.
+    y_mid = (xy["y_m"].min() + xy["y_m"].max()) / 2
+    ll = xy.drop(columns=["x_m", "y_m"]).assign(
+        latitude_deg=lat0 + np.degrees((xy["y_m"] - y_mid) / R),
+        longitude_deg=lon0 + np.degrees(xy["x_m"] / (R * math.cos(math.radians(lat0)))))
+    a = screening.screen_local(xy, ctx).table.set_index("id")
+    b = screening.screen_local(ll, ctx).table.set_index("id").loc[a.index]
+    # The plan is centred on the table's middle: positions agree up to that shift.
+    shift_x = float((b["x_m"] - a["x_m"]).median())
+    assert np.allclose(b["x_m"] - shift_x, a["x_m"], atol=0.05)
+    # The cell grid starts at the table's south-west corner: the same neighbourhoods, except
+    # where a building sits exactly on a cell edge (120.00 m from the corner here), which
+    # rounding in the conversion may put on either side.
+    same = np.isclose(b["plan_area_fraction"], a["plan_area_fraction"], rtol=1e-9)
+    assert same.mean() >= 0.95
+    assert np.allclose(b["aep_kwh_ha-1k5"][same], a["aep_kwh_ha-1k5"][same], rtol=1e-9)
