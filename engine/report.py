@@ -25,6 +25,7 @@ import math
 import os
 import re
 import shlex
+import struct
 import unicodedata
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -1122,9 +1123,8 @@ class _Pdf:
             self.para(f"This chart could not be drawn: {f.problem}", "caution")
             return
         png = figure_png(f)
-        from PIL import Image
-        with Image.open(io.BytesIO(png)) as im:
-            w_px, h_px = im.size
+        # PNG size from the IHDR chunk: width and height, big-endian, at bytes 16..24.
+        w_px, h_px = struct.unpack(">II", png[16:24])
         w = min(pdf.epw, w_px / PNG_SCALE * MM_PER_CSS_PX)
         h = w * h_px / w_px
         if h > 200:
