@@ -223,7 +223,7 @@ def _to_float(text: str):
 
 def _header_unit(header_cell: str):
     h = header_cell.strip().lower()
-    if re.search(r"\bkw\b|\(kw\)|\[kw\]|_kw\b", h):
+    if re.search(r"\bkw\b|\(kw\)|\[kw\]|_kw\b|kilowatt", h):
         return "kW"
     if re.search(r"\bw\b|\(w\)|\[w\]|_w\b|watt", h):
         return "W"

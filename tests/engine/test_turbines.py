@@ -104,6 +104,15 @@ def test_csv_import_w_header_and_semicolon_decimal_comma():
     assert c.speed_ms == pytest.approx((3.0, 5.5)) and c.power_w == pytest.approx((20.5, 150.0))
 
 
+@pytest.mark.parametrize("header, unit", [("power_kw", "kW"), ("Power [kW]", "kW"),
+                                          ("power (kilowatts)", "kW"), ("power_w", "W"),
+                                          ("P (W)", "W"), ("power in watts", "W")])
+def test_csv_header_units(header, unit):
+    """Common ways of writing the power unit in a header are understood."""
+    c = turbines.read_power_curve_csv(f"speed_ms,{header}\n3,0.2\n6,0.4\n")
+    assert c.unit == unit
+
+
 def test_csv_import_auto_unit_is_reported():
     """Without a header, small numbers are read as kW and the note says so."""
     c = turbines.read_power_curve_csv("3,0.05\n5,0.3\n10,1.5\n")
