@@ -579,8 +579,7 @@ def month_hours(year: int = 2025) -> np.ndarray:
     return np.array([calendar.monthrange(year, m)[1] * 24.0 for m in range(1, 13)])
 
 
-def monthly_energy_wh(annual_wh, monthly_mean_ms, climate, frequency, weibull_k, weibull_c_ms,
-                      turbulence_intensity, turbines, air_density_kgm3, edges_ms=DEFAULT_EDGES_MS):
+def monthly_energy_wh(annual_wh, monthly_mean_ms, climate, setup: BinsSetup):
     """Split the annual energy into months, shape (P, T, 12) [Wh].
 
     Parameters
@@ -588,33 +587,22 @@ def monthly_energy_wh(annual_wh, monthly_mean_ms, climate, frequency, weibull_k,
     annual_wh : (P, T) annual energy to split [Wh]
     monthly_mean_ms : (12,) monthly mean speeds at the climate's height [m/s]
     climate : :class:`engine.model.WindClimate` the months belong to
-    frequency, weibull_k, weibull_c_ms, turbulence_intensity : (P, S) effective climate
-    turbines, air_density_kgm3 : as :func:`yield_arrays`
+    setup : the :class:`BinsSetup` of the year (corrected curves, skew, effective climate)
 
     Notes
     -----
     Month m scales every sector's Weibull scale by r_m = V̄_m / V̄ (V̄ the annual mean of the
     climate at its height; k kept, common practice) and weighs the energy rate by its hours;
-    the shares then divide ``annual_wh``, so the months add up to the year exactly.
+    the shares then divide ``annual_wh``, so the months add up to the year exactly. A month
+    with zero mean speed has no energy.
     """
     mm = np.asarray(monthly_mean_ms, float)
     annual_mean = float(mixture_mean_ms(np.asarray(climate.frequency, float),
                                         np.asarray(climate.weibull_k, float),
                                         np.asarray(climate.weibull_c_ms, float)))
     ratio = mm / annual_mean  # (12,)
-    k = np.asarray(weibull_k, float)
-    c = np.asarray(weibull_c_ms, float)
-    grid = ti_grid_for(turbulence_intensity)
-    table = turbulent_curve_table_w(turbines, air_density_kgm3, grid, edges_ms)
-    curves = lookup_turbulent_curve_w(table, grid, turbulence_intensity)  # (P, T, S, J)
-    x = _weibull_x(edges_ms, k, c)[:, None]  # (P, 1, S, J)
-    safe = np.where(ratio > 0, ratio, 1.0)
-    # (12, P, 1, S, J): (V/(r c))^k = (V/c)^k r^-k; a month with zero mean has no energy.
-    xm = x[None] * np.exp(-k[None, :, None, :, None] * np.log(safe)[:, None, None, None, None])
-    rate = _bins_sum(np.asarray(frequency, float)[None, :, None, :], xm,
-                     bin_weights_w(curves)[None], 1.0)
-    rate = np.where(ratio[:, None, None] > 0, rate, 0.0)  # (12, P, T)
-    e = rate * month_hours()[:, None, None]
+    rate = setup.energy_wh(np.where(ratio > 0, ratio, 1.0), hours=1.0)  # (12, P, T)
+    e = np.where(ratio[:, None, None] > 0, rate, 0.0) * month_hours()[:, None, None]
     total = e.sum(axis=0)
     share = np.divide(e, total[None], out=np.full_like(e, 1.0 / 12.0), where=total[None] > 0)
     return np.moveaxis(share, 0, -1) * np.asarray(annual_wh, float)[..., None]

@@ -92,9 +92,8 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     df["noise_worst_receptor"] = [rec_ids[i] if i >= 0 else "" for i in worst.ravel()]
     months = assessment.climate.monthly_mean_ms
     if months:
-        monthly = energy.monthly_energy_wh(y.net_wh, months, assessment.climate, eff.frequency,
-                                           eff.weibull_k, eff.weibull_c_ms,
-                                           eff.turbulence_intensity, turbines, rho) / 1000.0
+        monthly = energy.monthly_energy_wh(y.net_wh, months, assessment.climate,
+                                           y.setup) / 1000.0
         df["monthly_aep_kwh"] = list(monthly.reshape(P * T, 12).tolist())
     df["flags"] = [list(eff.flags[i]) if eff.flags else [] for i in np.repeat(np.arange(P), T)]
     return df

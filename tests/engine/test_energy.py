@@ -235,8 +235,9 @@ def test_months_of_equal_wind_share_by_days():
     mean = 6.0 * gamma(1.5)
     t = ref_turbine()
     annual = np.array([[1000.0]])
-    m = energy.monthly_energy_wh(annual, [mean] * 12, clim, np.ones((1, 1)), np.full((1, 1), 2.0),
-                                 np.full((1, 1), 6.0), np.full((1, 1), 0.1), [t], 1.225)
+    setup = energy.prepare_bins(np.ones((1, 1)), np.full((1, 1), 2.0), np.full((1, 1), 6.0),
+                                np.full((1, 1), 0.1), np.zeros((1, 1)), [t], 1.225)
+    m = energy.monthly_energy_wh(annual, [mean] * 12, clim, setup)
     assert m.sum() == pytest.approx(1000.0)
     assert m[0, 0, 0] == pytest.approx(1000.0 * 31 / 365)
     assert m[0, 0, 1] == pytest.approx(1000.0 * 28 / 365)
@@ -246,9 +247,9 @@ def test_windier_month_gets_more_energy():
     """A month with higher mean speed gets a larger share; months still add up to the year."""
     clim = model.WindClimate(10.0, 0.03, (1.0,), (2.0,), (6.0,))
     means = [6.5, 6.0, 5.8, 5.0, 4.5, 4.0, 4.0, 4.2, 4.8, 5.5, 6.0, 6.6]
-    m = energy.monthly_energy_wh(np.array([[500.0]]), means, clim, np.ones((1, 1)),
-                                 np.full((1, 1), 2.0), np.full((1, 1), 6.0), np.full((1, 1), 0.1),
-                                 [ref_turbine()], 1.225)[0, 0]
+    setup = energy.prepare_bins(np.ones((1, 1)), np.full((1, 1), 2.0), np.full((1, 1), 6.0),
+                                np.full((1, 1), 0.1), np.zeros((1, 1)), [ref_turbine()], 1.225)
+    m = energy.monthly_energy_wh(np.array([[500.0]]), means, clim, setup)[0, 0]
     assert m.sum() == pytest.approx(500.0)
     assert m[0] > m[5] and m[11] > m[6]
 
