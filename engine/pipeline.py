@@ -83,6 +83,14 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
         arr = np.asarray(arr)
         if arr.shape == (P,):
             rows[name] = np.repeat(arr, T)
+    need = np.asarray(eff.diagnostics.get("min_clear_mast_m", np.full(P, np.nan)), float)
+    if need.shape == (P,):
+        # The whole rotor must clear the zone: mast - r >= min_clear_mast_m (engine.flow).
+        radius = np.array([t.rotor_radius_m for t in turbines], float)
+        clear_mast = need[:, None] + radius[None, :]
+        rows["mast_to_clear_turbulence_m"] = clear_mast.ravel()
+        rows["rotor_in_turbulence_zone"] = np.where(
+            np.isfinite(clear_mast), mast[:, None] < clear_mast - 1e-9, False).ravel()
     df = pd.DataFrame(rows)
     rec_ids = [r.id for r in assessment.receptors]
     flat_levels = levels.reshape(P * T, len(rec_ids))

@@ -1,7 +1,8 @@
 """Ranking of position x turbine rows by an objective, with exclusions explained.
 
 A row is *excluded* when any constraint of :class:`engine.model.RankingSettings` fails: mast
-taller than allowed, rotor in a building's high-turbulence or recirculation zone, noise above
+taller than allowed, rotor in a building's high-turbulence zone (the whole rotor, when the
+table has ``rotor_in_turbulence_zone``; else the hub) or recirculation zone, noise above
 a receptor's limit, extreme rotor thrust above the load limit. Its reasons, with the numbers
 behind them, are appended to ``flags`` and it is ranked after every eligible row, never
 silently dropped.
@@ -38,12 +39,17 @@ def exclusion_reasons(table: pd.DataFrame, settings) -> list:
     add(mast > settings.max_mast_height_m + 1e-9,
         lambda idx: {i: f"mast {mast[i]:g} m taller than the {settings.max_mast_height_m:g} m "
                         "limit" for i in idx})
-    if settings.require_clear_of_turbulence_zone and "in_turbulence_zone" in table:
+    if settings.require_clear_of_turbulence_zone and "rotor_in_turbulence_zone" in table:
+        need = table["mast_to_clear_turbulence_m"].to_numpy(dtype=float)
+        add(table["rotor_in_turbulence_zone"].to_numpy(dtype=bool),
+            lambda idx: {i: "rotor in the roof's high-turbulence zone; a mast of at least "
+                            f"{need[i]:.1f} m clears it" for i in idx})
+    elif settings.require_clear_of_turbulence_zone and "in_turbulence_zone" in table:
         add(table["in_turbulence_zone"].to_numpy(dtype=bool),
             "rotor in the roof's high-turbulence zone; raise the mast or move the position")
     if "in_recirculation_zone" in table:
         add(table["in_recirculation_zone"].to_numpy(dtype=bool),
-            "rotor in a recirculation zone")
+            "hub in a recirculation zone")
     if settings.apply_noise_limits and "noise_exceeds_limit" in table:
         mask = table["noise_exceeds_limit"].to_numpy(dtype=bool)
         if {"noise_margin_db", "noise_worst_receptor"} <= set(table.columns):

@@ -50,6 +50,17 @@ def test_every_exclusion_has_a_reason_with_numbers():
     assert all(any("extreme thrust 1000 N" in f for f in fl) for fl in out["flags"])
 
 
+def test_rotor_check_takes_precedence_over_hub_flag():
+    """With a per-turbine rotor check the hub flag is not used, and the needed mast is named."""
+    t = table()
+    t["rotor_in_turbulence_zone"] = [True, False, False, False]
+    t["mast_to_clear_turbulence_m"] = [7.25, 3.0, 4.0, np.nan]
+    s = model.RankingSettings(max_mast_height_m=60.0, apply_noise_limits=False)
+    out = ranking.rank(t, s).set_index("position_id")
+    assert any("a mast of at least 7.2 m clears it" in f for f in out.loc["a", "flags"])
+    assert not out.loc["c", "excluded"]
+
+
 def test_excluded_rows_rank_after_eligible():
     """Excluded rows are kept, ranked after every eligible row."""
     out = ranking.rank(table(), model.RankingSettings())
