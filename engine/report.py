@@ -1041,6 +1041,7 @@ class _Pdf:
         pdf.alias_nb_pages()
         self.pdf = pdf
         self.summary = s
+        self._widths = {}
 
     def t(self, text) -> str:
         """Text as the chosen font can draw it."""
@@ -1076,10 +1077,83 @@ class _Pdf:
             self.pdf.ln(0.6)
         self.pdf.ln(1.2)
 
+    def _width(self, text: str) -> float:
+        # Widths of words in the current font, cached: a word's width is the sum of its glyphs.
+        key = (self.pdf.font_family, self.pdf.font_style, self.pdf.font_size_pt, text)
+        w = self._widths.get(key)
+        if w is None:
+            w = self._widths[key] = self.pdf.get_string_width(text)
+        return w
+
+    def _wrap(self, text: str, avail: float) -> list:
+        """Greedy word wrap of ``text`` into lines no wider than ``avail`` [mm]."""
+        out = []
+        space = self._width(" ")
+        for para in text.split("\n"):
+            line, used = "", 0.0
+            for word in para.split(" "):
+                ww = self._width(word)
+                if line and used + space + ww <= avail:
+                    line, used = f"{line} {word}", used + space + ww
+                    continue
+                if line:
+                    out.append(line)
+                while ww > avail and len(word) > 1:
+                    # A word wider than the column is cut where it stops fitting.
+                    k = 1
+                    while k < len(word) and self._width(word[:k + 1]) <= avail:
+                        k += 1
+                    out.append(word[:k])
+                    word = word[k:]
+                    ww = self._width(word)
+                line, used = word, ww
+            out.append(line)
+        return out
+
+    def _row(self, cells, widths, align, size, bold=False) -> bool:
+        """Draw one table row; return True (drawing nothing) when it must go on a new page.
+
+        Lines are broken by :meth:`_wrap` (fpdf2's own table breaks every cell twice, char by
+        char, which made long tables slow).
+        """
+        pdf = self.pdf
+        pad, lh = 0.8, size * 0.5
+        self.font(size, bold=bold)
+        lines = []
+        for text, w in zip(cells, widths):
+            avail = w - 2 * pad
+            lines.append(self._wrap(text, avail))
+        room = pdf.page_break_trigger - pdf.t_margin - 12
+        most = max(1, int((room - 2 * pad) // lh))
+        lines = [ls if len(ls) <= most else ls[:most - 1] + [ls[most - 1] + " …"]
+                 for ls in lines]
+        h = max(len(ls) for ls in lines) * lh + 2 * pad
+        y0 = pdf.get_y()
+        if y0 + h > pdf.page_break_trigger and not bold:
+            pdf.add_page()
+            return True
+        auto = pdf.auto_page_break
+        pdf.set_auto_page_break(False)
+        x0 = pdf.l_margin
+        total = sum(widths)
+        if bold:
+            pdf.set_fill_color(243, 245, 247)
+            pdf.rect(x0, y0, total, h, style="F")
+        x = x0
+        for ls, w, a in zip(lines, widths, align):
+            for k, line in enumerate(ls):
+                pdf.set_xy(x + pad, y0 + pad + k * lh)
+                pdf.cell(w - 2 * pad, lh, line, align=a)
+            x += w
+        pdf.set_draw_color(213, 217, 222)
+        pdf.set_line_width(0.2)
+        pdf.line(x0, y0 + h, x0 + total, y0 + h)
+        pdf.set_auto_page_break(auto, margin=16)
+        pdf.set_xy(x0, y0 + h)
+        return False
+
     def table(self, t: Table):
         pdf = self.pdf
-        from fpdf.fonts import FontFace
-
         n = len(t.columns)
         kv = t.columns in (("Item", "Value"), ("Parameter", "Value"))
         size = 7.2 if n >= 7 else 8
@@ -1095,20 +1169,15 @@ class _Pdf:
             lengths = [min(max(x, 4.0), 60.0) for x in lengths]
             total = sum(lengths)
             widths = tuple(width * x / total for x in lengths)
-        align = tuple("RIGHT" if a == "r" else "LEFT" for a in t.align)
-        head = FontFace(emphasis="BOLD", fill_color=(243, 245, 247), size_pt=size)
-        with pdf.table(col_widths=widths, text_align=align, headings_style=head,
-                       line_height=size * 0.5, padding=0.8, first_row_as_headings=True,
-                       borders_layout="HORIZONTAL_LINES", width=width,
-                       repeat_headings=1) as tab:
-            r = tab.row()
-            for c in t.columns:
-                r.cell(self.t(c))
-            for row in t.rows:
-                r = tab.row()
-                for v in row:
-                    r.cell(self.t(v))
+        align = tuple("R" if a == "r" else "L" for a in t.align)
+        header = tuple(self.t(c) for c in t.columns)
+        self._row(header, widths, align, size, bold=True)
+        for row in t.rows:
+            if self._row(tuple(self.t(v) for v in row), widths, align, size):
+                self._row(header, widths, align, size, bold=True)
+                self._row(tuple(self.t(v) for v in row), widths, align, size)
         if t.caption:
+            pdf.ln(0.8)
             self.font(7.5, colour=(91, 100, 112))
             pdf.multi_cell(0, 3.8, self.t(t.caption), align="L", new_x="LMARGIN", new_y="NEXT")
         pdf.ln(2.5)
