@@ -14,6 +14,7 @@ import hashlib
 import json
 import math
 import os
+import shutil
 import tempfile
 import types
 import typing
@@ -229,18 +230,25 @@ def save(assessment: model.Assessment, path, keep_previous: bool = True) -> Path
     path = Path(path)
     text = dumps(assessment).encode("utf-8")
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
+    bak_tmp = tmp + ".bak"
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(text)
             fh.flush()
             os.fsync(fh.fileno())
         if keep_previous and path.exists():
-            bak = path.with_name(path.name + ".bak")
-            os.replace(path, bak)
+            # Link (or copy) the previous version to .bak rather than moving it, so the site
+            # file exists, whole, at every instant of the save.
+            try:
+                os.link(path, bak_tmp)
+            except OSError:  # a file system without hard links
+                shutil.copy2(path, bak_tmp)
+            os.replace(bak_tmp, path.with_name(path.name + ".bak"))
         os.replace(tmp, path)
     except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+        for leftover in (tmp, bak_tmp):
+            if os.path.exists(leftover):
+                os.unlink(leftover)
         raise
     return path
 
