@@ -455,3 +455,43 @@ def test_markup_in_position_id_escaped_in_charts(demo):
     assert "script" not in {t for t, _ in doc.tags}
     svg_text = "".join(re.findall(r"<svg.*?</svg>", html_text, re.S))
     assert "&lt;script&gt;x()&lt;/script&gt;" in svg_text
+
+
+def test_roof_zone_bands_agree_with_zone_flags(demo):
+    """A hub the building model puts inside a roof zone lies below that zone's band top, and vice versa."""
+    from engine import report_charts
+
+    ev = demo["ev"]
+    eff = ev.climate
+    # The recirculation flag also counts wake cavities of other buildings, so it is left out.
+    flags = {"high turbulence": "in_turbulence_zone", "roof wake": "in_roof_wake"}
+    checked = 0
+    for i, pid in enumerate(eff.position_ids):
+        bands = {b["name"]: b for b in report_charts.roof_zone_bands(ev, pid)}
+        pos = ev.assessment.positions[i]
+        if pos.kind != "roof":
+            assert bands == {}
+            continue
+        hub = float(eff.hub_height_m[i])
+        for name, diag in flags.items():
+            inside = bool(np.asarray(eff.diagnostics[diag])[i])
+            top = bands[name]["top_m"] if name in bands else ev.assessment.base_height_m(pos)
+            assert (hub < top) == inside, (pid, name)
+            assert bands.get(name, {"bottom_m": top})["bottom_m"] == ev.assessment.base_height_m(pos)
+            checked += 1
+    assert checked >= 4
+
+
+def test_chart_that_cannot_be_drawn_says_why(demo, tmp_path):
+    """A figure without a spec is shown as a caution with its reason, in HTML and PDF."""
+    from engine.report_charts import Figure
+
+    s = report.build_summary(demo["ev"], generated_at=STAMP, with_charts=False)
+    fig = Figure("profile", "Vertical profile", "caption", None, "hub_height_m: below the roof")
+    sections = tuple(dataclasses.replace(x, blocks=(report.FigureBlock(fig),))
+                     if x.key == "charts" else x for x in s.sections)
+    s = dataclasses.replace(s, sections=sections)
+    html_text = report.render_html(s)
+    assert "This chart could not be drawn: hub_height_m: below the roof" in html_text
+    flat = " ".join(_pdf_text(report.render_pdf(s), tmp_path).split())
+    assert "This chart could not be drawn: hub_height_m: below the roof" in flat
