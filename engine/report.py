@@ -470,16 +470,11 @@ def export_files(evaluation) -> dict:
 
 # ---------------------------------------------------------------- building the summary
 
-def _exclusion_reasons(record) -> list:
-    """The flags of an excluded row that are limits it fails (not advice like "check roof")."""
-    flags = list(record.get("flags") or [])
-    words = ("taller than", "above the limit", "above a receptor", "zone", "thrust", "limit")
-    hits = [f for f in flags if any(w in f for w in words)]
-    return hits or flags
-
-
 def _recommendation(evaluation, records) -> tuple[dict | None, list]:
     a = evaluation.assessment
+    from .ranking import exclusion_reasons
+    # The ranking's own constraint texts per row (the flags also carry advice).
+    reasons = exclusion_reasons(evaluation.table, a.ranking)
     eligible = [r for r in records if not r.get("excluded")]
     objective = a.ranking.objective
     from .ranking import OBJECTIVE_COLUMNS
@@ -520,6 +515,7 @@ def _recommendation(evaluation, records) -> tuple[dict | None, list]:
     excluded = [r for r in records if r.get("excluded")]
     if excluded:
         v_best = best.get(col)
+        why_out = {r["rank"]: reasons[i] for i, r in enumerate(records)}
         better = [r for r in excluded if _finite(r.get(col)) and _finite(v_best)
                   and ((float(r[col]) > float(v_best)) if larger else
                        (float(r[col]) < float(v_best)))]
@@ -528,9 +524,9 @@ def _recommendation(evaluation, records) -> tuple[dict | None, list]:
         if better:
             shown = better[:2]
             text += (f" {len(better)} of them would score better by {label}; the best of "
-                     "those: " + "; ".join(
+                     "those: " + ". ".join(
                          f"{r['turbine_id']} at {r['position_id']} ({format_cell(col, r[col])})"
-                         f" is out because {', '.join(_exclusion_reasons(r)) or 'of a limit'}"
+                         f" is out because {'; '.join(why_out[r['rank']] or r.get('flags') or [])}"
                          for r in shown) + ".")
         why.append(text)
     if best.get("flags"):
