@@ -338,7 +338,9 @@ def _bins_sum_and_slope(frequency, x, k, weights_w, hours):
     g = np.exp(np.negative(x))
     gw = g * np.asarray(weights_w, float)
     f = np.asarray(frequency)
-    e = hours * np.sum(f * gw.sum(axis=-1), axis=-1)
+    # The binned sum is of non-negative terms; summation by parts can leave -1e-29-sized
+    # rounding below zero, which must not show as negative energy.
+    e = np.maximum(hours * np.sum(f * gw.sum(axis=-1), axis=-1), 0.0)
     slope = hours * np.sum(f * np.asarray(k) * np.einsum("...j,...j->...", gw, x), axis=-1)
     return e, slope
 
@@ -349,7 +351,8 @@ def _bins_sum(frequency, x, weights_w, hours):
     w = np.asarray(weights_w, float)
     shape = np.broadcast_shapes(g.shape, w.shape)
     per_sector = np.einsum("...j,...j->...", np.broadcast_to(g, shape), np.broadcast_to(w, shape))
-    return hours * np.sum(np.asarray(frequency) * per_sector, axis=-1)
+    # Non-negative terms; clip the rounding of summation by parts (see _bins_sum_and_slope).
+    return np.maximum(hours * np.sum(np.asarray(frequency) * per_sector, axis=-1), 0.0)
 
 
 def aep_method_of_bins_wh(frequency, weibull_k, weibull_c_ms, power_edges_w,
