@@ -495,3 +495,18 @@ def test_chart_that_cannot_be_drawn_says_why(demo, tmp_path):
     assert "This chart could not be drawn: hub_height_m: below the roof" in html_text
     flat = " ".join(_pdf_text(report.render_pdf(s), tmp_path).split())
     assert "This chart could not be drawn: hub_height_m: below the roof" in flat
+
+
+@pytest.mark.slow
+def test_site_without_buildings(demo):
+    """A lone ground mast with no buildings, receptors or spot readings still gives every section."""
+    a = demo["ev"].assessment
+    mast = tuple(p for p in a.positions if p.kind == "mast")
+    bare = dataclasses.replace(a, buildings=(), positions=mast, turbines=a.turbines[:1],
+                               receptors=(), spot_readings=())
+    s = report.build_summary(pipeline.evaluate(bare), generated_at=STAMP)
+    assert tuple(x.key for x in s.sections) == report.SECTION_KEYS
+    figs = [b.figure for b in s.section("charts").blocks]
+    assert [f.key for f in figs] == ["plan", "wind-rose", "profile", "yield"]
+    assert all(f.spec is not None for f in figs)
+    assert report.render_pdf(s).startswith(b"%PDF-")
