@@ -46,8 +46,9 @@ def sector_index(direction_deg, n_sectors: int) -> np.ndarray:
     i = floor(((θ + w/2) mod 360) / w), w = 360/n; 360° is north (sector 0).
     """
     w = 360.0 / n_sectors
-    idx = np.floor(np.mod(np.asarray(direction_deg, float) + w / 2.0, 360.0) / w).astype(np.intp)
-    return np.minimum(idx, n_sectors - 1)
+    # Integer floor-mod wraps 360 deg and negative angles alike (one pass fewer than float mod).
+    idx = np.floor((np.asarray(direction_deg, float) + w / 2.0) / w).astype(np.intp)
+    return idx % n_sectors
 
 
 def weibull_fit_moments(speed_ms, groups=None, n_groups: int = 1):
@@ -82,6 +83,21 @@ def weibull_fit_moments(speed_ms, groups=None, n_groups: int = 1):
     return k, c, n.astype(int)
 
 
+#: Finest logged speed resolution recognised for weighting repeated values [1/(m/s)].
+_RESOLUTION_PER_MS = 1000.0
+
+
+def _resolution_codes(v):
+    """Integer codes of speeds logged at 0.001 m/s resolution or coarser; None otherwise."""
+    if v.size == 0 or v.max() > 1000.0:
+        return None
+    scaled = v * _RESOLUTION_PER_MS
+    q = np.rint(scaled)
+    if np.max(np.abs(q - scaled)) > 1e-6:
+        return None
+    return q.astype(np.intp)
+
+
 def weibull_fit_mle(speed_ms, groups=None, n_groups: int = 1, tol: float = 1e-10,
                     max_iter: int = 60):
     """Maximum-likelihood Weibull k, c per group, all groups solved together.
@@ -104,27 +120,41 @@ def weibull_fit_mle(speed_ms, groups=None, n_groups: int = 1, tol: float = 1e-10
 
     is solved by Newton's method from the moment estimate, vectorised over groups with
     ``bincount``; then c = (mean V^k)^(1/k). Speeds are divided by their group mean first, which
-    leaves k unchanged and keeps V^k finite.
+    leaves k unchanged and keeps V^k finite. Repeated values are fitted once with their count
+    as weight (the same likelihood).
     """
     v = np.asarray(speed_ms, float)
     g = np.zeros(v.shape, np.intp) if groups is None else np.asarray(groups, np.intp)
     keep = v > 0
     v, g = v[keep], g[keep]
-    n = np.bincount(g, minlength=n_groups).astype(float)
-    k0, _, _ = weibull_fit_moments(v, g, n_groups)
+    # Logged speeds repeat (a resolution of 0.01-0.1 m/s): the likelihood of N speeds equals
+    # that of the distinct (group, speed) pairs weighted by their counts, which is far shorter.
+    q = _resolution_codes(v)
+    if q is not None and q.max() < 4 * v.size // max(n_groups, 1):
+        size = int(q.max()) + 1
+        cnt = np.bincount(g * size + q, minlength=n_groups * size)
+        nz = np.flatnonzero(cnt)
+        v, g, wt = (nz % size) / _RESOLUTION_PER_MS, nz // size, cnt[nz].astype(float)
+    else:
+        wt = np.ones(v.shape)
+    n = np.bincount(g, wt, minlength=n_groups)
     with np.errstate(invalid="ignore", divide="ignore"):
-        scale = np.bincount(g, v, minlength=n_groups) / n
-    ok = np.isfinite(k0) & (n >= 2)
-    safe_scale = np.where(ok, scale, 1.0)
-    x = v / safe_scale[g]
-    lx = np.log(x)
-    mean_lx = np.bincount(g, lx, minlength=n_groups) / np.where(n > 0, n, 1.0)
+        mean = np.bincount(g, wt * v, minlength=n_groups) / n
+        var = (np.bincount(g, wt * v * v, minlength=n_groups) - n * mean ** 2) / (n - 1)
+        ok = (n >= 2) & (var > 1e-12 * np.where(np.isfinite(mean), mean, 1.0) ** 2) & (mean > 0)
+        k0 = np.where(ok, (np.sqrt(np.where(ok, var, 1.0)) / np.where(ok, mean, 1.0)) ** -1.086,
+                      1.0)
+    safe_scale = np.where(ok, mean, 1.0)
+    lx = np.log(v / safe_scale[g])
+    mean_lx = np.bincount(g, wt * lx, minlength=n_groups) / np.where(n > 0, n, 1.0)
     k = np.where(ok, np.clip(k0, 0.2, 50.0), 1.0)
+    wlx = wt * lx
+    wlx2 = wlx * lx
     for _ in range(max_iter):
-        w = np.exp(k[g] * lx)
-        s0 = np.bincount(g, w, minlength=n_groups)
-        s1 = np.bincount(g, w * lx, minlength=n_groups)
-        s2 = np.bincount(g, w * lx * lx, minlength=n_groups)
+        e = np.exp(k[g] * lx)
+        s0 = np.bincount(g, wt * e, minlength=n_groups)
+        s1 = np.bincount(g, wlx * e, minlength=n_groups)
+        s2 = np.bincount(g, wlx2 * e, minlength=n_groups)
         s0 = np.where(s0 > 0, s0, 1.0)
         f = s1 / s0 - 1.0 / k - mean_lx
         df = s2 / s0 - (s1 / s0) ** 2 + 1.0 / k ** 2
@@ -134,11 +164,10 @@ def weibull_fit_mle(speed_ms, groups=None, n_groups: int = 1, tol: float = 1e-10
         k = k_new
         if done:
             break
-    w = np.exp(k[g] * lx)
-    s0 = np.bincount(g, w, minlength=n_groups)
+    s0 = np.bincount(g, wt * np.exp(k[g] * lx), minlength=n_groups)
     with np.errstate(invalid="ignore", divide="ignore"):
-        c = safe_scale * (s0 / n) ** (1.0 / k)
-    return np.where(ok, k, np.nan), np.where(ok, c, np.nan), n.astype(int)
+        c = safe_scale * (s0 / np.where(n > 0, n, 1.0)) ** (1.0 / k)
+    return np.where(ok, k, np.nan), np.where(ok, c, np.nan), np.rint(n).astype(int)
 
 
 @dataclass(frozen=True)

@@ -178,21 +178,26 @@ def _temperature_unit(header: str, values: np.ndarray, notes: list):
     return "C"
 
 
-def _decode(data: bytes, where: str) -> str:
-    head = data[:65536]
-    if b"\x00" in head:
+def _decode(data: bytes, where: str):
+    """Check the head of the file is text; return (decoded head, encoding for the whole)."""
+    head = data[:200000]
+    if b"\x00" in head[:65536]:
         raise InputError([(where, "looks like a binary file (it contains NUL bytes), not a "
                                   "CSV/TSV text table; export the record as CSV and try again")])
     try:
-        text = data.decode("utf-8-sig")
-    except UnicodeDecodeError:
-        text = data.decode("latin-1")
+        text = head.decode("utf-8-sig")
+        encoding = "utf-8-sig"
+    except UnicodeDecodeError as e:
+        if e.start >= len(head) - 4:  # a character cut at the end of the head
+            text, encoding = head[:e.start].decode("utf-8-sig"), "utf-8-sig"
+        else:
+            text, encoding = head.decode("latin-1"), "latin-1"
     sample = text[:65536]
     ctrl = sum(1 for ch in sample if ord(ch) < 32 and ch not in "\r\n\t")
     if sample and ctrl > 0.01 * len(sample):
         raise InputError([(where, "looks like a binary file (many control characters), not a "
                                   "CSV/TSV text table; export the record as CSV and try again")])
-    return text
+    return text, encoding
 
 
 def _find_separator(lines: list, where: str, separator):
@@ -298,8 +303,10 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
     if not data.strip():
         raise InputError([(where, "is empty; choose a CSV/TSV file with a header line and "
                                   "one row per time step")])
-    text = _decode(data, where)
-    all_lines = text[:200000].splitlines()
+    head_text, encoding = _decode(data, where)
+    all_lines = head_text.splitlines()
+    if len(data) > len(head_text) and all_lines:
+        all_lines = all_lines[:-1]  # the last line of the head may be cut short
     skip = 0
     while skip < len(all_lines) and (not all_lines[skip].strip()
                                      or all_lines[skip].lstrip().startswith("#")):
@@ -329,9 +336,15 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
     decimal = "."
     if sep != "," and any(re.search(r"\d,\d", ln) for ln in lines[1:]):
         decimal = ","
+    def _read(enc):
+        return pd.read_csv(io.BytesIO(data), sep=sep, skiprows=skip, decimal=decimal,
+                           skipinitialspace=True, engine="c", on_bad_lines="error",
+                           encoding=enc, encoding_errors="strict")
     try:
-        df = pd.read_csv(io.StringIO(text), sep=sep, skiprows=skip, decimal=decimal,
-                         skipinitialspace=True, engine="c", on_bad_lines="error")
+        try:
+            df = _read(encoding)
+        except UnicodeDecodeError:
+            df = _read("latin-1")  # not UTF-8 after all: every byte is a Latin-1 character
     except (pd.errors.ParserError, ValueError) as e:
         msg = str(e).split("\n")[0]
         raise InputError([(where, f"could not be read as a {_SEP_NAMES[sep]}-separated table "

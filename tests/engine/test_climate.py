@@ -149,3 +149,16 @@ def test_table_climate_accepts_percent():
     assert c.frequency == (0.25, 0.25, 0.5) and c.source == "table"
     with pytest.raises(InputError):
         climate.climate_from_table([0.5, 0.5], [2], [5, 6], height_m=10.0)
+
+
+def test_mle_on_logged_resolution_matches_scipy():
+    """Speeds logged at 0.01 m/s (weighted repeated values) fit as scipy fits the same data."""
+    rng = np.random.default_rng(17)
+    x = np.round(stats.weibull_min.rvs(2.1, scale=6.5, size=20000, random_state=rng), 2)
+    x = x[x > 0]
+    g = (np.arange(x.size) % 3)
+    k, c, n = climate.weibull_fit_mle(x, g, 3)
+    for i in range(3):
+        k_ref, _, c_ref = stats.weibull_min.fit(x[g == i], floc=0)  # scipy reference
+        assert k[i] == pytest.approx(k_ref, rel=1e-4) and c[i] == pytest.approx(c_ref, rel=1e-4)
+        assert n[i] == np.count_nonzero(g == i)
