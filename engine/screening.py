@@ -24,6 +24,8 @@ from __future__ import annotations
 import io
 import math
 import os
+import re
+import warnings
 from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Optional
@@ -66,6 +68,8 @@ SURROUNDINGS_COLUMNS = ("plan_area_fraction", "frontal_area_fraction", "mean_bui
                         "roughness_m", "displacement_m", "terrain_category")
 TEXT_COLUMNS = ("id", "roof_type", "zone", "terrain_category")
 KNOWN_COLUMNS = tuple(NUMERIC_LIMITS) + TEXT_COLUMNS
+#: Column a part carries for lines the CSV parser could not split into the header's fields.
+LINE_PROBLEM = "_line_problem"
 #: Largest number of row problems listed one by one; the rest are counted.
 MAX_LISTED_ROWS = 200
 #: Target size of one part of a CSV file [bytes] (a Dask partition, or a step of the local loop).
@@ -167,12 +171,34 @@ def read_part(part: Part) -> pd.DataFrame:
         with open(part.source, "rb") as fh:
             fh.seek(part.start)
             data = fh.read(part.stop - part.start)
+        skipped = {}
         try:
-            raw = pd.read_csv(io.BytesIO(data), header=None, names=list(part.header),
-                              dtype={c: str for c in TEXT_COLUMNS if c in part.header},
-                              skip_blank_lines=False, on_bad_lines="skip", engine="c")
+            with warnings.catch_warnings(record=True) as caught:
+                warnings.simplefilter("always", pd.errors.ParserWarning)
+                raw = pd.read_csv(io.BytesIO(data), header=None, names=list(part.header),
+                                  dtype={c: str for c in TEXT_COLUMNS if c in part.header},
+                                  skip_blank_lines=False, on_bad_lines="warn", engine="c")
+            # Lines with too many fields are skipped by the parser, which says which ones.
+            for w in caught:
+                if issubclass(w.category, pd.errors.ParserWarning):
+                    for rel, why in re.findall(r"Skipping line (\d+): ([^\n]*)", str(w.message)):
+                        skipped[part.first_line + int(rel) - 1] = why
         except pd.errors.EmptyDataError:
             raw = pd.DataFrame(columns=list(part.header))
+        lines = np.arange(part.first_line, part.first_line + len(raw) + len(skipped),
+                          dtype=np.int64)
+        lines = lines[~np.isin(lines, np.fromiter(skipped, np.int64, len(skipped)))]
+        raw = raw.copy()
+        raw["line"] = lines
+        raw[LINE_PROBLEM] = ""
+        if skipped:
+            extra = pd.DataFrame({"line": np.fromiter(skipped, np.int64, len(skipped)),
+                                  LINE_PROBLEM: [f"{why} (the header has {len(part.header)} "
+                                                 "columns); check commas and quotes"
+                                                 for why in skipped.values()]})
+            raw = pd.concat([raw, extra], ignore_index=True).sort_values(
+                "line", kind="mergesort").reset_index(drop=True)
+        return raw
     raw = raw.copy()
     raw["line"] = np.arange(part.first_line, part.first_line + len(raw), dtype=np.int64)
     return raw
@@ -198,7 +224,7 @@ def header_problems(columns) -> list:
     if not has_xy and not has_ll:
         probs.append(("columns", "need plan positions: columns x_m and y_m (local metres) or "
                                  "latitude_deg and longitude_deg"))
-    unknown = [c for c in columns if c not in KNOWN_COLUMNS and c != "line"]
+    unknown = [c for c in columns if c not in KNOWN_COLUMNS and c not in ("line", LINE_PROBLEM)]
     if unknown:
         probs.append(("columns", f"unknown column(s) {', '.join(map(repr, unknown))}; known: "
                                  f"{', '.join(KNOWN_COLUMNS)}"))
@@ -243,8 +269,11 @@ def check_part(raw: pd.DataFrame, zones=None) -> pd.DataFrame:
             continue
         col = raw[name]
         vals = pd.to_numeric(col, errors="coerce").to_numpy(dtype=float)
-        given = ~(col.isna().to_numpy() | (col.astype("string").fillna("").str.strip() == "")
-                  .to_numpy())
+        if pd.api.types.is_numeric_dtype(col.dtype):
+            given = ~col.isna().to_numpy()
+        else:
+            given = ~(col.isna().to_numpy()
+                      | (col.astype("string").fillna("").str.strip() == "").to_numpy())
         required = name in REQUIRED_COLUMNS or (name in ("x_m", "y_m") and not use_ll) or (
             name in ("latitude_deg", "longitude_deg") and use_ll)
         not_number = given & ~np.isfinite(vals)
@@ -293,6 +322,10 @@ def check_part(raw: pd.DataFrame, zones=None) -> pd.DataFrame:
     text = np.full(n, "", dtype=object)
     for i, msgs in bad_msgs.items():
         text[i] = "; ".join(msgs)
+    if LINE_PROBLEM in raw:
+        # A line that could not be split has no fields to speak of: its own message only.
+        lp_text = raw[LINE_PROBLEM].fillna("").to_numpy(object)
+        text = np.where(lp_text != "", lp_text, text)
     out["problem"] = text
     return out
 

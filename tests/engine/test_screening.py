@@ -372,3 +372,19 @@ def test_latitude_longitude_table_screens_like_local_metres(ctx):
     same = np.isclose(b["plan_area_fraction"], a["plan_area_fraction"], rtol=1e-9)
     assert same.mean() >= 0.95
     assert np.allclose(b["aep_kwh_ha-1k5"][same], a["aep_kwh_ha-1k5"][same], rtol=1e-9)
+
+
+def test_malformed_csv_line_reported_on_its_line(ctx, tmp_path):
+    """A line with more fields than the header is reported on its line; the others keep theirs."""
+    path = tmp_path / "m.csv"
+    path.write_text("id,x_m,y_m,length_m,width_m,height_m\n"
+                    "a,0,0,12,8,9\n"
+                    "b,30,0,12,8,9,7\n"
+                    "c,60,0,12,8,oops\n"
+                    "d,90,0,12,8,10\n")
+    res = screening.screen_local(path, ctx)
+    where = dict(res.problems)
+    assert "expected 6 fields, saw 7" in where["line 3"]
+    assert "height_m must be a number, got 'oops'" in where["line 4 (id 'c')"]
+    assert sorted(res.table["id"]) == ["a", "d"]
+    assert dict(zip(res.table["id"], res.table["line"])) == {"a": 2, "d": 5}
