@@ -230,6 +230,12 @@ FINITE_COLUMNS = ("hub_height_m", "mean_speed_ms", "gross_aep_kwh", "aep_kwh",
                   "p50_aep_kwh", "p75_aep_kwh", "p90_aep_kwh", "full_load_hours")
 
 
+#: Results that may be infinite ("never") but never NaN.
+NO_NAN_COLUMNS = FINITE_COLUMNS + ("lcoe_per_kwh", "payback_years", "npv",
+                                   "co2_avoided_kg_per_year", "thrust_rated_n",
+                                   "thrust_extreme_n", "mast_base_moment_nm", "noise_margin_db")
+
+
 def check_chain_bounds(a, curve_cap_w=None):
     """Evaluate and assert every physical bound on the results table.
 
@@ -249,10 +255,10 @@ def check_chain_bounds(a, curve_cap_w=None):
         if col in t:
             assert np.isfinite(t[col].to_numpy(dtype=float)).all(), f"{col} not finite"
     eff = ev.climate
-    # NaN is allowed only in building-model diagnostics, where it means "does not apply here"
-    # (e.g. a roof clearance at a mast); money may be +inf ("never pays back"), never NaN.
-    for col in t.select_dtypes("number").columns:
-        if col not in eff.diagnostics:
+    # Diagnostics may hold NaN for "does not apply here" (a roof clearance at a mast); energy,
+    # money, loads and noise never do. Money may be +inf ("never pays back").
+    for col in NO_NAN_COLUMNS:
+        if col in t:
             assert not np.isnan(t[col].to_numpy(dtype=float)).any(), f"NaN in {col}"
     rated_kw = t["rated_power_kw"].to_numpy()
     gross, net = t["gross_aep_kwh"].to_numpy(), t["aep_kwh"].to_numpy()
