@@ -50,6 +50,7 @@ def peak_rss_mb() -> float:
 
 def child(path: str) -> None:
     """Run the chain three times on ``path``; print timings and peak RSS as JSON."""
+    first_peak_mb = 0.0
     from engine import climate, qc, timeseries
     base_mb = peak_rss_mb()
     runs = []
@@ -67,9 +68,11 @@ def child(path: str) -> None:
         runs.append({"load_s": t1 - t0, "qc_s": t2 - t1, "climate_s": t3 - t2,
                      "total_s": t3 - t0, "cpu_s": time.process_time() - c0})
         del data
+        if len(runs) == 1:
+            first_peak_mb = peak_rss_mb()
     peak_mb = peak_rss_mb()
     print(json.dumps({"runs": runs, "rows": rec.n_rows, "valid": rep.n_valid,
-                      "base_mb": base_mb, "peak_mb": peak_mb,
+                      "base_mb": base_mb, "peak_mb": peak_mb, "first_peak_mb": first_peak_mb,
                       "mean_speed_ms": summ.mean_speed_ms, "k": summ.all_k,
                       "c": summ.all_c_ms}))
 
@@ -142,9 +145,10 @@ def main() -> int:
           f"{loop_s / best['total_s']:.2f}x the per-row binning loop alone")
     print(f"machine load     : {os.getloadavg()[0]:.1f} on {os.cpu_count()} CPUs (wall times "
           "stretch when other work runs)")
-    print(f"peak resident    : {res['peak_mb']:.0f} MB (child after imports "
-          f"{res['base_mb']:.0f} MB; target < {TARGET_MB:g} MB: "
-          f"{'met' if res['peak_mb'] < TARGET_MB else 'NOT met'})")
+    print(f"peak resident    : {res['first_peak_mb']:.0f} MB for one run of the chain "
+          f"(child after imports {res['base_mb']:.0f} MB; target < {TARGET_MB:g} MB: "
+          f"{'met' if res['first_peak_mb'] < TARGET_MB else 'NOT met'}); "
+          f"{res['peak_mb']:.0f} MB after three runs (freed heap is not all returned)")
     return 0
 
 

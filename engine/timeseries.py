@@ -223,9 +223,38 @@ def _find_separator(lines: list, where: str, separator):
                               "speed column")])
 
 
+def _read_arrow(data: bytes, sep: str, skip: int) -> pd.DataFrame:
+    """Read with the Arrow CSV reader into plain memory (freed at once, unlike a pool)."""
+    import pyarrow as pa
+    from pyarrow import csv as pacsv
+    pool = pa.system_memory_pool()
+    table = pacsv.read_csv(io.BytesIO(data), read_options=pacsv.ReadOptions(skip_rows=skip),
+                           parse_options=pacsv.ParseOptions(delimiter=sep),
+                           memory_pool=pool)
+    try:
+        return table.to_pandas(memory_pool=pool, self_destruct=True, split_blocks=True)
+    finally:
+        del table
+
+
 def _parse_times(col: pd.Series, utc_offset_h: float, day_first: bool, notes: list):
     """Parse a column of timestamps to int64 UTC ns; unreadable -> NAT_NS (and a mask)."""
     blank = col.isna().to_numpy()
+    if isinstance(col.dtype, pd.DatetimeTZDtype) or pd.api.types.is_datetime64_dtype(col):
+        aware = isinstance(col.dtype, pd.DatetimeTZDtype)
+        t = col.dt.tz_convert("UTC") if aware else col
+        ns = t.to_numpy(dtype="datetime64[ns]").view(np.int64).copy()
+        bad = t.isna().to_numpy()
+        if aware:
+            notes.append("timestamps carry a UTC offset; converted to UTC with it")
+        elif utc_offset_h:
+            ns[~bad] -= np.int64(round(utc_offset_h * 3600e9))
+            notes.append(f"timestamps without offset taken as UTC{utc_offset_h:+g} h "
+                         "(fixed, no DST)")
+        else:
+            notes.append("timestamps without offset taken as UTC")
+        ns[bad] = NAT_NS
+        return ns, np.zeros(ns.shape, bool)
     if pd.api.types.is_numeric_dtype(col):
         v = col.to_numpy(dtype=float)
         med = np.nanmedian(v) if np.isfinite(v).any() else np.nan
@@ -340,11 +369,22 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
         return pd.read_csv(io.BytesIO(data), sep=sep, skiprows=skip, decimal=decimal,
                            skipinitialspace=True, engine="c", on_bad_lines="error",
                            encoding=enc, encoding_errors="strict")
-    try:
+    df = None
+    if decimal == "." and encoding == "utf-8-sig" and len(data) > 1_000_000:
+        # Large files: the Arrow reader parses ISO timestamps natively, about twice as fast.
+        # Anything it does not take (odd rows, encodings) goes to the C reader below.
         try:
-            df = _read(encoding)
-        except UnicodeDecodeError:
-            df = _read("latin-1")  # not UTF-8 after all: every byte is a Latin-1 character
+            df = _read_arrow(data, sep, skip)
+            if list(df.columns) != [str(c).strip() for c in df.columns]:
+                df = None
+        except Exception:  # noqa: BLE001 - any refusal falls back to the strict reader
+            df = None
+    try:
+        if df is None:
+            try:
+                df = _read(encoding)
+            except UnicodeDecodeError:
+                df = _read("latin-1")  # not UTF-8 after all: every byte is a Latin-1 character
     except (pd.errors.ParserError, ValueError) as e:
         msg = str(e).split("\n")[0]
         raise InputError([(where, f"could not be read as a {_SEP_NAMES[sep]}-separated table "
