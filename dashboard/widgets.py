@@ -66,7 +66,8 @@ def number(label: str, path: str, kind: str = "plain", fmt: str = "%.2f", step=N
     unit = state.unit_of(kind)
     shown = f"{label} ({unit})" if kind in ("speed", "length") else label
     value = st.number_input(shown, key=key, format=fmt, step=step, help=help,
-                            disabled=disabled, placeholder="not given" if optional else None)
+                            disabled=disabled or not editing(),
+                            placeholder="not given" if optional else None)
     state.set_path(path, state.to_si(value, kind))
     field_messages(path, shown, kind)
     return value
@@ -77,7 +78,7 @@ def text(label: str, path: str, help: str | None = None, area: bool = False):
     if key not in st.session_state:
         st.session_state[key] = str(state.get_path(path, "") or "")
     fn = st.text_area if area else st.text_input
-    value = fn(label, key=key, help=help)
+    value = fn(label, key=key, help=help, disabled=not editing())
     state.set_path(path, value)
     field_messages(path, label)
     return value
@@ -90,7 +91,8 @@ def choice(label: str, path: str, options, help: str | None = None, fmt=None,
     if key not in st.session_state or st.session_state[key] not in options:
         cur = state.get_path(path)
         st.session_state[key] = cur if cur in options else options[0]
-    value = st.selectbox(label, options, key=key, help=help, format_func=fmt or str)
+    value = st.selectbox(label, options, key=key, help=help, format_func=fmt or str,
+                         disabled=not editing())
     state.set_path(path, value)
     field_messages(path, label)
     return value
@@ -100,7 +102,7 @@ def toggle(label: str, path: str, help: str | None = None, scope: str = ""):
     key = _key(path, "plain", scope)
     if key not in st.session_state:
         st.session_state[key] = bool(state.get_path(path, False))
-    value = st.checkbox(label, key=key, help=help)
+    value = st.checkbox(label, key=key, help=help, disabled=not editing())
     state.set_path(path, value)
     return value
 

@@ -25,6 +25,8 @@ RANK_SCHEME = ["#123f73", "#2f7fb5", "#8cc0d8", "#f2c46d", "#c97a2b"]
 EXCLUDED_COLOUR = "#9a9a9a"
 ACCENT = "#1f5f99"
 RANGE_COLOUR = "#c97a2b"
+#: Name of the plan's click selection (a clicked position's ``position_id``).
+PICK = "pick"
 COMPASS = ("N", "NNE", "NE", "ENE", "E", "ESE", "SE", "SSE",
            "S", "SSW", "SW", "WSW", "W", "WNW", "NW", "NNW")
 
@@ -284,7 +286,8 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
         shape=alt.Shape("kind:N", title="position",
                         scale=alt.Scale(domain=["roof", "gap", "mast"],
                                         range=["circle", "diamond", "triangle-up"]))
-    ).project(**proj.to_dict())
+    ).add_params(alt.selection_point(name=PICK, fields=["position_id"], on="click",
+                                     clear=False)).project(**proj.to_dict())
     ring = point_base.transform_filter(alt.datum.selected).mark_point(
         size=650, stroke="#d62", strokeWidth=3, filled=False).project(**proj.to_dict())
     # Names slant up and to the right of their markers so close neighbours stay readable.

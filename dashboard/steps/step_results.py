@@ -112,10 +112,20 @@ with st.expander(f"All {len(table)} rows with every figure and reason", expanded
 st.subheader("Plan and position detail")
 if ss.get("detail_position") not in pos_ids:
     ss["detail_position"] = str(best["position_id"]) if best is not None else pos_ids[0]
+# A position clicked on the plan becomes the one in detail.
+try:
+    clicked = ss["plan_pick"]["selection"]["pick"][0]["position_id"]
+except (KeyError, IndexError, TypeError):
+    clicked = None
+if clicked in pos_ids and clicked != ss.get("last_clicked"):
+    ss["detail_position"] = clicked
+    ss["detail_position_w"] = clicked
+ss["last_clicked"] = clicked
 c1, c2 = st.columns([3, 2])
 with c2:
-    dp = st.selectbox("Position", pos_ids, index=pos_ids.index(ss["detail_position"]),
-                      key="detail_position_w")
+    if ss.get("detail_position_w") not in pos_ids:
+        ss["detail_position_w"] = ss["detail_position"]
+    dp = st.selectbox("Position", pos_ids, key="detail_position_w")
     ss["detail_position"] = dp
     rows_p = table[table["position_id"] == dp]
     best_t = str(rows_p.iloc[0]["turbine_id"])
@@ -137,9 +147,11 @@ with c2:
     for f in row["flags"]:
         st.markdown(f"- {f}")
 with c1:
-    st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="content", theme=None)
+    st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="content", theme=None,
+                       on_select="rerun", selection_mode="pick", key="plan_pick")
     st.caption("Colour: the position's place in the ranking (dark blue is best); grey: every "
-               "turbine there is excluded by a constraint. Ring: the position in detail.")
+               "turbine there is excluded by a constraint. Ring: the position in detail; "
+               "click a position to see its detail.")
 
 VIEWS = {"rose": "Wind rose", "dist": "Speed distribution", "profile": "Vertical profile",
          "curve": "Power curve", "monthly": "Monthly energy", "bars": "Ranking chart"}
