@@ -81,7 +81,7 @@ def bin_vectorised(v, d, n):
     from engine.climate import sector_index
     s = sector_index(d, n)
     return (np.bincount(s, minlength=n), np.bincount(s, v, minlength=n),
-            np.bincount(s, v ** 3, minlength=n))
+            np.bincount(s, v * v * v, minlength=n))
 
 
 def bin_loop(v, d, n):

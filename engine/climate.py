@@ -46,9 +46,14 @@ def sector_index(direction_deg, n_sectors: int) -> np.ndarray:
     i = floor(((θ + w/2) mod 360) / w), w = 360/n; 360° is north (sector 0).
     """
     w = 360.0 / n_sectors
-    # Integer floor-mod wraps 360 deg and negative angles alike (one pass fewer than float mod).
-    idx = np.floor((np.asarray(direction_deg, float) + w / 2.0) / w).astype(np.intp)
-    return idx % n_sectors
+    d = np.asarray(direction_deg, float)
+    if d.size and (d.min() < 0.0 or d.max() > 360.0):
+        d = np.mod(d, 360.0)
+    # For 0 <= θ <= 360 the quotient is in [0.5, n + 0.5]: truncation is the floor, and only
+    # the top half-sector (up to 360°) wraps to sector 0.
+    idx = ((d + w / 2.0) / w).astype(np.int32)
+    np.putmask(idx, idx >= n_sectors, 0)
+    return idx
 
 
 def weibull_fit_moments(speed_ms, groups=None, n_groups: int = 1):
@@ -280,7 +285,7 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
                                      "varying speeds")])
     with np.errstate(invalid="ignore", divide="ignore"):
         mean_s = np.bincount(sec, v, minlength=n_sectors) / counts
-        pd_s = 0.5 * air_density_kgm3 * np.bincount(sec, v ** 3, minlength=n_sectors) / counts
+        pd_s = 0.5 * air_density_kgm3 * np.bincount(sec, v * v * v, minlength=n_sectors) / counts
     own = (n_fit >= min_sector_records) & np.isfinite(k_s)
     k_out = np.where(own, k_s, k_all)
     # A thin sector keeps its own mean speed with the all-sector shape.
@@ -336,7 +341,7 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
     return ClimateSummary(
         climate=clim, sectors=table, all_k=k_all, all_c_ms=c_all,
         mean_speed_ms=float(v.mean()),
-        power_density_wm2=float(0.5 * air_density_kgm3 * np.mean(v ** 3)),
+        power_density_wm2=float(0.5 * air_density_kgm3 * np.mean(v * v * v)),
         weibull_power_density_wm2=float(weibull_power_density_wm2(k_all, c_all,
                                                                    air_density_kgm3)),
         calm_fraction=calm, air_density_kgm3=float(air_density_kgm3), rose=rose,
