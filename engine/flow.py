@@ -9,11 +9,12 @@ Array shapes: P positions, S sectors.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from . import profiles
+from . import buildings, gaps, profiles, roofflow, roofzones, shelter, spot
+from .errors import InputError
 
 
 @dataclass(frozen=True)
@@ -63,33 +64,279 @@ class EffectiveClimate:
 def free_stream_at_hub(assessment, hub_height_m):
     """Undisturbed per-sector Weibull at each hub height: (k, c) arrays of shape (P, S).
 
-    The climate's scale is carried from its height and roughness to the site's roughness and
-    displacement with the EN 1991-1-4 terrain factor and the log law
-    (:func:`engine.profiles.transfer_speed_ratio`); the shape k is kept.
+    The climate is carried from its height and roughness to the site's terrain as the
+    assessment's :class:`~engine.model.TransferSettings` say (EN 1991-1-4 terrain factor and
+    log law by default): see :func:`engine.transfer.free_stream_weibull`.
     """
-    clim, site = assessment.climate, assessment.site
-    ratio = profiles.transfer_speed_ratio(
-        np.asarray(hub_height_m, float), site.terrain_roughness_m, clim.height_m,
-        clim.roughness_m, site.displacement_m, clim.displacement_m)
-    c = np.asarray(clim.weibull_c_ms, float)[None, :] * ratio[:, None]
-    k = np.broadcast_to(np.asarray(clim.weibull_k, float), c.shape).copy()
-    return k, c
+    from .model import TransferSettings
+    from .transfer import free_stream_weibull
+    settings = getattr(assessment, "transfer", None) or TransferSettings()
+    return free_stream_weibull(assessment.climate, assessment.site, hub_height_m, settings)
 
 
-def effective_climate(assessment, air_density_kgm3: float) -> EffectiveClimate:
-    """Effective climate of every position: free stream at hub height, then building effects."""
+def effective_climate(assessment, air_density_kgm3: float,
+                      calibrate_with_spot_readings: bool = True) -> EffectiveClimate:
+    """Effective climate of every position: free stream at hub height, then building effects.
+
+    Parameters
+    ----------
+    assessment : :class:`engine.model.Assessment`
+    air_density_kgm3 : site air density [kg/m³]
+    calibrate_with_spot_readings : put measured speed-ups in place of the model's for the
+        spot readings marked ``use_for_calibration`` (others are only compared)
+
+    Returns
+    -------
+    EffectiveClimate
+
+    Notes
+    -----
+    speed_factor = S_roof · S_gap · S_shelter per position and sector, each 1 where it does not
+    apply: roof positions get the roof-flow model (:mod:`engine.roofflow`) on the ASHRAE zones
+    of their own block (:mod:`engine.roofzones`); gap positions the passage concentrator with
+    spillage (:mod:`engine.gaps`); every position the wake of the other upwind blocks
+    (:mod:`engine.shelter`; a position's own roof and its passage's walls are left out).
+    Turbulence: roof and passage keep the ambient σ_u through modest speed changes; each model
+    adds its own turbulence in quadrature (see the modules).
+
+    **Main energy sectors** (:func:`engine.roofzones.main_energy_sectors`): per position, the
+    fewest sectors, largest first, carrying 80 % of the undisturbed wind energy at hub height
+    (f c³ Γ(1 + 3/k)). Zone flags and the minimum mast height use these sectors only.
+
+    Diagnostics of shape (P,) (the pipeline makes them rank-table columns):
+
+    * ``in_recirculation_zone`` — hub inside the roof recirculation bubble of its block, or in a
+      block's wake cavity, in a main energy sector;
+    * ``in_turbulence_zone`` — hub inside the roof's high-turbulence zone (under max(Z1, Z2))
+      in a main energy sector. Evaluated **at the hub**: a rotor of radius r clears the zone
+      when ``mast_height_m − r ≥ min_clear_mast_m``; :func:`rotor_in_turbulence_zone` gives
+      that per turbine;
+    * ``min_clear_mast_m`` — lowest mast height above the roof surface putting the hub at the
+      top of the high-turbulence zone in every main sector [m] (NaN off roofs);
+    * ``in_roof_wake`` — hub under the roof-wake boundary Z3 in a main sector (a caution);
+    * ``spilled_fraction`` — passage positions: share of the capture flow that spills round,
+      weighted by sector energy share (the model's spill does not depend on direction);
+      NaN elsewhere;
+    * ``governing_limit`` — passage positions: "pressure" or "continuity", the limit governing
+      in the sector carrying most energy; "" elsewhere;
+    * ``shelter_factor`` — energy-weighted mean of the upwind-wake speed factor [-].
+
+    Diagnostics of shape (P, S): ``energy_share``, ``main_sector``, ``zone_top_m`` (height
+    above the roof surface of the high-turbulence zone's top at the position), clearances
+    ``clearance_recirculation_m``, ``clearance_turbulence_m``, ``clearance_wake_m``,
+    ``roof_scaling_length_m``, ``shelter_speed_factor``, ``gap_wall_force_per_q_m2``,
+    ``spot_calibrated``. With spot readings, ``spot_readings`` holds the comparison of
+    :func:`engine.spot.spot_comparison` as a dict of columns, and (P,) ``spot_measured_speedup``,
+    ``spot_speedup_ci_low``, ``spot_speedup_ci_high``, ``spot_model_speedup``.
+    """
     positions = assessment.positions
     hub = np.array([assessment.hub_height_m(p) for p in positions], dtype=float)
     k, free_c = free_stream_at_hub(assessment, hub)
     P, S = free_c.shape
     freq = np.broadcast_to(np.asarray(assessment.climate.frequency, float), (P, S)).copy()
     site = assessment.site
-    ti = np.broadcast_to(profiles.turbulence_intensity_terrain(
+    ti0 = np.broadcast_to(profiles.turbulence_intensity_terrain(
         hub, site.terrain_roughness_m, site.displacement_m)[:, None], (P, S)).copy()
-    return EffectiveClimate(
-        position_ids=tuple(p.id for p in positions),
-        sector_deg=np.asarray(assessment.climate.sector_deg, float),
+    sector_deg = np.asarray(assessment.climate.sector_deg, float)
+    fx = _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0)
+    eff = EffectiveClimate(
+        position_ids=tuple(p.id for p in positions), sector_deg=sector_deg,
         hub_height_m=hub, frequency=freq, weibull_k=k, free_c_ms=free_c,
-        speed_factor=np.ones((P, S)), turbulence_intensity=ti,
-        inflow_skew_deg=np.zeros((P, S)), air_density_kgm3=float(air_density_kgm3),
-        flags=tuple(() for _ in positions), diagnostics={})
+        speed_factor=fx["speed_factor"], turbulence_intensity=fx["turbulence_intensity"],
+        inflow_skew_deg=fx["inflow_skew_deg"], air_density_kgm3=float(air_density_kgm3),
+        flags=fx["flags"], diagnostics=fx["diagnostics"])
+    if assessment.spot_readings:
+        eff = _with_spot_readings(assessment, eff, calibrate_with_spot_readings)
+    _check_physics(eff)
+    return eff
+
+
+def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_m):
+    """Whether each rotor disc dips into the roof's high-turbulence zone: (P, T) bool.
+
+    Parameters
+    ----------
+    eff : effective climate (its ``min_clear_mast_m`` diagnostic)
+    mast_height_m : (P,) mast heights above the roof [m]
+    rotor_radius_m : (T,) half the rotor's vertical extent [m]
+
+    Notes
+    -----
+    In the zone when mast − r < min_clear_mast_m; positions off roofs (NaN) are never in it.
+    """
+    need = np.asarray(eff.diagnostics.get("min_clear_mast_m", np.full(eff.n_positions, np.nan)))
+    low = (np.asarray(mast_height_m, float)[:, None] - np.asarray(rotor_radius_m, float)[None, :])
+    return np.where(np.isfinite(need)[:, None], low < need[:, None] - 1e-9, False)
+
+
+def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
+    """Roof, passage and wake models for every position and sector (see effective_climate)."""
+    positions = assessment.positions
+    P, S = free_c.shape
+    bldg = buildings.building_arrays(assessment.buildings)
+    ids = {b: i for i, b in enumerate(bldg.ids)}
+    kind = np.array([p.kind for p in positions])
+    px = np.array([float(p.x_m) for p in positions])
+    py = np.array([float(p.y_m) for p in positions])
+    mast = np.array([float(p.mast_height_m) for p in positions])
+    own = np.array([ids.get(p.building_id, -1) if p.kind == "roof" else -1 for p in positions])
+    ga = np.array([ids[p.gap_buildings[0]] if p.kind == "gap" else -1 for p in positions])
+    gb = np.array([ids[p.gap_buildings[1]] if p.kind == "gap" else -1 for p in positions])
+    exclude = np.zeros((P, bldg.n), bool)
+    for col in (own, ga, gb):
+        rows = np.flatnonzero(col >= 0)
+        exclude[rows, col[rows]] = True
+
+    share = roofzones.sector_energy_share(freq, k, free_c)
+    main = roofzones.main_energy_sectors(share)
+    top = np.argmax(share, axis=1)
+
+    speed = np.ones((P, S))
+    ti = ti0.copy()
+    skew = np.zeros((P, S))
+    nan_ps = np.full((P, S), np.nan)
+    diag = {
+        "energy_share": share, "main_sector": main, "zone_top_m": nan_ps.copy(),
+        "clearance_recirculation_m": nan_ps.copy(), "clearance_turbulence_m": nan_ps.copy(),
+        "clearance_wake_m": nan_ps.copy(), "roof_scaling_length_m": nan_ps.copy(),
+        "gap_wall_force_per_q_m2": nan_ps.copy(),
+    }
+    in_rec_ps = np.zeros((P, S), bool)
+    in_turb_ps = np.zeros((P, S), bool)
+    in_wake_ps = np.zeros((P, S), bool)
+    min_clear = np.full(P, np.nan)
+    spilled = np.full(P, np.nan)
+    governing = np.full(P, "", dtype=object)
+
+    roof = np.flatnonzero(kind == "roof")
+    if len(roof):
+        ib = own[roof]
+        para = bldg.parapet_height_m[ib]
+        cross, _, _, _, _ = buildings.sector_geometry(
+            bldg.length_m[ib], bldg.width_m[ib], bldg.orientation_deg[ib], sector_deg)
+        R = roofzones.scaling_length_m((bldg.height_m[ib] + para)[:, None], cross)
+        u, v = buildings.to_local(px[roof], py[roof], bldg.x_m[ib], bldg.y_m[ib],
+                                  bldg.orientation_deg[ib])
+        X, Xd = buildings.roof_fetch_m(u, v, bldg.length_m[ib], bldg.width_m[ib],
+                                       bldg.orientation_deg[ib], sector_deg)
+        roof_len = X + Xd
+        z = (mast[roof] - para)[:, None]
+        clear = roofzones.zone_clearances_m(z, X, R, roof_len)
+        gamma = np.abs(np.mod(sector_deg[None, :] - bldg.orientation_deg[ib][:, None] - 90.0
+                              + 90.0, 180.0) - 90.0)
+        ds, dt = roofflow.direction_weights(bldg.pitched[ib][:, None], gamma)
+        s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds)
+        ti[roof] = roofflow.roof_turbulence_intensity(ti0[roof], s_roof, z, X, R, roof_len, dt)
+        skew[roof] = roofflow.roof_inflow_skew_deg(z, X, R, roof_len)
+        speed[roof] *= s_roof
+        zone_top = roofzones.turbulence_zone_top_m(X, R, roof_len) + para[:, None]
+        diag["zone_top_m"][roof] = zone_top
+        diag["roof_scaling_length_m"][roof] = R
+        for name in ("recirculation", "turbulence", "wake"):
+            diag[f"clearance_{name}_m"][roof] = clear[name]
+        in_rec_ps[roof] = clear["recirculation"] < 0
+        in_turb_ps[roof] = clear["turbulence"] < 0
+        in_wake_ps[roof] = clear["wake"] < 0
+        min_clear[roof] = roofzones.min_clear_mast_m(zone_top, main[roof])
+
+    gap = np.flatnonzero(kind == "gap")
+    if len(gap):
+        geo = gaps.passage_geometry(bldg, ga[gap], gb[gap])
+        narrow = geo.width_m < 0.5
+        if narrow.any():
+            raise InputError([
+                (f"positions[{gap[i]}].gap_buildings",
+                 f"buildings {bldg.ids[ga[gap[i]]]!r} and {bldg.ids[gb[gap[i]]]!r} touch or "
+                 f"overlap (gap {geo.width_m[i]:.2f} m, need at least 0.5 m); move the "
+                 "buildings apart or make this a roof or mast position")
+                for i in np.flatnonzero(narrow)])
+        gf = gaps.gap_flow(geo, sector_deg, hub[gap])
+        sg = gf["speed_factor"]
+        ti[gap] = np.hypot(ti[gap] / np.maximum(sg, roofflow.ROOF_FLOW["sigma_speed_floor"]),
+                           gf["added_ti"])
+        speed[gap] *= sg
+        spilled[gap] = np.sum(share[gap] * gf["spilled_fraction"], axis=1)
+        governing[gap] = gf["governing"][np.arange(len(gap)), top[gap]]
+        diag["gap_wall_force_per_q_m2"][gap] = gf["wall_force_per_q_m2"]
+
+    sh = shelter.shelter(px, py, hub, bldg, sector_deg, exclude)
+    ti = np.hypot(ti, sh["added_ti"])
+    speed = speed * sh["speed_factor"]
+    diag["shelter_speed_factor"] = sh["speed_factor"]
+    in_cavity_ps = sh["in_wake_recirculation"]
+
+    in_rec = ((in_rec_ps | in_cavity_ps) & main).any(axis=1)
+    in_turb = (in_turb_ps & main).any(axis=1)
+    in_wake = (in_wake_ps & main).any(axis=1)
+    shelter_mean = np.sum(share * sh["speed_factor"], axis=1)
+    diag.update({"in_recirculation_zone": in_rec, "in_turbulence_zone": in_turb,
+                 "in_roof_wake": in_wake, "min_clear_mast_m": min_clear,
+                 "spilled_fraction": spilled, "governing_limit": governing.astype(str),
+                 "shelter_factor": shelter_mean})
+    flags = tuple(_position_flags(i, kind[i], in_rec_ps[i] & main[i], in_cavity_ps[i] & main[i],
+                                  in_turb[i], in_wake[i], min_clear[i], shelter_mean[i],
+                                  sh["sheltering_building"][i, top[i]], bldg.ids)
+                  for i in range(P))
+    return {"speed_factor": speed, "turbulence_intensity": ti, "inflow_skew_deg": skew,
+            "flags": flags, "diagnostics": diag}
+
+
+def _position_flags(i, kind, rec, cavity, turb, wake, min_clear, shelter_mean, strongest, ids):
+    """Short reasons and cautions for one position (a handful of strings, not a data path)."""
+    out = []
+    if rec.any():
+        out.append("in roof recirculation zone")
+    if cavity.any():
+        out.append("in the wake recirculation behind a building")
+    if turb:
+        out.append(f"a mast of {min_clear:.1f} m puts the hub above the roof's "
+                   "high-turbulence zone")
+    elif wake:
+        out.append("hub below the roof-wake boundary: gusty, skewed inflow")
+    if shelter_mean < 0.9 and strongest >= 0:
+        out.append(f"sheltered by {ids[strongest]} ({(1 - shelter_mean) * 100:.0f} % slower)")
+    if kind == "roof":
+        out.append("roof mount: structural engineer to check roof and mast")
+    if kind == "gap":
+        out.append("passage: channelled wind load on walls and mounts; structural engineer "
+                   "to check")
+    return tuple(out)
+
+
+def _with_spot_readings(assessment, eff, calibrate):
+    """Add the spot-reading comparison (and, if asked, the calibration) to the climate."""
+    table = spot.spot_comparison(assessment, eff)
+    P, S = eff.speed_factor.shape
+    idx = {p: i for i, p in enumerate(eff.position_ids)}
+    pi = np.array([idx[p] for p in table["position_id"]])
+    diag = dict(eff.diagnostics)
+    for name, col in (("spot_measured_speedup", "measured_speedup"),
+                      ("spot_speedup_ci_low", "speedup_ci_low"),
+                      ("spot_speedup_ci_high", "speedup_ci_high")):
+        arr = np.full(P, np.nan)
+        # The last reading set of a position is shown; the full table is in spot_readings.
+        arr[pi] = table[col].to_numpy(float)
+        diag[name] = arr
+    model_su = np.full(P, np.nan)
+    model_su[pi] = table["model_speedup"].to_numpy(float)
+    diag["spot_model_speedup"] = model_su
+    # A dict of columns (not a DataFrame): np.asarray of it is 0-d, so no consumer that turns
+    # (P,) or (P, S) diagnostics into columns can mistake it for one.
+    diag["spot_readings"] = table.to_dict("list")
+    sf, done = eff.speed_factor, np.zeros((P, S), bool)
+    flags = list(eff.flags)
+    if calibrate:
+        sf, done = spot.calibrated_speed_factor(eff.speed_factor, table, eff.position_ids)
+        for i in np.flatnonzero(done.any(axis=1)):
+            flags[i] = tuple(flags[i]) + ("speed-up calibrated by spot readings in "
+                                          f"{int(done[i].sum())} sector(s)",)
+    diag["spot_calibrated"] = done
+    return replace(eff, speed_factor=sf, flags=tuple(flags), diagnostics=diag)
+
+
+def _check_physics(eff: EffectiveClimate) -> None:
+    """Speeds and turbulence must be finite and non-negative; a breach is a model bug."""
+    for name in ("speed_factor", "turbulence_intensity"):
+        arr = getattr(eff, name)
+        if not (np.all(np.isfinite(arr)) and np.all(arr >= 0)):
+            raise AssertionError(f"effective climate: {name} has negative or non-finite values")
