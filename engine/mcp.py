@@ -259,3 +259,29 @@ def long_term_climate(target_record, target_report, ref_record, ref_report, *,
         label=f"long-term at the target by {method} MCP against {ref_record.file_name}",
         record_file=target_record.file_name, record_sha256=target_record.sha256)
     return summary, res
+
+
+def long_term_from_csv_bytes(target_data: bytes, target_name: str, ref_data: bytes,
+                             ref_name: str, *, height_m: float, roughness_m: float = 0.05,
+                             displacement_m: float = 0.0, method: str = "variance_ratio",
+                             n_sectors: int = 12, fit_method: str = "mle",
+                             target_speed_unit=None, ref_speed_unit=None,
+                             utc_offset_h: float = 0.0, qc_settings=None):
+    """Two uploads to a long-term climate in one call (import, QC of both, MCP, climate).
+
+    Returns
+    -------
+    (WindClimate, MCPResult, dict)
+        The long-term climate at the target, the correction with its concurrent-period
+        statistics and warnings, and diagnostics ``summary``, ``target_qc``, ``reference_qc``.
+    """
+    from . import qc, timeseries
+    tgt = timeseries.read_record(target_data, target_name, speed_unit=target_speed_unit,
+                                 utc_offset_h=utc_offset_h)
+    ref = timeseries.read_record(ref_data, ref_name, speed_unit=ref_speed_unit,
+                                 utc_offset_h=utc_offset_h)
+    tq, rq = qc.run_qc(tgt, qc_settings), qc.run_qc(ref, qc_settings)
+    summary, res = long_term_climate(tgt, tq, ref, rq, height_m=height_m,
+                                     roughness_m=roughness_m, displacement_m=displacement_m,
+                                     method=method, n_sectors=n_sectors, fit_method=fit_method)
+    return summary.climate, res, {"summary": summary, "target_qc": tq, "reference_qc": rq}

@@ -92,3 +92,16 @@ def test_long_term_climate_from_records():
     assert summary.climate.source == "long_term" and summary.climate.record_file == "roof.csv"
     assert np.all(res.speed_ms >= 0)
     assert summary.mean_speed_ms == pytest.approx(0.7 * x.mean() + 0.1, rel=0.01)
+
+
+def test_demo_records_long_term_from_bytes():
+    """The two uploads run end to end; the short overlap is warned about, speeds stay >= 0."""
+    from pathlib import Path
+    root = Path(__file__).resolve().parents[2] / "demo_sites" / "records"
+    roof = (root / "roof_logger_10min.csv").read_bytes()
+    ref = (root / "reference_station_hourly.csv").read_bytes()
+    clim, res, diag = mcp.long_term_from_csv_bytes(roof, "roof.csv", ref, "ref.csv",
+                                                   height_m=18.0)
+    assert clim.source == "long_term" and diag["target_qc"].n_excluded > 0
+    assert any("shorter than 365" in w for w in res.warnings)  # the demo logger ran 3 months
+    assert np.all(res.speed_ms >= 0) and all(c > 0 for c in clim.weibull_c_ms)

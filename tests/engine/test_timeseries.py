@@ -120,3 +120,23 @@ def test_record_from_arrays_checks_lengths():
     with pytest.raises(InputError) as e:
         ts.record_from_arrays(np.arange(3), np.ones(2))
     assert e.value.problems[0][0] == "speed"
+
+
+def test_large_file_reader_agrees_with_small_file_reader():
+    """Files over 1 MB (Arrow reader) give the same values as the C reader on the same rows."""
+    import pandas as pd
+    n = 40000
+    rng = np.random.default_rng(4)
+    t = pd.date_range("2024-01-01", periods=n, freq="10min")
+    lines = ["timestamp,speed_kn,direction_deg,pressure_hpa"] + [
+        f"{a},{s:.1f},{d:.0f},{p:.1f}" for a, s, d, p in zip(
+            t.strftime("%Y-%m-%d %H:%M:%S"), rng.uniform(0, 30, n), rng.uniform(0, 360, n),
+            rng.uniform(980, 1030, n))]
+    big = ("\n".join(lines) + "\n").encode()
+    small = ("\n".join(lines[:501]) + "\n").encode()
+    assert len(big) > 1_000_000 > len(small)
+    rb, rs = ts.read_record(big, utc_offset_h=1.0), ts.read_record(small, utc_offset_h=1.0)
+    np.testing.assert_array_equal(rb.time_ns[:500], rs.time_ns)
+    for name in ("speed", "direction", "pressure"):
+        np.testing.assert_allclose(rb.si(name)[:500], rs.si(name), rtol=1e-12)
+    assert rb.units == rs.units == {"speed": "knots", "direction": "deg", "pressure": "hPa"}
