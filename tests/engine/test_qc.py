@@ -103,3 +103,14 @@ def test_report_dict_is_json_ready():
     d = _report(_clean_frame(50))[1].to_dict()
     assert json.loads(json.dumps(d))["rules"]["sentinel"] == 0
     assert 0 <= d["recovery_rate"] <= 1
+
+
+def test_irregular_steps_are_noted_not_excluded():
+    """Irregular logging (steps off the nominal step) is noted; the rows stay valid."""
+    df = _clean_frame(600)
+    t = pd.to_datetime(df["timestamp"])
+    jitter = pd.to_timedelta(np.where(np.arange(600) % 10 == 5, 180, 0), unit="s")
+    df["timestamp"] = (t + jitter).dt.strftime("%Y-%m-%dT%H:%M:%SZ")
+    _, rep = _report(df)
+    assert rep.n_excluded == 0 and rep.step_s == 600.0
+    assert any("irregular" in n for n in rep.notes)
