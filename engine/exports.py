@@ -5,13 +5,18 @@ import numpy as np
 import pandas as pd
 
 #: First characters a spreadsheet would run as a formula.
-_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "\n")
 
 
 def neutralise_cell(value):
     """Prefix text a spreadsheet would treat as a formula with an apostrophe (OWASP CSV injection)."""
-    if isinstance(value, str) and value.startswith(_FORMULA_START):
-        return "'" + value
+    if isinstance(value, str):
+        # The CSV writer quotes a cell holding LF (its line end) but not a bare CR, at which a
+        # spreadsheet starts a new row, so "x\r=cmd" would become a formula cell. As LF the
+        # cell is quoted and stays one cell.
+        value = value.replace("\r\n", "\n").replace("\r", "\n")
+        if value.startswith(_FORMULA_START):
+            return "'" + value
     return value
 
 
