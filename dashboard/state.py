@@ -24,8 +24,8 @@ STEPS = (
     ("climate", "Wind climate", ("climate",)),
     ("layout", "Buildings & positions", ("buildings", "positions", "receptors",
                                          "spot_readings")),
-    ("turbines", "Turbines & costs", ("turbines", "losses", "economics")),
-    ("results", "Results", ("ranking", "uncertainty", "format_version")),
+    ("turbines", "Turbines & costs", ("turbines", "losses", "economics", "uncertainty")),
+    ("results", "Results", ("ranking", "format_version")),
     ("summary", "Summary", ()),
 )
 

@@ -62,8 +62,13 @@ def whatif_and_ranking():
                     st.caption("Saved: " + ", ".join(ss["scenarios"]))
                 st.page_link("steps/step_compare.py", label="Compare what-ifs",
                              icon=":material/compare_arrows:")
-            widgets.toggle("Keep the rotor clear of the roof's high-turbulence zone",
-                           "ranking.require_clear_of_turbulence_zone", scope="whatif")
+            t1, t2 = st.columns(2)
+            with t1:
+                widgets.toggle("Keep the rotor clear of the roof's high-turbulence zone",
+                               "ranking.require_clear_of_turbulence_zone", scope="whatif")
+            with t2:
+                widgets.toggle("Exclude positions louder than a receptor's limit",
+                               "ranking.apply_noise_limits", scope="whatif")
         state.validate()
         a = ss["valid"]
 

@@ -119,3 +119,15 @@ with c3:
                    disabled=not edit)
     widgets.number("Grid emission factor (kg CO₂ per kWh)",
                    "economics.emission_factor_kg_per_kwh", fmt="%.3f", disabled=not edit)
+
+with st.expander("Uncertainty behind P50 and P90 (one standard deviation, as fractions)"):
+    st.caption("Speed uncertainties are fractions of the mean wind speed; the power-curve "
+               "uncertainty is a fraction of the energy.")
+    c = st.columns(5)
+    for col, (f, lab) in zip(c, [("speed_data", "Wind data"),
+                                 ("speed_long_term", "Long-term period"),
+                                 ("speed_transfer", "Carrying to the site"),
+                                 ("speed_building_model", "Building flow model"),
+                                 ("energy_power_curve", "Power curve")]):
+        with col:
+            widgets.number(lab, f"uncertainty.{f}", fmt="%.3f", step=0.01)
