@@ -1,0 +1,121 @@
+"""Bad uploads through the dashboard: the page names the problem and the valid state stays."""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pytest
+from streamlit.testing.v1 import AppTest
+
+from dashboard import exports
+
+ROOT = Path(__file__).resolve().parents[2]
+APP = str(ROOT / "dashboard" / "app.py")
+DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
+
+
+def _app() -> AppTest:
+    at = AppTest.from_file(APP, default_timeout=60)
+    at.run()
+    assert not at.exception, at.exception
+    return at
+
+
+def _errors(at) -> list:
+    return [e.value for e in at.error]
+
+
+def _demo() -> dict:
+    return json.loads(DEMO.read_text(encoding="utf-8"))
+
+
+def _newer() -> bytes:
+    d = _demo()
+    d["format_version"] = 99
+    return json.dumps(d).encode()
+
+
+def _wrong_types() -> bytes:
+    d = _demo()
+    d["site"]["altitude_m"] = "high"
+    d["turbines"][0]["rated_power_w"] = None
+    return json.dumps(d).encode()
+
+
+BAD_SITE_FILES = {
+    "binary junk": lambda: np.random.default_rng(3).bytes(2048),
+    "utf-16": lambda: DEMO.read_text(encoding="utf-8").encode("utf-16"),
+    "5000-digit number": lambda: b'{"format_version": ' + b"9" * 5000 + b"}",
+    "deep nesting": lambda: b"[" * 100000 + b"]" * 100000,
+    "newer format": _newer,
+    "wrong types": _wrong_types,
+    "empty": lambda: b"",
+}
+
+
+@pytest.mark.parametrize("name", BAD_SITE_FILES)
+def test_bad_site_file_upload_is_named_and_the_open_site_kept(name):
+    """Each damaged site file shows an error on the page; the open assessment does not change."""
+    at = _app()
+    before = exports.site_file_bytes(at.session_state["valid"])
+    at.file_uploader(key="site_upload").upload(f"{name}.json", BAD_SITE_FILES[name](),
+                                               "application/json").run()
+    at.button(key="open_site").click().run()
+    assert not at.exception, at.exception
+    assert _errors(at), "no message shown"
+    assert exports.site_file_bytes(at.session_state["valid"]) == before
+
+
+def test_wrong_types_name_every_field_on_the_page():
+    """Two bad fields in one file give two messages, each naming its field."""
+    at = _app()
+    at.file_uploader(key="site_upload").upload("two.json", _wrong_types(),
+                                               "application/json").run()
+    at.button(key="open_site").click().run()
+    text = " ".join(_errors(at))
+    assert "site.altitude_m" in text and "turbines[0].rated_power_w" in text
+
+
+def test_older_format_opens_with_a_note():
+    """A format-0 site file opens, and the page says what the migration changed."""
+    d = _demo()
+    heights = {b["id"]: b["height_m"] for b in d["buildings"]}
+    for p in d["positions"]:
+        base = heights[p["building_id"]] if p["kind"] == "roof" else 0.0
+        p["hub_height_m"] = base + p.pop("mast_height_m")
+    d["format_version"] = 0
+    at = _app()
+    at.file_uploader(key="site_upload").upload("old.json", json.dumps(d).encode(),
+                                               "application/json").run()
+    at.button(key="open_site").click().run()
+    assert not at.exception, at.exception
+    assert not _errors(at), _errors(at)
+    infos = " ".join(i.value for i in at.info)
+    assert "format_version 0" in infos and "hub_height_m" in infos
+    want = {p["id"]: p for p in _demo()["positions"]}
+    for p in at.session_state["valid"].positions:
+        assert p.mast_height_m == pytest.approx(want[p.id]["mast_height_m"], abs=1e-9)
+
+
+BAD_RECORDS = {
+    "binary junk": lambda: np.random.default_rng(4).bytes(4096),
+    "utf-16": lambda: "timestamp,speed_ms\n2025-01-01 00:00,5.0\n".encode("utf-16"),
+    "no speed column": lambda: b"timestamp,colour\n2025-01-01 00:00,red\n",
+    "header only": lambda: b"timestamp,speed_ms,direction_deg\n",
+}
+
+
+@pytest.mark.parametrize("name", BAD_RECORDS)
+def test_bad_record_upload_is_named_and_the_climate_kept(name):
+    """A damaged measured record shows its problem; the climate in use does not change."""
+    at = _app()
+    at.switch_page("steps/step_climate.py").run()
+    before = at.session_state["valid"].climate
+    at.radio(key="climate_mode_w").set_value("measured").run()
+    at.file_uploader(key="record_upload").upload(f"{name}.csv", BAD_RECORDS[name](),
+                                                 "text/csv").run()
+    at.button(key="build_record").click().run()
+    assert not at.exception, at.exception
+    assert _errors(at), "no message shown"
+    assert at.session_state["valid"].climate == before
