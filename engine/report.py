@@ -407,6 +407,26 @@ def _parse_timestamp(text: str) -> _dt.datetime:
     return _dt.datetime.strptime(text, "%Y-%m-%d %H:%M:%S UTC").replace(tzinfo=_dt.timezone.utc)
 
 
+def _transfer_words(t) -> str:
+    """How the climate transfer was set, in words (empty when the site file has no settings)."""
+    if t is None:
+        return ""
+    method = getattr(t, "method", "")
+    if method == "power_law":
+        alpha = getattr(t, "power_law_exponent", 0.0)
+        words = (f" by the power law with exponent {alpha:g}" if alpha > 0 else
+                 " by the power law with each terrain's exponent from the ASHRAE table")
+    elif method == "log_law":
+        words = " by the EN 1991-1-4 terrain factor and log law"
+    else:
+        words = f" by the {method} method" if method else ""
+    if getattr(t, "use_morphometry", False):
+        words += f" (Macdonald et al. 1998, {getattr(t, 'morphometry_layout', '')} layout)"
+    if getattr(t, "adjust_shape_with_height", False):
+        words += ", Weibull shape adjusted with height"
+    return words
+
+
 def _reproduce_command(stem, stamp, assessor, file_assessor, notes) -> str:
     """The command line that rebuilds this summary from its attached site file."""
     parts = ["python", "-m", "engine", "report", f"{stem}.site.json", "--out", "summary.html",
@@ -759,8 +779,11 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
         + (f" with measured pressure {site.air_pressure_pa:g} Pa." if site.air_pressure_pa
            else " with standard-atmosphere pressure."),
         f"Reference climate at {c.height_m:g} m over roughness {c.roughness_m:g} m, carried to "
-        f"the site's roughness {site.terrain_roughness_m:g} m and displacement "
-        f"{site.displacement_m:g} m.",
+        + ("the site with roughness and displacement derived from its building morphometry"
+           if getattr(getattr(a, "transfer", None), "use_morphometry", False) else
+           f"the site's roughness {site.terrain_roughness_m:g} m and displacement "
+           f"{site.displacement_m:g} m")
+        + _transfer_words(getattr(a, "transfer", None)) + ".",
         "Power curves are as published at 1.225 kg/m³; the power coefficient can never exceed "
         f"the Betz limit {BETZ_CP:.3f}.",
         "Energy by the method of bins over 0.5 m/s bins up to 40 m/s and 8760 hours a year.",
@@ -832,7 +855,7 @@ th { background: #f3f5f7; font-weight: 600; }
 td.r, th.r { text-align: right; font-variant-numeric: tabular-nums; }
 td.r { white-space: nowrap; }
 .wide { overflow-x: auto; }
-table.kv td:first-child { width: 14rem; color: var(--muted); }
+table.kv td:first-child { width: 21rem; color: var(--muted); }
 td { overflow-wrap: anywhere; }
 td.n { white-space: nowrap; overflow-wrap: normal; }
 caption { caption-side: bottom; text-align: left; color: var(--muted); font-size: .8rem;
