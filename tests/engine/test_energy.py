@@ -3,10 +3,11 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings, strategies as st
 from scipy import integrate, stats
 from scipy.special import gamma
 
-from engine import energy, model, pipeline, sitefile, turbines
+from engine import energy, model, pipeline, sitefile, turbines, uncertainty
 from engine.energy import HOURS_PER_YEAR
 
 # REFERENCES.md (IEC 61400-12-1 method of bins, derived): a 1 m/s curve, W at 0..20 m/s.
@@ -298,3 +299,18 @@ def test_monthly_column_when_climate_has_months():
 def pipeline_demo():
     from pathlib import Path
     return Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
+
+
+@settings(max_examples=40, deadline=None)
+@given(c=st.floats(0.5, 25.0), k=st.floats(1.0, 4.0), ti=st.floats(0.0, 0.9),
+       skew=st.floats(0.0, 90.0), rho=st.floats(0.9, 1.4), idx=st.integers(0, 7))
+def test_energy_bounds_hold_for_any_climate(c, k, ti, skew, rho, idx):
+    """0 <= gross <= power limit x 8760 h and P90 <= P75 <= P50, for any climate (physics bounds)."""
+    t = turbines.load_library()[idx]
+    one = np.ones((1, 1))
+    y = energy.yield_arrays(one, k * one, c * one, ti * one, skew * one, [t], rho, model.Losses())
+    assert 0.0 <= y.gross_wh[0, 0] <= energy.power_limit_w(t) * HOURS_PER_YEAR * (1 + 1e-12)
+    assert y.net_wh[0, 0] <= y.gross_wh[0, 0]
+    pv = uncertainty.analytic_p_values(y.setup, energy.net_fraction(model.Losses()),
+                                       model.Uncertainty(), y.speed_sensitivity)
+    assert 0.0 <= pv[90][0, 0] <= pv[75][0, 0] <= pv[50][0, 0] + 1e-9
