@@ -797,7 +797,14 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
         Bullets(assumptions), methods_table())))
 
     # 10. Cautions.
-    sections.append(Section("cautions", "Cautions", (Bullets(CAUTIONS),)))
+    blank = "_" * 28
+    sections.append(Section("cautions", "Cautions", (
+        Bullets(CAUTIONS),
+        Paragraph("Sign-off: the assessor confirms that the inputs describe the site as "
+                  "surveyed and that the client has been given these cautions."),
+        Table("sign-off", ("Item", "Value"), (
+            ("Assessor", assessor or blank), ("Date", blank), ("Signature", blank)),
+              ("l", "l")))))
 
     # 11. Reproducibility.
     params = tuple((k, _param_text(v)) for k, v in _flatten(sitefile.assessment_to_dict(a)))
@@ -1031,7 +1038,7 @@ class _Pdf:
             def header(doc):
                 doc.set_font(doc.body_family, "", 7.5)
                 doc.set_text_color(110, 116, 124)
-                doc.cell(0, 4, self.t(f"Siting summary · {s.site_name}"), align="L")
+                doc.cell(0, 4, self.fit(f"Siting summary · {s.site_name}", doc.epw), align="L")
                 doc.ln(6)
 
             def footer(doc):
@@ -1066,6 +1073,16 @@ class _Pdf:
         """Text as the chosen font can draw it."""
         text = str(text)
         return text if self.unicode else to_latin1(text)
+
+    def fit(self, text, width_mm) -> str:
+        """Text for one line of ``width_mm`` in the current font, cut with an ellipsis."""
+        text = self.t(text)
+        if self.pdf.get_string_width(text) <= width_mm:
+            return text
+        dots = "…" if self.unicode else "..."
+        while text and self.pdf.get_string_width(text + dots) > width_mm:
+            text = text[:-1]
+        return text + dots
 
     def font(self, size, bold=False, colour=(29, 35, 43)):
         self.pdf.set_font(self.pdf.body_family, "B" if bold else "", size)
