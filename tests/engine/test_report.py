@@ -144,6 +144,15 @@ def test_ranking_numbers_match_rank_json(demo, rank_json_text):
         # Physics bounds on what is printed: rated power caps the yield (8760 h x rated).
         assert 0.0 <= want["capacity_factor"] <= 1.0
         assert want["aep_kwh"] <= HOURS_PER_YEAR * want["rated_power_kw"] + 1e-9
+    # The cost table too; a payback that never comes is +inf in the table and null in JSON.
+    cost_rows = doc.tables["table-costs"]
+    raw = demo["ev"].table
+    for shown, want, (_, row) in zip(cost_rows[1:], truth, raw.iterrows()):
+        for head, cell in zip(cost_rows[0], shown):
+            col = cols[head]
+            assert cell == report.format_cell(col, want.get(col), row[col]), (head, want["rank"])
+            if col == "payback_years" and np.isposinf(row[col]):
+                assert cell == "never"
     first = next(r for r in truth if not r["excluded"])
     rec = " ".join(b.text for b in demo["summary"].section("recommendation").blocks
                    if isinstance(b, report.Paragraph))
