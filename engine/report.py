@@ -517,7 +517,9 @@ def _recommendation(evaluation, records) -> tuple[dict | None, list]:
         + (f" (P90 {format_cell('p90_aep_kwh', best['p90_aep_kwh'])} kWh)"
            if _finite(best.get("p90_aep_kwh")) else "")
         + f" and a capacity factor of {format_cell('capacity_factor', best['capacity_factor'])}."))
-    why = [f"It ranks first of {len(eligible)} eligible combinations by {label} ({val})."]
+    why = [f"It ranks first of {len(eligible)} eligible combinations by {label} ({val})."
+           if len(eligible) > 1 else
+           f"It is the only eligible combination ({label} {val})."]
     if len(eligible) > 1:
         second = eligible[1]
         a1, a2 = best.get(col), second.get(col)
