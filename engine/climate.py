@@ -43,7 +43,7 @@ def sector_index(direction_deg, n_sectors: int) -> np.ndarray:
 
     Notes
     -----
-    i = floor(((θ + w/2) mod 360) / w), w = 360/n; 360° is north (sector 0).
+    i = floor((θ mod 360) / w + 1/2) mod n, w = 360/n; 360° is north (sector 0).
     """
     w = 360.0 / n_sectors
     d = np.asarray(direction_deg, float)
@@ -51,7 +51,9 @@ def sector_index(direction_deg, n_sectors: int) -> np.ndarray:
         d = np.mod(d, 360.0)
     # For 0 <= θ <= 360 the quotient is in [0.5, n + 0.5]: truncation is the floor, and only
     # the top half-sector (up to 360°) wraps to sector 0.
-    idx = ((d + w / 2.0) / w).astype(np.int32)
+    q = d / w
+    q += 0.5
+    idx = q.astype(np.intp)
     np.putmask(idx, idx >= n_sectors, 0)
     return idx
 
