@@ -83,6 +83,9 @@ def main(n_timed: int = 9, n_memory: int = 100) -> int:
                 mast.press("Enter")
                 expect(top).to_contain_text(first, timeout=10000)
                 times.append((time.perf_counter() - t0) * 1000)
+                # let the full rerun that redraws the plan and charts finish, as a person
+                # reading the new ranking would, before the next change
+                page.wait_for_timeout(1500)
                 page.wait_for_selector(IDLE, state="attached")
             page.wait_for_timeout(500)
             before = rss_mb(proc.pid)

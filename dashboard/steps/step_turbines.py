@@ -86,7 +86,8 @@ if ids:
         valid = ss["valid"]
         vt = next((x for x in valid.turbines if x.id == tid), None)
         if vt is not None:
-            st.altair_chart(charts.power_curve(vt, S), width="stretch")
+            st.altair_chart(charts.power_curve(vt, S).properties(width=420), width="content",
+                            theme=None)
 
 if changed:
     before = state.complete("turbines")
