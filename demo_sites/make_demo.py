@@ -94,8 +94,16 @@ def build() -> model.Assessment:
         model.Receptor("neighbour-window", -10.0, 32.0, 6.0, 40.0),
         model.Receptor("garden", 60.0, -35.0, 1.5, 45.0),
     )
-    return model.Assessment(site=site, climate=station_climate(rng), buildings=buildings,
-                            positions=positions, turbines=turbines, receptors=receptors)
+    climate = station_climate(rng)
+    # Invented handheld readings on the mill roof beside the station's, wind from the south-west.
+    ref = np.round(3.5 + 3.0 * rng.random(8), 1)
+    at_pos = np.round(np.clip(0.8 * ref + 0.25 * rng.standard_normal(8), 0.0, None), 1)
+    spots = (model.SpotReading("mill-centre", 240.0, tuple(float(v) for v in at_pos),
+                               tuple(float(v) for v in ref), 10.0,
+                               note="Invented 1-minute means, handheld at hub height"),)
+    return model.Assessment(site=site, climate=climate, buildings=buildings,
+                            positions=positions, turbines=turbines, receptors=receptors,
+                            spot_readings=spots)
 
 
 if __name__ == "__main__":
