@@ -217,13 +217,22 @@ def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
         R = roofzones.scaling_length_m((bldg.height_m[ib] + para)[:, None], cross)
         u, v = buildings.to_local(px[roof], py[roof], bldg.x_m[ib], bldg.y_m[ib],
                                   bldg.orientation_deg[ib])
+        off = np.flatnonzero((np.abs(u) > 0.5 * bldg.length_m[ib] + 0.5)
+                             | (np.abs(v) > 0.5 * bldg.width_m[ib] + 0.5))
+        if len(off):
+            raise InputError([
+                (f"positions[{roof[i]}].x_m",
+                 f"({px[roof[i]]:g}, {py[roof[i]]:g}) m lies off the roof of "
+                 f"{bldg.ids[ib[i]]!r}; move the position onto that roof or make it a mast "
+                 "position") for i in off])
         X, Xd = buildings.roof_fetch_m(u, v, bldg.length_m[ib], bldg.width_m[ib],
                                        bldg.orientation_deg[ib], sector_deg)
         roof_len = X + Xd
         z = (mast[roof] - para)[:, None]
         clear = roofzones.zone_clearances_m(z, X, R, roof_len)
-        gamma = np.abs(np.mod(sector_deg[None, :] - bldg.orientation_deg[ib][:, None] - 90.0
-                              + 90.0, 180.0) - 90.0)
+        # Angle between the wind and the ridge's normal (ridge along the length), 0..90 deg.
+        gamma = np.abs(np.mod(sector_deg[None, :] - bldg.orientation_deg[ib][:, None], 180.0)
+                       - 90.0)
         ds, dt = roofflow.direction_weights(bldg.pitched[ib][:, None], gamma)
         s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds)
         ti[roof] = roofflow.roof_turbulence_intensity(ti0[roof], s_roof, z, X, R, roof_len, dt)

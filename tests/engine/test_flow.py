@@ -120,6 +120,14 @@ def test_touching_gap_buildings_are_an_input_error():
     assert "positions[0].gap_buildings" in str(e.value)
 
 
+def test_roof_position_off_its_roof_is_an_input_error():
+    """A roof position outside its building's footprint raises InputError naming the field."""
+    pos = (model.Position("p", "roof", 40.0, 0.0, 3.0, building_id="b"),)
+    with pytest.raises(InputError) as e:
+        flow.effective_climate(_assessment([BLOCK], pos), 1.225)
+    assert "positions[0].x_m" in str(e.value) and "off the roof" in str(e.value)
+
+
 @settings(max_examples=60, deadline=None)
 @given(st.floats(0.5, 20.0), st.floats(0.0, 10.0), st.floats(-14.0, 14.0), st.floats(-9.0, 9.0))
 def test_more_mast_never_lowers_clearance_through_the_chain(mast, extra, x, y):
