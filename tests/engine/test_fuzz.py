@@ -199,9 +199,19 @@ def _warm_up(tmp_path_factory):
             pass
 
 
+#: Mutations of several MB each: slow-marked.
+HEAVY = {"million columns", "one very long line", "very long line inside"}
+
+
 def _cases(mutations):
-    return [pytest.param(m, p, marks=pytest.mark.xfail(strict=True, reason=KNOWN[(m, p)]))
-            if (m, p) in KNOWN else pytest.param(m, p) for m in mutations for p in PARSERS]
+    out = []
+    for m in mutations:
+        for p in PARSERS:
+            marks = [pytest.mark.slow] if m in HEAVY else []
+            if (m, p) in KNOWN:
+                marks.append(pytest.mark.xfail(strict=True, reason=KNOWN[(m, p)]))
+            out.append(pytest.param(m, p, marks=marks))
+    return out
 
 
 @pytest.mark.parametrize("mutation,parser", _cases(MUST_FAIL))

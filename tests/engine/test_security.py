@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import ast
 import dataclasses
+import functools
 import io
 import tomllib
 from pathlib import Path
@@ -30,6 +31,7 @@ def _sources(*dirs):
             yield from sorted(base.rglob("*.py"))
 
 
+@functools.lru_cache(maxsize=None)
 def _tree(path: Path):
     return ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
 
@@ -134,6 +136,7 @@ def test_rank_exports_neutralise_a_formula_position_id():
                 assert not cell.strip('"').startswith(("=", "@")), f"{name}: {cell!r}"
 
 
+@pytest.mark.slow
 def test_summary_html_escapes_user_text():
     """Site name, notes, ids and assessor text appear escaped in the HTML summary, never as tags."""
     report = pytest.importorskip("engine.report")
@@ -146,6 +149,7 @@ def test_summary_html_escapes_user_text():
     assert "&lt;iframe src=//x&gt;" in html
 
 
+@pytest.mark.slow
 def test_summary_html_loads_nothing_from_outside():
     """The HTML summary is self-contained: no script, image or style fetched from a URL."""
     report = pytest.importorskip("engine.report")
