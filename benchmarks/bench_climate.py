@@ -147,8 +147,9 @@ def main() -> int:
           f"{'met' if best['cpu_s'] < TARGET_S else 'NOT met'})")
     print(f"binning          : vectorised {1e3 * vec_s:.1f} ms, per-row loop {loop_s:.3f} s, "
           f"ratio {ratio:.0f}x wall, {ratio_cpu:.0f}x CPU ({1e3 * min(vec_cpu):.1f} ms vs "
-          f"{min(loop_cpu):.3f} s) (target >= {TARGET_RATIO:g}x: "
-          f"{'met' if max(ratio, ratio_cpu) >= TARGET_RATIO else 'NOT met'})")
+          f"{min(loop_cpu):.3f} s) (target >= {TARGET_RATIO:g}x: wall "
+          f"{'met' if ratio >= TARGET_RATIO else 'NOT met'}, CPU "
+          f"{'met' if ratio_cpu >= TARGET_RATIO else 'NOT met'})")
     print(f"chain vs loop    : whole chain {best['total_s']:.3f} s is "
           f"{loop_s / best['total_s']:.2f}x the per-row binning loop alone")
     print(f"machine load     : {os.getloadavg()[0]:.1f} on {os.cpu_count()} CPUs (wall times "
