@@ -163,6 +163,24 @@ def assessments(draw, overshoot=1.0):
                             ranking=ranking)
 
 
+@st.composite
+def passage_assessments(draw):
+    """Two blocks side by side with a passage between them and a rotor in it (random sizes)."""
+    la, lb = draw(_between(2, 80)), draw(_between(2, 80))
+    wa, wb = draw(_between(2, 80)), draw(_between(2, 80))
+    gap = draw(_between(0.6, 40))
+    turn = draw(_between(0, 360, exclude_max=True))
+    # Block b sits east of block a along the bearing `turn`; both keep that orientation.
+    dist = (wa + wb) / 2 + gap
+    bx, by = dist * math.sin(math.radians(turn + 90)), dist * math.cos(math.radians(turn + 90))
+    blds = (model.Building("a", 0.0, 0.0, la, wa, draw(_between(3, 60)), turn),
+            model.Building("b", bx, by, lb, wb, draw(_between(3, 60)), turn))
+    pos = (model.Position("g", "gap", bx / 2, by / 2, draw(_between(0.5, 60)),
+                          gap_buildings=("a", "b")),)
+    return model.Assessment(site=draw(sites()), climate=draw(climates()), buildings=blds,
+                            positions=pos, turbines=(draw(turbines()),))
+
+
 # ---------------------------------------------------------------------------------------------
 # The invariants.
 
@@ -312,6 +330,21 @@ def test_chain_bounds_quick(a):
 @given(assessments())
 def test_chain_bounds_many(a):
     """Thousands of random valid assessments keep every physical bound (reproducible seed)."""
+    check_chain_bounds(a)
+
+
+@QUICK
+@given(passage_assessments())
+def test_passage_bounds_quick(a):
+    """A rotor in a passage between two blocks: continuity, Betz and energy bounds hold."""
+    check_chain_bounds(a)
+
+
+@pytest.mark.slow
+@settings(SLOW, max_examples=1000)
+@given(passage_assessments())
+def test_passage_bounds_many(a):
+    """A thousand random passages keep the continuity bound (reproducible seed)."""
     check_chain_bounds(a)
 
 
