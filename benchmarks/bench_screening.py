@@ -17,7 +17,7 @@ Tables are the invented district of ``demo_sites/make_district.py`` (seeded); th
 turbines are those of the demo site. Usage::
 
     python benchmarks/bench_screening.py            # 10^4, 10^5, 10^6
-    python benchmarks/bench_screening.py --beyond 2000000 --worker-mb 800
+    python benchmarks/bench_screening.py --beyond 1000000 --worker-mb 700 --workers 1
     python benchmarks/bench_screening.py --quick    # 10^3, 10^4, 10^5
     python benchmarks/bench_screening.py --sizes 1000,3000,10000   # a trial run
 """
@@ -72,9 +72,9 @@ def run_local(path: Path) -> dict:
     return json.loads(out.stdout.strip().splitlines()[-1])
 
 
-def _cluster(memory_limit=WORKER_MEMORY_LIMIT):
+def _cluster(memory_limit=WORKER_MEMORY_LIMIT, n_workers=2):
     from distributed import LocalCluster
-    return LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+    return LocalCluster(n_workers=n_workers, threads_per_worker=1, processes=True,
                         dashboard_address=None, host="127.0.0.1", memory_limit=memory_limit)
 
 
@@ -95,7 +95,7 @@ def run_dask(paths: dict) -> dict:
     return results
 
 
-def run_beyond(n: int, tmp: Path, memory_limit=WORKER_MEMORY_LIMIT) -> None:
+def run_beyond(n: int, tmp: Path, memory_limit=WORKER_MEMORY_LIMIT, n_workers=2) -> None:
     """Screen ``n`` buildings with one turbine on memory-limited workers, written by them."""
     import pandas as pd
     from distributed import Client
@@ -112,7 +112,7 @@ def run_beyond(n: int, tmp: Path, memory_limit=WORKER_MEMORY_LIMIT) -> None:
                + screening.check_part(pd.read_csv(path, nrows=20_000).assign(line=0))
                .memory_usage(deep=True).sum()) / len(sample.table)
     out = path.with_suffix(".out.csv")
-    with _cluster(memory_limit) as cluster, Client(cluster) as client:
+    with _cluster(memory_limit, n_workers) as cluster, Client(cluster) as client:
         t0 = time.perf_counter()
         res = screening.screen_dask(path, ctx1, client, out_csv=out, part_bytes=SMALL_PART_BYTES)
         dt = time.perf_counter() - t0
@@ -120,7 +120,8 @@ def run_beyond(n: int, tmp: Path, memory_limit=WORKER_MEMORY_LIMIT) -> None:
     rows = sum(1 for _ in open(out, "rb")) - 1
     print(f"beyond memory: {n:,d} buildings x 1 turbine; in memory they take about "
           f"{per_row * n / 1e6:,.0f} MB (checked rows + results, {per_row:.0f} B per building, "
-          f"measured on 20,000); 2 Dask workers allowed {limits[0] / 1024 ** 2:.0f} MB each "
+          f"measured on 20,000); {len(limits)} Dask worker(s) allowed "
+          f"{limits[0] / 1024 ** 2:.0f} MB each "
           f"({sum(limits) / 1024 ** 2:.0f} MB in all), {SMALL_PART_BYTES / 1024 ** 2:.0f} MB "
           f"CSV parts; sorted and written by the workers in {dt:.1f} s ({n / dt:.0f} bldg/s); "
           f"{rows:,d} ranked rows written, {res.n_rows:,d} read")
@@ -141,6 +142,8 @@ def main() -> None:
                     help="only the beyond-memory run, with this many buildings")
     ap.add_argument("--worker-mb", type=int, default=WORKER_MEMORY_LIMIT // 1024 ** 2,
                     help="memory limit of each Dask worker in the beyond-memory run [MB]")
+    ap.add_argument("--workers", type=int, default=2,
+                    help="Dask workers in the beyond-memory run")
     args = ap.parse_args()
     if args.child_local:
         child_local(args.child_local)
@@ -151,7 +154,7 @@ def main() -> None:
     print(f"machine: {os.cpu_count()} logical cores; load average at start "
           f"{os.getloadavg()[0]:.1f}; tables in {tmp}", flush=True)
     if args.beyond:
-        run_beyond(args.beyond, tmp, args.worker_mb * 1024 ** 2)
+        run_beyond(args.beyond, tmp, args.worker_mb * 1024 ** 2, args.workers)
         print(f"load average at the end {os.getloadavg()[0]:.1f}")
         return
     sizes = [10 ** 3, 10 ** 4, 10 ** 5] if args.quick else [10 ** 4, 10 ** 5, 10 ** 6]
