@@ -107,3 +107,19 @@ def test_transfer_speed_grows_with_height():
         assert np.all(np.diff(c[:, 0]) >= 0) and np.all(c > 0)
     t = transfer.transfer_climate(_clim(), site, 15.0, TransferSettings())
     assert t.height_m == 15.0 and t.roughness_m == 0.5
+
+
+def test_assessment_checks_morphometry_inputs():
+    """Morphometry on a site without λp, λf, H is refused by the assessment, all three named."""
+    a = sitefile.load(DEMO)
+    bare = dataclasses.replace(a.site, plan_area_fraction=None, frontal_area_fraction=None,
+                               mean_building_height_m=None)
+    with pytest.raises(InputError) as e:
+        dataclasses.replace(a, site=bare, transfer=TransferSettings(use_morphometry=True))
+    assert {w for w, _ in e.value.problems} == {"site.plan_area_fraction",
+                                                "site.frontal_area_fraction",
+                                                "site.mean_building_height_m"}
+    ok = dataclasses.replace(a, transfer=TransferSettings(use_morphometry=True))
+    hub = np.array([ok.hub_height_m(p) for p in ok.positions])
+    _, c = flow.free_stream_at_hub(ok, hub)
+    assert np.all(np.isfinite(c)) and np.all(c > 0)
