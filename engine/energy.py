@@ -70,8 +70,12 @@ def curve_on_edges_w(turbines, edges_ms=DEFAULT_EDGES_MS):
 
 
 def power_limit_w(turbine) -> float:
-    """Largest power the turbine delivers [W]: rated, or the curve's peak if that is higher."""
-    return float(max(turbine.rated_power_w, max(turbine.curve_power_w)))
+    """Largest power the turbine is credited with [W]: the published curve's peak.
+
+    Denser air never lifts a curve above the most it was shown to deliver (cautious; usually
+    the peak is the rated power, the generator or inverter limit).
+    """
+    return float(max(turbine.curve_power_w))
 
 
 def density_corrected_power_w(speed_ms, turbine, air_density_kgm3, rho0_kgm3=RHO_STANDARD):
@@ -86,8 +90,8 @@ def density_corrected_power_w(speed_ms, turbine, air_density_kgm3, rho0_kgm3=RHO
 
     Notes
     -----
-    Stall regulation: P(V) = P0(V) ρ/ρ0, capped at :func:`power_limit_w` (the generator or
-    inverter limit, common practice). Pitch (active) regulation: the rotor at speed V in air
+    Stall regulation: P(V) = P0(V) ρ/ρ0, capped at :func:`power_limit_w` (the curve's peak,
+    normally the generator or inverter limit; common practice). Pitch (active) regulation: the rotor at speed V in air
     of density ρ behaves as the published rotor at V_n = V (ρ/ρ0)^(1/3), so
     P(V) = P0(V (ρ/ρ0)^(1/3)). Cut-in and cut-out act on the actual speed V. Both variants
     keep the power coefficient of each curve point, so a curve within the Betz limit stays

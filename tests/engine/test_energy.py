@@ -84,6 +84,18 @@ def test_pitch_density_uses_cube_root_speed():
     assert got == pytest.approx([REF_CURVE_W[5], REF_CURVE_W[6]], rel=1e-12)
 
 
+def test_stall_never_above_published_peak():
+    """A curve peaking below rated is not lifted above its peak by dense air (cautious bound)."""
+    t = model.Turbine("low", "low curve", "horizontal", 100.0, (1.0, 9.0), (0.25, 0.25), 0.0,
+                      1.0, 9.0, rotor_diameter_m=1.0)
+    p = energy.density_corrected_power_w(np.array([5.0]), t, 1.3)
+    assert p[0] == pytest.approx(0.25)
+    y = energy.yield_arrays(np.ones((1, 1)), np.full((1, 1), 3.0), np.full((1, 1), 3.0),
+                            np.full((1, 1), 0.3), np.zeros((1, 1)), [t], 1.3,
+                            model.Losses(0, 0, 0, 0, 0))
+    assert y.gross_wh[0, 0] <= 0.25 * HOURS_PER_YEAR * (1 + 1e-12)
+
+
 def test_stall_density_scales_power():
     """Stall: P proportional to ρ (IEC 61400-12-1 normalisation, from memory), capped at the limit."""
     t = ref_turbine("stall")
