@@ -136,7 +136,7 @@ class WindClimate:
             if n and abs(total - 1.0) > 1e-3:
                 p.add("frequency", f"sector frequencies must sum to 1, got {total:.4f}; "
                                    "divide each by their sum")
-        except (TypeError, ValueError):
+        except (TypeError, ValueError, OverflowError):  # bad values are reported one by one
             pass
         _choice(p, "source", self.source, CLIMATE_SOURCES)
         if len(self.monthly_mean_ms) not in (0, 12):
