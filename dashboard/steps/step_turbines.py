@@ -3,6 +3,7 @@ import streamlit as st
 
 from dashboard import cache, state, widgets
 from engine import charts, model, sitefile
+from engine.errors import InputError
 
 widgets.step_banner("turbines", "4. Turbines & costs")
 st.caption("The turbines to try at every position. Power curves are entered as published "
@@ -30,6 +31,30 @@ T_COLS = [
 T_LABELS = {f: lab for f, lab, _, _ in T_COLS}
 T_LABELS.update(curve_speed_ms="power curve speeds", curve_power_w="power curve powers",
                 swept_area_m2="swept area")
+
+
+
+def _use_curve_file(i: int, upload_key: str) -> None:
+    """Replace turbine ``i``'s curve by an uploaded table (read and checked by the engine)."""
+    from engine import turbines
+    up = ss.get(upload_key)
+    ss["curve_problems"], ss["curve_note"] = [], ""
+    if up is None:
+        return
+    row = ss["draft"]["turbines"][i]
+    known = [t for t in ss["valid"].turbines if t.id == row.get("id")]
+    area = known[0].area_m2 if known else 0.0  # 0 skips the Betz check for a new turbine
+    try:
+        curve = turbines.read_power_curve_csv(up.getvalue(), swept_area_m2=area)
+    except InputError as e:
+        ss["curve_problems"] = list(e.problems)
+        return
+    row["curve_speed_ms"] = list(curve.speed_ms)
+    row["curve_power_w"] = list(curve.power_w)
+    ss["curve_note"] = f"Read {len(curve.speed_ms)} points from {up.name}: {curve.unit_note}"
+    state.clear_widgets()
+    state.validate()
+
 
 if edit:
     lib = cache.turbine_library()
@@ -77,6 +102,17 @@ if ids:
                             [("speed_ms", f"wind speed ({S})", "speed", num(format="%.2f")),
                              ("power_w", "power (W)", "number", num(format="%.1f"))],
                             disabled=not edit, height=360)
+        if edit:
+            st.file_uploader("Or read this turbine's curve from a CSV (speed, power; W or "
+                             "kW; up to 1 MB)", type=["csv", "txt", "tsv"], max_upload_size=1,
+                             key=f"curve_upload_{ss['gen']}")
+            st.button("Use the file's curve", key="curve_use", on_click=_use_curve_file,
+                      args=(i, f"curve_upload_{ss['gen']}"),
+                      disabled=ss.get(f"curve_upload_{ss['gen']}") is None)
+            for where, msg in ss.get("curve_problems", []):
+                st.error(f"**{where}:** {msg}", icon=":material/error:")
+            if ss.get("curve_note"):
+                st.info(ss["curve_note"], icon=":material/info:")
         new_s = [r.get("speed_ms") for r in cur]
         new_p = [r.get("power_w") for r in cur]
         if new_s != t.get("curve_speed_ms") or new_p != t.get("curve_power_w"):

@@ -278,3 +278,16 @@ def test_report_files_are_built_when_the_engine_has_them(demo_eval):
     files = exports.build_report(demo_eval)
     assert files["html"].startswith(b"<!DOCTYPE html>")
     assert files["pdf"].startswith(b"%PDF-")  # PDF 1.x header (ISO 32000-1, 7.5.2)
+
+
+def test_power_curve_file_replaces_the_curve():
+    """A curve table in kW read through the page is stored in W (1 kW = 1000 W)."""
+    at = _go(_app(), "steps/step_turbines.py")
+    csv = b"speed_ms,power_kw\n3,0.03\n5,0.15\n8,0.62\n11,1.5\n25,1.5\n"
+    key = f"curve_upload_{at.session_state['gen']}"
+    at.file_uploader(key=key).upload("curve.csv", csv, "text/csv").run()
+    at.button(key="curve_use").click().run()
+    assert not at.exception
+    t = at.session_state["valid"].turbines[0]
+    assert t.curve_speed_ms == (3.0, 5.0, 8.0, 11.0, 25.0)
+    assert t.curve_power_w == pytest.approx((30.0, 150.0, 620.0, 1500.0, 1500.0))  # SI prefix
