@@ -282,10 +282,12 @@ class Turbine:
             neg = [i for i, v in enumerate(power) if float(v) < 0]
             if neg:
                 p.add("curve_power_w", f"power must not be negative; row {neg[0] + 1} has {power[neg[0]]} W")
-            over = [i for i, v in enumerate(power) if float(v) > 1.2 * float(self.rated_power_w)]
+            # Rated power is the curve's peak, so AEP <= rated power x 8760 h holds.
+            over = [i for i, v in enumerate(power) if float(v) > float(self.rated_power_w) * (1 + 1e-9)]
             if over:
-                p.add("curve_power_w", f"row {over[0] + 1} has {power[over[0]]} W, more than 1.2 × "
-                                       f"rated power {self.rated_power_w} W; check kW/W units")
+                p.add("curve_power_w", f"row {over[0] + 1} has {power[over[0]]} W, more than the "
+                                       f"rated power {self.rated_power_w} W; set rated_power_w to "
+                                       "the curve's peak, or check kW/W units")
         except (TypeError, ValueError):
             p.add("curve_speed_ms", "power-curve speeds and powers must be numbers")
         if not (float(self.cut_in_ms) < float(self.rated_speed_ms) < float(self.cut_out_ms)):
