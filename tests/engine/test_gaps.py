@@ -120,6 +120,8 @@ def test_realised_speedup_bounded_by_continuity_and_zero(face, gap, length, h, d
     assert 0.0 <= r <= ar + 1e-12
     assert 0.0 <= out["spilled_fraction"][0, 0] < 1.0
     assert out["speed_factor"][0, 0] >= 0.0
+    # Energy bound (derived): total head 1, strongest suction -1.2, entry loss 0.2.
+    assert out["speed_factor"][0, 0] <= math.sqrt(2.2 / 1.2) + 1e-12
 
 
 def test_speedup_falls_as_gap_narrows_past_spillage():
