@@ -305,7 +305,8 @@ def _position_flags(i, kind, rec, cavity, turb, wake, min_clear, shelter_mean, s
     if shelter_mean < 0.9 and strongest >= 0:
         out.append(f"sheltered by {ids[strongest]} ({(1 - shelter_mean) * 100:.0f} % slower)")
     if kind == "roof":
-        out.append("roof mount: structural engineer to check roof and mast")
+        out.append("roof mount: structural engineer to check roof and mast; licensed "
+                   "installers for work at height")
     if kind == "gap":
         out.append("passage: channelled wind load on walls and mounts; structural engineer "
                    "to check")
