@@ -54,7 +54,8 @@ def render(mode: str) -> None:
     _remember(mode)
     if mode == "demo":
         st.info("The built-in demo climate: an invented reference station in open terrain at "
-                "10 m. Use it to learn the tool, never for a real decision.", icon=":material/info:")
+                "10 m. Use it to learn the tool, never for a real decision.",
+                icon=":material/info:")
         if state.get_path("climate") != _demo_climate():
             if st.button("Put the demo climate back", key="demo_climate_back"):
                 state.set_path("climate", _demo_climate())
@@ -221,7 +222,8 @@ def summary() -> None:
     c1, c2, c3 = st.columns(3)
     c1.metric(f"Mean speed at {units.length_from_si(clim.height_m, state.unit_of('length')):.0f}"
               f" {state.unit_of('length')}", f"{units.speed_from_si(mean, s_unit):.2f} {s_unit}")
-    c2.metric("Prevailing sector", f"{charts.compass_name(deg)} ({deg:.0f}°)", f"{f:.0%} of the time",
+    c2.metric("Prevailing sector", f"{charts.compass_name(deg)} ({deg:.0f}°)",
+              f"{f:.0%} of the time",
               delta_color="off", delta_arrow="off")
     c3.metric("Sectors", f"{clim.n_sectors}", clim.source.replace("_", " "), delta_color="off",
               delta_arrow="off")

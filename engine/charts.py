@@ -103,7 +103,8 @@ def sector_table(climate, air_density_kgm3: float = 1.225) -> pd.DataFrame:
 
     Notes
     -----
-    Energy share e_s = f_s ½ρ c_s³ Γ(1 + 3/k_s) / Σ f ½ρ c³ Γ(1 + 3/k) (Weibull power density).
+    Energy share e_s = f_s ½ρ c_s³ Γ(1 + 3/k_s) / Σ f ½ρ c³ Γ(1 + 3/k)
+    (the Weibull power density).
     """
     f = np.asarray(climate.frequency, float)
     pd_w = f * weibull_power_density_wm2(climate.weibull_k, climate.weibull_c_ms,
@@ -210,7 +211,8 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
         excl = bool(row["excluded"].iloc[0]) if len(row) else False
         aep = float(row["aep_kwh"].iloc[0]) if len(row) else float("nan")
         pos_rows.append({"position_id": p.id, "x": L(p.x_m), "y": L(p.y_m), "kind": p.kind,
-                         "best_rank": r, "place": order.get(p.id, 0), "excluded": "excluded" if excl else "eligible",
+                         "best_rank": r, "place": order.get(p.id, 0),
+                         "excluded": "excluded" if excl else "eligible",
                          "best_turbine": row["turbine_id"].iloc[0] if len(row) else "",
                          "aep_kwh": round(aep, 0), "hub": round(L(a.hub_height_m(p)), 1),
                          "selected": p.id == selected})

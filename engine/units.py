@@ -93,7 +93,8 @@ def convert_columns(frame, speed_unit: str = "m/s", length_unit: str = "m", to_s
 
 def column_label(name: str, speed_unit: str = "m/s", length_unit: str = "m") -> str:
     """Readable header for a column name with its unit: ``hub_height_m`` -> ``hub height (ft)``."""
-    for suffix, unit in (("_per_kwh", "per kWh"), ("_ms", speed_unit), ("_m", length_unit), ("_kwh", "kWh"),
+    for suffix, unit in (("_per_kwh", "per kWh"), ("_ms", speed_unit), ("_m", length_unit),
+                         ("_kwh", "kWh"),
                          ("_kw", "kW"), ("_w", "W"), ("_deg", "°"), ("_m2", "m²"),
                          ("_db", "dB(A)"), ("_n", "N"), ("_years", "years")):
         if name.endswith(suffix):

@@ -87,4 +87,5 @@ if not state.step_problems("layout"):
     st.vega_lite_chart(cache.chart_spec("plan", state.draft_text(), state.unit_of("speed"), L),
                        width="content", theme=None)
 else:
-    st.info("The plan is drawn again once the tables above have no problems.", icon=":material/info:")
+    st.info("The plan is drawn again once the tables above have no problems.",
+            icon=":material/info:")
