@@ -177,7 +177,10 @@ def read_part(part: Part) -> pd.DataFrame:
                 warnings.simplefilter("always", pd.errors.ParserWarning)
                 raw = pd.read_csv(io.BytesIO(data), header=None, names=list(part.header),
                                   dtype={c: str for c in TEXT_COLUMNS if c in part.header},
-                                  skip_blank_lines=False, on_bad_lines="warn", engine="c")
+                                  skip_blank_lines=False, on_bad_lines="warn", engine="c",
+                                  # A non-UTF-8 byte in a row must not stop the table: the
+                                  # row's cells then fail their own checks, by line.
+                                  encoding_errors="replace")
             # Lines with too many fields are skipped by the parser, which says which ones.
             for w in caught:
                 if issubclass(w.category, pd.errors.ParserWarning):

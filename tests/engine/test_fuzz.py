@@ -181,9 +181,7 @@ def _check_error(err: InputError):
 
 #: Known defects, each reported to the module's owner; strict, so a fix shows up as XPASS.
 KNOWN = {("million columns", "buildings"): "screening reads the header with pandas, whose "
-                                           "cost grows with the square of the column count",
-         ("junk in the middle", "buildings"): "screening.read_part lets pandas raise "
-                                              "UnicodeDecodeError for a non-UTF-8 data row"}
+                                           "cost grows with the square of the column count"}
 
 
 @pytest.fixture(scope="module", autouse=True)
