@@ -72,6 +72,8 @@ KNOWN_COLUMNS = tuple(NUMERIC_LIMITS) + TEXT_COLUMNS
 LINE_PROBLEM = "_line_problem"
 #: Largest number of row problems listed one by one; the rest are counted.
 MAX_LISTED_ROWS = 200
+#: Most columns a buildings table may have (it uses a few dozen at most).
+MAX_COLUMNS = 1000
 #: Target size of one part of a CSV file [bytes] (a Dask partition, or a step of the local loop).
 PART_BYTES = 32 * 1024 * 1024
 #: Rows per part of an in-memory table.
@@ -102,6 +104,12 @@ def _csv_parts(path: Path, part_bytes: int) -> list:
     parts = []
     with open(path, "rb") as fh:
         header_line = fh.readline()
+        n_cols = header_line.count(b",") + 1
+        if n_cols > MAX_COLUMNS:
+            # pandas' header read costs the square of the column count: refuse first.
+            raise InputError([(str(path), f"the header has {n_cols} columns; a buildings table "
+                                          f"has at most {MAX_COLUMNS} (see docs/screening.md); "
+                                          "check the separator and the first line")])
         header = tuple(pd.read_csv(io.BytesIO(header_line), nrows=0).columns)
         pos, line = fh.tell(), 2
         while pos < size:

@@ -180,8 +180,7 @@ def _check_error(err: InputError):
 
 
 #: Known defects, each reported to the module's owner; strict, so a fix shows up as XPASS.
-KNOWN = {("million columns", "buildings"): "screening reads the header with pandas, whose "
-                                           "cost grows with the square of the column count"}
+KNOWN = {}
 
 
 @pytest.fixture(scope="module", autouse=True)
