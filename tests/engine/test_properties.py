@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import copy
+import dataclasses
 import json
 import math
 from pathlib import Path
@@ -110,8 +111,8 @@ def positions(draw, blds):
 
 
 @st.composite
-def turbines(draw, tid="t0", overshoot=1.0):
-    """A turbine whose curve respects Betz at 1.225 kg/m³ and stays <= overshoot x rated.
+def turbines(draw, tid="t0"):
+    """A turbine whose curve respects Betz at 1.225 kg/m³ and stays at or below rated power.
 
     Point i holds at most the Betz power at the speed of point i - 1, so the linear
     interpolation between points stays under C_p = 16/27 too (P rises no faster than v³).
@@ -124,7 +125,7 @@ def turbines(draw, tid="t0", overshoot=1.0):
     speeds = sorted(draw(st.lists(_between(0, 50), min_size=2, max_size=30, unique=True)))
     cps = draw(st.lists(_between(0, 0.999 * model.BETZ_CP), min_size=len(speeds),
                         max_size=len(speeds)))
-    top = draw(_between(1.0, overshoot)) * rated
+    top = rated
     lower = [speeds[0]] + speeds[:-1]
     power = tuple(min(top, cp * 0.5 * model.RHO_STANDARD * area * v ** 3)
                   for cp, v in zip(cps, lower))
@@ -143,11 +144,11 @@ def turbines(draw, tid="t0", overshoot=1.0):
 
 
 @st.composite
-def assessments(draw, overshoot=1.0):
+def assessments(draw):
     blds = draw(buildings(draw(st.integers(0, 4))))
     pos = draw(positions(blds))
     nt = draw(st.integers(1, 3))
-    turbs = tuple(draw(turbines(f"t{i}", overshoot)) for i in range(nt))
+    turbs = tuple(draw(turbines(f"t{i}")) for i in range(nt))
     losses = model.Losses(**{k: draw(_between(0, 0.9)) for k in
                              ("availability", "electrical", "icing", "cut_out_hysteresis",
                               "other")})
@@ -254,7 +255,7 @@ NO_NAN_COLUMNS = FINITE_COLUMNS + ("lcoe_per_kwh", "payback_years", "npv",
                                    "thrust_extreme_n", "mast_base_moment_nm", "noise_margin_db")
 
 
-def check_chain_bounds(a, curve_cap_w=None):
+def check_chain_bounds(a):
     """Evaluate and assert every physical bound on the results table.
 
     The chain may refuse a model-valid assessment with InputError (e.g. two blocks of a
@@ -286,10 +287,9 @@ def check_chain_bounds(a, curve_cap_w=None):
     turb = {x.id: x for x in a.turbines}
     cap_kw = np.array([max(turb[i].curve_power_w) / 1000.0 for i in t["turbine_id"]])
     assert (gross <= cap_kw * HOURS_PER_YEAR * (1 + 1e-9) + 1e-9).all()
-    if curve_cap_w is None:
-        assert (gross <= rated_kw * HOURS_PER_YEAR * (1 + 1e-9) + 1e-9).all()
-        cf = t["capacity_factor"].to_numpy()
-        assert ((cf >= 0) & (cf <= 1 + 1e-12)).all(), "capacity factor outside [0, 1]"
+    assert (gross <= rated_kw * HOURS_PER_YEAR * (1 + 1e-9) + 1e-9).all()
+    cf = t["capacity_factor"].to_numpy()
+    assert ((cf >= 0) & (cf <= 1 + 1e-12)).all(), "capacity factor outside [0, 1]"
     assert (t["mean_speed_ms"].to_numpy() >= 0).all()
     assert (t["hub_height_m"].to_numpy() > 0).all()
     assert np.isfinite(eff.weibull_c_ms).all() and (eff.weibull_c_ms > 0).all()
@@ -349,10 +349,14 @@ def test_passage_bounds_many(a):
 
 
 @QUICK
-@given(assessments(overshoot=1.2))
-def test_curve_above_rated_bounded_by_peak(a):
-    """Curves that peak above rated (allowed up to 1.2x) still give AEP <= peak x 8760 h."""
-    check_chain_bounds(a, curve_cap_w="peak")
+@given(turbines(), _between(1.001, 3.0))
+def test_curve_above_rated_is_refused(t, factor):
+    """A curve point above rated power is refused with InputError naming curve_power_w."""
+    power = list(t.curve_power_w)
+    power[-1] = t.rated_power_w * factor
+    with pytest.raises(InputError) as e:
+        dataclasses.replace(t, curve_power_w=tuple(power))
+    assert "curve_power_w" in [w for w, _ in e.value.problems]
 
 
 @QUICK
