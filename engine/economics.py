@@ -49,7 +49,8 @@ def lcoe_per_kwh(installed_cost, om_cost_per_year, energy_kwh_per_year, discount
                                                                         lifetime_years)
             + float(om_cost_per_year))
     cost = np.broadcast_to(cost, np.broadcast_shapes(np.shape(cost), e.shape))
-    return np.divide(cost, e, out=np.full(cost.shape, np.inf), where=e > 0)
+    # Below a watt-hour a year the energy is nil for costing (and cost/E would overflow).
+    return np.divide(cost, e, out=np.full(cost.shape, np.inf), where=e > 1e-3)
 
 
 def yearly_net_saving(energy_kwh_per_year, tariff_per_kwh, om_cost_per_year):

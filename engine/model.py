@@ -130,7 +130,7 @@ class WindClimate:
         for i, k in enumerate(self.weibull_k):
             check_range(p, f"weibull_k[{i}]", k, 0.5, 10, "")
         for i, c in enumerate(self.weibull_c_ms):
-            check_range(p, f"weibull_c_ms[{i}]", c, 0, 40, "m/s", lo_open=True)
+            check_range(p, f"weibull_c_ms[{i}]", c, 0.1, 40, "m/s")
         try:
             total = math.fsum(float(f) for f in self.frequency)
             if n and abs(total - 1.0) > 1e-3:

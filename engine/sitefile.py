@@ -52,6 +52,12 @@ def _type_name(tp) -> str:
     return name + (" or null" if opt else "")
 
 
+def _show(value, limit: int = 60) -> str:
+    """A value's repr for a message, cut to ``limit`` characters."""
+    text = repr(value)
+    return text if len(text) <= limit else text[:limit - 3] + "..."
+
+
 def _convert(value, tp, where: str, problems: Problems):
     """Convert JSON ``value`` to type ``tp``; record problems and return None on failure."""
     tp, optional = _unwrap_optional(tp)
@@ -71,29 +77,29 @@ def _convert(value, tp, where: str, problems: Problems):
         return tuple(items)
     if tp is bool:
         if not isinstance(value, bool):
-            problems.add(where, f"must be true or false, got {value!r}")
+            problems.add(where, f"must be true or false, got {_show(value)}")
             return None
         return value
     if tp is float:
         if isinstance(value, bool) or not isinstance(value, (int, float)):
-            problems.add(where, f"must be a number, got {value!r}")
+            problems.add(where, f"must be a number, got {_show(value)}")
             return None
         try:
             number = float(value)
         except OverflowError:  # a JSON integer too large for a float
             number = math.inf
         if not math.isfinite(number):
-            problems.add(where, f"must be a finite number, got {value!r:.40}")
+            problems.add(where, f"must be a finite number, got {_show(value, 40)}")
             return None
         return number
     if tp is int:
         if isinstance(value, bool) or not isinstance(value, int):
-            problems.add(where, f"must be a whole number, got {value!r}")
+            problems.add(where, f"must be a whole number, got {_show(value)}")
             return None
         return value
     if tp is str:
         if not isinstance(value, str):
-            problems.add(where, f"must be a text, got {value!r}")
+            problems.add(where, f"must be a text, got {_show(value)}")
             return None
         return value
     raise TypeError(f"unsupported field type {tp!r}")  # a programming error, not user input
