@@ -72,7 +72,7 @@ def build() -> model.Assessment:
     positions = (
         model.Position("mill-centre", "roof", 0.0, 0.0, 6.0, building_id="mill"),
         model.Position("mill-west-edge", "roof", -17.0, 0.0, 4.0, building_id="mill"),
-        model.Position("tower-centre", "roof", 38.0, 0.0, 6.0, building_id="tower"),
+        model.Position("tower-centre", "roof", 38.0, 0.0, 9.0, building_id="tower"),
         model.Position("tower-sw-corner", "roof", 30.5, -7.5, 3.0, building_id="tower"),
         model.Position("terrace-ridge", "roof", 0.0, -40.0, 3.0, building_id="terrace"),
         model.Position("mill-tower-gap", "gap", 24.0, 0.0, 8.0, gap_buildings=("mill", "tower")),
@@ -91,7 +91,7 @@ def build() -> model.Assessment:
                 installed_cost=8000.0, iec_class="III"),
     )
     receptors = (
-        model.Receptor("neighbour-window", -10.0, 32.0, 6.0, 40.0),
+        model.Receptor("neighbour-window", -35.0, 60.0, 6.0, 40.0),
         model.Receptor("garden", 60.0, -35.0, 1.5, 45.0),
     )
     climate = station_climate(rng)
