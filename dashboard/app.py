@@ -63,6 +63,15 @@ with st.sidebar:
                  format_func=lambda u: {"m": "metres", "ft": "feet"}[u])
         st.caption("Inside, everything is SI; exports keep SI with the unit in each column "
                    "name.")
+    found = st.session_state.get("autosave_found")
+    if found:
+        st.info(f"Work from an earlier session was autosaved on "
+                f"{found[1]:%Y-%m-%d %H:%M} UTC.")
+        c1, c2 = st.columns(2)
+        c1.button("Restore it", key="autosave_restore", on_click=state.restore_autosave)
+        c2.button("Keep the demo", key="autosave_dismiss", on_click=state.dismiss_autosave)
+    if st.session_state.get("autosave_error"):
+        st.warning(st.session_state["autosave_error"])
     n_bad = sum(1 for k, _, _ in state.STEPS if not state.complete(k))
     if n_bad:
         st.warning(f"{n_bad} step(s) need attention (marked !).")

@@ -13,7 +13,7 @@ import json
 
 import streamlit as st
 
-from engine import sitefile, units
+from engine import autosave, sitefile, units
 from engine.errors import InputError
 
 from . import cache
@@ -51,6 +51,17 @@ def init() -> None:
     ss["climate_mode"] = "demo"
     ss["loaded_from"] = "built-in demo site"
     ss["notes"] = []
+    # An autosave from an earlier session is offered, not applied; it is not overwritten until
+    # the working copy changes (and even then its previous version stays as .bak).
+    ss["autosaved_text"] = autosave.draft_text(ss["draft"])
+    ss["autosave_error"] = ""
+    try:
+        found = autosave.read_draft()
+    except InputError as e:
+        found = None
+        ss["autosave_error"] = e.problems[0][1]
+    if found is not None and autosave.draft_text(found[0]) != ss["autosaved_text"]:
+        ss["autosave_found"] = found
 
 
 def units_now() -> tuple[str, str]:
@@ -141,6 +152,32 @@ def validate() -> None:
         ss["problems"] = []
     except InputError as e:
         ss["problems"] = list(e.problems)
+    _autosave()
+
+
+def _autosave() -> None:
+    """Write the working copy to the autosave file when it has changed since the last write."""
+    ss = st.session_state
+    text = autosave.draft_text(ss["draft"])
+    if text == ss.get("autosaved_text"):
+        return
+    try:
+        autosave.write_draft(ss["draft"])
+        ss["autosaved_text"] = text
+        ss["autosave_error"] = ""
+    except OSError as e:
+        ss["autosave_error"] = f"autosave failed ({e.strerror}); save the site file by hand"
+
+
+def restore_autosave() -> None:
+    """Make the autosaved working copy from an earlier session the working copy."""
+    ss = st.session_state
+    data, saved_at = ss.pop("autosave_found")
+    replace_draft(data, f"autosave of {saved_at:%Y-%m-%d %H:%M} UTC")
+
+
+def dismiss_autosave() -> None:
+    st.session_state.pop("autosave_found", None)
 
 
 def set_local_problems(step: str, problems: list) -> None:

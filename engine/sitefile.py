@@ -228,18 +228,18 @@ def load_with_notes(path) -> tuple:
     return loads_with_notes(raw)
 
 
-def save(assessment: model.Assessment, path, keep_previous: bool = True) -> Path:
-    """Write a site file atomically (temporary file, fsync, rename); keep ``<name>.bak``.
+def atomic_write_bytes(path, data: bytes, keep_previous: bool = True) -> Path:
+    """Write ``data`` to ``path`` atomically (temporary file, fsync, rename); keep ``<name>.bak``.
 
-    An interrupted save leaves the previous file intact.
+    An interrupted write leaves the previous file intact: the file exists, whole, at every
+    instant.
     """
     path = Path(path)
-    text = dumps(assessment).encode("utf-8")
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
     bak_tmp = tmp + ".bak"
     try:
         with os.fdopen(fd, "wb") as fh:
-            fh.write(text)
+            fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
         if keep_previous and path.exists():
@@ -257,6 +257,14 @@ def save(assessment: model.Assessment, path, keep_previous: bool = True) -> Path
                 os.unlink(leftover)
         raise
     return path
+
+
+def save(assessment: model.Assessment, path, keep_previous: bool = True) -> Path:
+    """Write a site file atomically (temporary file, fsync, rename); keep ``<name>.bak``.
+
+    An interrupted save leaves the previous file intact.
+    """
+    return atomic_write_bytes(path, dumps(assessment).encode("utf-8"), keep_previous)
 
 
 def content_hash(assessment: model.Assessment) -> str:

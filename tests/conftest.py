@@ -122,3 +122,9 @@ def page(chromium, dashboard_url):
         yield pg
     finally:
         context.close()
+
+
+@pytest.fixture(autouse=True)
+def _autosave_in_tmp(tmp_path_factory, monkeypatch):
+    """Each test autosaves into its own temporary folder, never into the user's home."""
+    monkeypatch.setenv("PERCH_AUTOSAVE_DIR", str(tmp_path_factory.mktemp("autosave")))

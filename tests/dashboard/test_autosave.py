@@ -1,0 +1,51 @@
+"""Autosave: a change is written at once, survives the session, and is offered on the next start."""
+import json
+from pathlib import Path
+
+from streamlit.testing.v1 import AppTest
+
+from engine import autosave
+
+APP = str(Path(__file__).resolve().parents[2] / "dashboard" / "app.py")
+
+
+def _number_input(at, label_start):
+    return next(w for w in at.number_input if w.label.startswith(label_start))
+
+
+def test_change_is_autosaved_and_offered_next_session():
+    """Altitude typed in one session is on disk at once and restorable in a new session."""
+    at = AppTest.from_file(APP, default_timeout=60).run()
+    assert not at.exception
+    assert autosave.read_draft() is None  # nothing written until something changes
+    _number_input(at, "Altitude").set_value(321.0).run()
+    data, _ = autosave.read_draft()
+    assert data["site"]["altitude_m"] == 321.0
+
+    fresh = AppTest.from_file(APP, default_timeout=60).run()
+    assert fresh.session_state["draft"]["site"]["altitude_m"] != 321.0  # offered, not applied
+    restore = next(b for b in fresh.button if b.label == "Restore it")
+    restore.click().run()
+    assert not fresh.exception
+    assert fresh.session_state["draft"]["site"]["altitude_m"] == 321.0
+    assert "autosave" in fresh.session_state["loaded_from"]
+
+
+def test_unreadable_autosave_is_reported_not_fatal():
+    """A damaged autosave file gives a warning in the sidebar; the demo still opens."""
+    path = autosave.autosave_path()
+    path.parent.mkdir(parents=True, exist_ok=True)
+    path.write_bytes(b"{not json")
+    at = AppTest.from_file(APP, default_timeout=60).run()
+    assert not at.exception
+    assert any("autosave cannot be read" in w.value for w in at.sidebar.warning)
+    assert at.session_state["draft"]["site"]["name"].startswith("Larkspur Yard")
+
+
+def test_previous_autosave_kept_as_backup(tmp_path):
+    """Writing the working copy twice keeps the first as .bak (atomic write, previous version)."""
+    p = tmp_path / "w.json"
+    autosave.write_draft({"site": {"name": "one"}}, p)
+    autosave.write_draft({"site": {"name": "two"}}, p)
+    assert json.loads(p.read_text())["site"]["name"] == "two"
+    assert json.loads((tmp_path / "w.json.bak").read_text())["site"]["name"] == "one"
