@@ -88,6 +88,10 @@ def write_district(n_buildings: int, path, seed: int = SEED) -> Path:
 
 
 if __name__ == "__main__":
-    size = int(sys.argv[1]) if len(sys.argv) > 1 else 1000
-    out = sys.argv[2] if len(sys.argv) > 2 else SAMPLE_PATH
-    print(write_district(size, out))
+    import argparse
+
+    ap = argparse.ArgumentParser(description="Write an invented city-district buildings table.")
+    ap.add_argument("size", nargs="?", type=int, default=1000, help="number of buildings")
+    ap.add_argument("out", nargs="?", default=str(SAMPLE_PATH), help="output .csv or .parquet")
+    args = ap.parse_args()
+    print(write_district(args.size, args.out))
