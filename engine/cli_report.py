@@ -8,26 +8,17 @@ file byte for byte; without it ``SOURCE_DATE_EPOCH`` is used when set, else the 
 from __future__ import annotations
 
 import datetime as _dt
-import os
-import tempfile
 from pathlib import Path
 
 from .errors import InputError
+from .sitefile import atomic_write_bytes
 
 SUFFIXES = {".html": "html", ".htm": "html", ".pdf": "pdf"}
 
 
 def _write_atomic(path: Path, data: bytes) -> None:
     path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    atomic_write_bytes(path, data, keep_previous=False)
 
 
 def _check_args(args) -> tuple[Path, str, object]:

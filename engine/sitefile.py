@@ -238,6 +238,8 @@ def atomic_write_bytes(path, data: bytes, keep_previous: bool = True) -> Path:
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
     bak_tmp = tmp + ".bak"
     try:
+        # mkstemp creates 0600; keep the previous file's mode, else the usual 0644.
+        os.chmod(tmp, (path.stat().st_mode & 0o777) if path.exists() else 0o644)
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
             fh.flush()
