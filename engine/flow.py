@@ -169,6 +169,69 @@ def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_
     return np.where(np.isfinite(need)[:, None], low < need[:, None] - 1e-9, False)
 
 
+def roof_effects(sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m,
+                 pitched, u_m, v_m, mast_height_m, ambient_ti, main_sector,
+                 clearance_only: bool = False) -> dict:
+    """Roof zones and roof flow at roof positions, vectorised over positions: (P, S) arrays.
+
+    Parameters
+    ----------
+    sector_deg : (S,) sector centres [deg from north, wind from]
+    height_m, length_m, width_m, orientation_deg, parapet_height_m : (P,) the block under each
+        position: eaves height [m], plan size [m], bearing of the length side [deg], parapet [m]
+    pitched : (P,) bool, pitched roof (ridge along the length)
+    u_m, v_m : (P,) position in the block's own axes, from its centre [m]
+    mast_height_m : (P,) mast above the roof surface [m]
+    ambient_ti : (P, S) turbulence intensity of the undisturbed flow at the hub [-]
+    main_sector : (P, S) bool, the main energy sectors
+        (:func:`engine.roofzones.main_energy_sectors`)
+    clearance_only : return only the zone geometry and ``min_clear_mast_m`` (no roof flow)
+
+    Returns
+    -------
+    dict: ``roof_scaling_length_m`` R, ``zone_top_m`` (high-turbulence zone's top above the roof
+    surface, parapet included) (P, S) [m], ``min_clear_mast_m`` (P,) [m]; unless
+    ``clearance_only``: ``speed_factor``, ``turbulence_intensity``, ``inflow_skew_deg`` (P, S)
+    and ``clearance`` (dict of (P, S) clearances to the recirculation, turbulence and wake
+    zones [m]).
+
+    Notes
+    -----
+    R = B_s^(2/3) B_L^(1/3) of the windward face (:func:`engine.roofzones.scaling_length_m`,
+    ASHRAE), the roof fetch X from the windward edge to the position
+    (:func:`engine.buildings.roof_fetch_m`), heights above the roof surface z = mast − parapet;
+    the speed-up, turbulence and skew of :mod:`engine.roofflow` with the direction weights of
+    the angle γ between the wind and the ridge's normal (0..90°). Used by
+    :func:`effective_climate` and by the portfolio screening, so both give the same numbers.
+    """
+    sector_deg = np.asarray(sector_deg, float)
+    para = np.asarray(parapet_height_m, float)
+    phi = np.asarray(orientation_deg, float)
+    L = np.asarray(length_m, float)
+    W = np.asarray(width_m, float)
+    cross, _, _, _, _ = buildings.sector_geometry(L, W, phi, sector_deg)
+    R = roofzones.scaling_length_m((np.asarray(height_m, float) + para)[:, None], cross)
+    X, Xd = buildings.roof_fetch_m(u_m, v_m, L, W, phi, sector_deg)
+    roof_len = X + Xd
+    zone_top = roofzones.turbulence_zone_top_m(X, R, roof_len) + para[:, None]
+    out = {"roof_scaling_length_m": R, "zone_top_m": zone_top,
+           "min_clear_mast_m": roofzones.min_clear_mast_m(zone_top, main_sector)}
+    if clearance_only:
+        return out
+    z = (np.asarray(mast_height_m, float) - para)[:, None]
+    # Angle between the wind and the ridge's normal (ridge along the length), 0..90 deg.
+    gamma = np.abs(np.mod(sector_deg[None, :] - phi[:, None], 180.0) - 90.0)
+    ds, dt = roofflow.direction_weights(np.asarray(pitched, bool)[:, None], gamma)
+    s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds)
+    out.update(
+        speed_factor=s_roof,
+        turbulence_intensity=roofflow.roof_turbulence_intensity(
+            np.asarray(ambient_ti, float), s_roof, z, X, R, roof_len, dt),
+        inflow_skew_deg=roofflow.roof_inflow_skew_deg(z, X, R, roof_len),
+        clearance=roofzones.zone_clearances_m(z, X, R, roof_len))
+    return out
+
+
 def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
     """Roof, passage and wake models for every position and sector (see effective_climate)."""
     positions = assessment.positions
@@ -212,9 +275,6 @@ def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
     if len(roof):
         ib = own[roof]
         para = bldg.parapet_height_m[ib]
-        cross, _, _, _, _ = buildings.sector_geometry(
-            bldg.length_m[ib], bldg.width_m[ib], bldg.orientation_deg[ib], sector_deg)
-        R = roofzones.scaling_length_m((bldg.height_m[ib] + para)[:, None], cross)
         u, v = buildings.to_local(px[roof], py[roof], bldg.x_m[ib], bldg.y_m[ib],
                                   bldg.orientation_deg[ib])
         off = np.flatnonzero((np.abs(u) > 0.5 * bldg.length_m[ib] + 0.5)
@@ -225,28 +285,20 @@ def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
                  f"({px[roof[i]]:g}, {py[roof[i]]:g}) m lies off the roof of "
                  f"{bldg.ids[ib[i]]!r}; move the position onto that roof or make it a mast "
                  "position") for i in off])
-        X, Xd = buildings.roof_fetch_m(u, v, bldg.length_m[ib], bldg.width_m[ib],
-                                       bldg.orientation_deg[ib], sector_deg)
-        roof_len = X + Xd
-        z = (mast[roof] - para)[:, None]
-        clear = roofzones.zone_clearances_m(z, X, R, roof_len)
-        # Angle between the wind and the ridge's normal (ridge along the length), 0..90 deg.
-        gamma = np.abs(np.mod(sector_deg[None, :] - bldg.orientation_deg[ib][:, None], 180.0)
-                       - 90.0)
-        ds, dt = roofflow.direction_weights(bldg.pitched[ib][:, None], gamma)
-        s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds)
-        ti[roof] = roofflow.roof_turbulence_intensity(ti0[roof], s_roof, z, X, R, roof_len, dt)
-        skew[roof] = roofflow.roof_inflow_skew_deg(z, X, R, roof_len)
-        speed[roof] *= s_roof
-        zone_top = roofzones.turbulence_zone_top_m(X, R, roof_len) + para[:, None]
-        diag["zone_top_m"][roof] = zone_top
-        diag["roof_scaling_length_m"][roof] = R
+        rf = roof_effects(sector_deg, bldg.height_m[ib], bldg.length_m[ib], bldg.width_m[ib],
+                          bldg.orientation_deg[ib], para, bldg.pitched[ib], u, v, mast[roof],
+                          ti0[roof], main[roof])
+        ti[roof] = rf["turbulence_intensity"]
+        skew[roof] = rf["inflow_skew_deg"]
+        speed[roof] *= rf["speed_factor"]
+        diag["zone_top_m"][roof] = rf["zone_top_m"]
+        diag["roof_scaling_length_m"][roof] = rf["roof_scaling_length_m"]
         for name in ("recirculation", "turbulence", "wake"):
-            diag[f"clearance_{name}_m"][roof] = clear[name]
-        in_rec_ps[roof] = clear["recirculation"] < 0
-        in_turb_ps[roof] = clear["turbulence"] < 0
-        in_wake_ps[roof] = clear["wake"] < 0
-        min_clear[roof] = roofzones.min_clear_mast_m(zone_top, main[roof])
+            diag[f"clearance_{name}_m"][roof] = rf["clearance"][name]
+        in_rec_ps[roof] = rf["clearance"]["recirculation"] < 0
+        in_turb_ps[roof] = rf["clearance"]["turbulence"] < 0
+        in_wake_ps[roof] = rf["clearance"]["wake"] < 0
+        min_clear[roof] = rf["min_clear_mast_m"]
 
     gap = np.flatnonzero(kind == "gap")
     if len(gap):

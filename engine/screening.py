@@ -713,7 +713,7 @@ def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered
     a ``terrain_category`` (EN 1991-1-4 Table 4.1 z0, d = 0); given plan and frontal area
     fractions (with ``mean_building_height_m``, else the neighbours' mean height); otherwise the
     fractions and mean height of the neighbours in the table. Fractions become z0 and d by
-    :func:`engine.transfer.macdonald_roughness` (Macdonald et al. 1998, ``layout``).
+    :func:`engine.transfer.morphometric_roughness` (Macdonald et al. 1998, ``layout``).
 
     Returns
     -------
@@ -733,8 +733,7 @@ def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered
     # Fractions a crowded table can push past Macdonald's range (0 < λp < 1) are held inside it.
     lp = np.clip(lp, 1e-6, 0.95)
     lf = np.clip(lf, 1e-6, 0.95)
-    z0_m, d_m = transfer.macdonald_roughness(lp, lf, hm, layout)
-    z0_m = np.clip(z0_m, NUMERIC_LIMITS["roughness_m"][0], NUMERIC_LIMITS["roughness_m"][1])
+    z0_m, d_m = transfer.morphometric_roughness(lp, lf, hm, layout)
     d_m = np.clip(d_m, 0.0, NUMERIC_LIMITS["displacement_m"][1])
     src = np.where(given, "table: area fractions", "neighbours in the table").astype(object)
     cat = rows["terrain_category"].to_numpy(object)
@@ -755,60 +754,14 @@ def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered
             "roughness_m": z0_m, "displacement_m": d_m, "surroundings_from": src}
 
 
-def free_stream(climate, roughness_m, displacement_m, hub_height_m, transfer_settings):
-    """Undisturbed per-sector Weibull (k, c) at each hub height, each (N, S), per-row terrain.
-
-    :func:`engine.transfer.free_stream_weibull` for one site, with the surroundings' roughness
-    and displacement given per row: the same transfer functions in the same order (a test holds
-    them equal).
-    """
-    from . import transfer
-
-    hub = np.asarray(hub_height_m, float)
-    z0 = np.asarray(roughness_m, float)
-    d = np.asarray(displacement_m, float)
-    st = transfer_settings
-    if st.method == "power_law":
-        # Held at z_min above the displacement plane, like EN 1991-1-4 (as the transfer does).
-        z_to = np.maximum(hub - d, profiles.minimum_height_m(z0))
-        z_from = max(climate.height_m - climate.displacement_m,
-                     float(profiles.minimum_height_m(climate.roughness_m)))
-        if st.power_law_exponent > 0:
-            ratio = transfer.speed_ratio_power_law(z_to, z_from, None, climate.roughness_m,
-                                                   st.power_law_exponent)
-        else:
-            # The ASHRAE row depends on the roughness class only: one call per class present
-            # (engine.transfer maps a roughness to its row with these bounds).
-            bounds = [b for b, _ in transfer._ASHRAE_Z0_BOUNDS]
-            cls = np.searchsorted(np.asarray(bounds[:-1]), z0, side="right")
-            ratio = np.empty_like(z_to)
-            for j in np.unique(cls):
-                sel = cls == j
-                ratio[sel] = transfer.speed_ratio_power_law(
-                    z_to[sel], z_from, float(z0[sel][0]), climate.roughness_m, 0.0)
-    else:
-        ratio = profiles.transfer_speed_ratio(hub, z0, climate.height_m, climate.roughness_m,
-                                              d, climate.displacement_m)
-    c = np.asarray(climate.weibull_c_ms, float)[None, :] * np.asarray(ratio, float)[:, None]
-    k_ref = np.asarray(climate.weibull_k, float)
-    if st.adjust_shape_with_height:
-        z_ref = max(climate.height_m - climate.displacement_m, 1.0)
-        z_hub = np.maximum(hub - d, 1.0)
-        k = np.clip(transfer.shape_justus_mikhail(k_ref[None, :], z_ref, z_hub[:, None]),
-                    0.5, 10.0)
-    else:
-        k = np.broadcast_to(k_ref, c.shape).copy()
-    return k, c
-
-
 def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_density_kgm3,
                         transfer_settings, clearance_only: bool = False):
     """Effective climate of a roof position at each building's centre, one position per row.
 
-    The steps :func:`engine.flow.effective_climate` takes for an assessment of that one
-    building with that one roof position (its roof branch; with no other building there is no
-    upwind wake), with the surroundings' roughness and displacement per row instead of one
-    site's. A test holds the two equal.
+    The functions :func:`engine.flow.effective_climate` calls for an assessment of that one
+    building with that one roof position (:func:`engine.transfer.weibull_at_hub`,
+    :func:`engine.flow.roof_effects`; with no other building there is no upwind wake), with the
+    surroundings' roughness and displacement per row instead of one site's.
 
     Returns
     -------
@@ -816,41 +769,31 @@ def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_dens
     ``min_clear_mast_m``, ``in_turbulence_zone``, ``in_recirculation_zone``, ``in_roof_wake``.
     With ``clearance_only``, just the (P,) ``min_clear_mast_m`` [m] (the roof flow is skipped).
     """
-    from . import buildings, flow, roofflow, roofzones
+    from . import flow, roofzones, transfer
 
     H = rows["height_m"].to_numpy(float)
-    L = rows["length_m"].to_numpy(float)
-    W = rows["width_m"].to_numpy(float)
-    phi = rows["orientation_deg"].to_numpy(float)
-    para = rows["parapet_height_m"].to_numpy(float)
-    pitched = (rows["roof_type"].to_numpy(object) == "pitched")
     mast = np.asarray(mast_m, float)
     hub = H + mast
     z0, d = sur["roughness_m"], sur["displacement_m"]
-    k, free_c = free_stream(climate, z0, d, hub, transfer_settings)
+    k, free_c = transfer.weibull_at_hub(climate, z0, d, hub, transfer_settings)
     P, S = free_c.shape
     sector_deg = np.asarray(climate.sector_deg, float)
     freq = np.broadcast_to(np.asarray(climate.frequency, float), (P, S)).copy()
     ti0 = np.broadcast_to(profiles.turbulence_intensity_terrain(hub, z0, d)[:, None],
                           (P, S)).copy()
-    share = roofzones.sector_energy_share(freq, k, free_c)
-    main = roofzones.main_energy_sectors(share)
-    cross, _, _, _, _ = buildings.sector_geometry(L, W, phi, sector_deg)
-    R = roofzones.scaling_length_m((H + para)[:, None], cross)
+    main = roofzones.main_energy_sectors(roofzones.sector_energy_share(freq, k, free_c))
     zero = np.zeros(P)
-    X, Xd = buildings.roof_fetch_m(zero, zero, L, W, phi, sector_deg)
-    roof_len = X + Xd
-    zone_top = roofzones.turbulence_zone_top_m(X, R, roof_len) + para[:, None]
-    min_clear = roofzones.min_clear_mast_m(zone_top, main)
+    rf = flow.roof_effects(sector_deg, H, rows["length_m"].to_numpy(float),
+                           rows["width_m"].to_numpy(float),
+                           rows["orientation_deg"].to_numpy(float),
+                           rows["parapet_height_m"].to_numpy(float),
+                           rows["roof_type"].to_numpy(object) == "pitched", zero, zero, mast,
+                           ti0, main, clearance_only=clearance_only)
+    min_clear = rf["min_clear_mast_m"]
     if clearance_only:
         return min_clear
-    z = (mast - para)[:, None]
-    clear = roofzones.zone_clearances_m(z, X, R, roof_len)
-    gamma = np.abs(np.mod(sector_deg[None, :] - phi[:, None] - 90.0 + 90.0, 180.0) - 90.0)
-    ds, dt = roofflow.direction_weights(pitched[:, None], gamma)
-    s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds)
-    ti = roofflow.roof_turbulence_intensity(ti0, s_roof, z, X, R, roof_len, dt)
-    skew = roofflow.roof_inflow_skew_deg(z, X, R, roof_len)
+    clear = rf["clearance"]
+    s_roof, ti, skew = rf["speed_factor"], rf["turbulence_intensity"], rf["inflow_skew_deg"]
     diag = {"min_clear_mast_m": min_clear,
             "in_turbulence_zone": ((clear["turbulence"] < 0) & main).any(axis=1),
             "in_recirculation_zone": ((clear["recirculation"] < 0) & main).any(axis=1),

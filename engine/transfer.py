@@ -84,6 +84,26 @@ def macdonald_roughness(plan_area_fraction, frontal_area_fraction, mean_building
     return z0_h * h, d_h * h
 
 
+def morphometric_roughness(plan_area_fraction, frontal_area_fraction, mean_building_height_m,
+                           layout: str = "staggered"):
+    """Roughness length and displacement from area fractions, held in the chain's range [m].
+
+    Arrays broadcast together (one site, or one value per building of a table).
+
+    Returns
+    -------
+    z0_m, d_m : :func:`macdonald_roughness`, z0 clipped to [1e-4, 5] m
+
+    Notes
+    -----
+    EN 1991-1-4 has no roughness length below 1e-4 m; 5 m is the top of the range the rest of
+    the chain accepts.
+    """
+    z0, d = macdonald_roughness(plan_area_fraction, frontal_area_fraction,
+                                mean_building_height_m, layout)
+    return np.clip(z0, 1e-4, 5.0), d
+
+
 def site_roughness(site, settings):
     """Roughness length and displacement of the site's surroundings [m] and where they came from.
 
@@ -98,10 +118,9 @@ def site_roughness(site, settings):
     if missing:
         raise InputError([(f"site.{n}", "is needed when transfer.use_morphometry is on; enter it "
                                         "or turn morphometry off") for n in missing])
-    z0, d = macdonald_roughness(site.plan_area_fraction, site.frontal_area_fraction,
-                                site.mean_building_height_m, settings.morphometry_layout)
-    # Keep within the range the rest of the chain accepts (EN 1991-1-4 has no z0 below 1e-4 m).
-    return float(np.clip(z0, 1e-4, 5.0)), float(d), "Macdonald et al. 1998"
+    z0, d = morphometric_roughness(site.plan_area_fraction, site.frontal_area_fraction,
+                                   site.mean_building_height_m, settings.morphometry_layout)
+    return float(z0), float(d), "Macdonald et al. 1998"
 
 
 def ashrae_terrain(roughness_m) -> str:
@@ -112,9 +131,25 @@ def ashrae_terrain(roughness_m) -> str:
     return "city_centre"
 
 
+def ashrae_terrain_parameters(roughness_m):
+    """ASHRAE Table 1 exponent a [-] and boundary-layer depth δ [m] for roughness lengths.
+
+    Arrays of the shape of ``roughness_m``; the row is the one :func:`ashrae_terrain` picks.
+    """
+    z0 = np.asarray(roughness_m, float)
+    bounds = np.array([b for b, _ in _ASHRAE_Z0_BOUNDS[:-1]])
+    row = np.searchsorted(bounds, z0, side="right")
+    names = [n for _, n in _ASHRAE_Z0_BOUNDS]
+    a = np.array([ASHRAE_TERRAIN[n][0] for n in names])
+    depth = np.array([ASHRAE_TERRAIN[n][1] for n in names])
+    return a[row], depth[row]
+
+
 def speed_ratio_power_law(height_to_m, height_from_m, roughness_to_m=None,
                           roughness_from_m=None, exponent: float = 0.0):
     """Ratio of mean speeds by the power law [-].
+
+    Heights and roughness lengths may be arrays broadcasting together (one terrain per row).
 
     Notes
     -----
@@ -126,8 +161,8 @@ def speed_ratio_power_law(height_to_m, height_from_m, roughness_to_m=None,
     z1 = np.asarray(height_from_m, float)
     if exponent > 0:
         return (z2 / z1) ** exponent
-    a_to, dl_to = ASHRAE_TERRAIN[ashrae_terrain(roughness_to_m)]
-    a_fr, dl_fr = ASHRAE_TERRAIN[ashrae_terrain(roughness_from_m)]
+    a_to, dl_to = ashrae_terrain_parameters(roughness_to_m)
+    a_fr, dl_fr = ashrae_terrain_parameters(roughness_from_m)
     return (dl_fr / z1) ** a_fr * (z2 / dl_to) ** a_to
 
 
@@ -169,12 +204,35 @@ def free_stream_weibull(climate, site, hub_height_m, settings):
 
     Notes
     -----
-    Heights for the shape adjustment are heights above the displacement plane, held at 1 m
-    at least (the Justus–Mikhail fit is for open-terrain towers). Below z_min above the
-    displacement plane the profile is held at its z_min value (EN 1991-1-4 §4.3.2).
+    The site's roughness and displacement (:func:`site_roughness`), then
+    :func:`weibull_at_hub`.
+    """
+    z0, d, _ = site_roughness(site, settings)
+    return weibull_at_hub(climate, z0, d, hub_height_m, settings)
+
+
+def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings):
+    """Undisturbed per-sector Weibull (k, c) at hub heights over given terrain, each (P, S).
+
+    Parameters
+    ----------
+    climate : :class:`engine.model.WindClimate` at its own height, roughness, displacement
+    roughness_m, displacement_m : the terrain at the hub [m], scalars or (P,) (one terrain per
+        position, e.g. per building of a screened table)
+    hub_height_m : (P,) hub heights above ground [m]
+    settings : :class:`engine.model.TransferSettings`
+
+    Notes
+    -----
+    c = c_ref · ratio, the ratio by the log law (:func:`engine.profiles.transfer_speed_ratio`)
+    or the power law (:func:`speed_ratio_power_law`). Heights for the shape adjustment are
+    heights above the displacement plane, held at 1 m at least (the Justus–Mikhail fit is for
+    open-terrain towers). Below z_min above the displacement plane the profile is held at its
+    z_min value (EN 1991-1-4 §4.3.2).
     """
     hub = np.atleast_1d(np.asarray(hub_height_m, float))
-    z0, d, _ = site_roughness(site, settings)
+    z0 = np.asarray(roughness_m, float)
+    d = np.asarray(displacement_m, float)
     if settings.method == "power_law":
         # Like EN 1991-1-4, hold the profile at its value at z_min above the displacement plane.
         z_to = np.maximum(hub - d, profiles.minimum_height_m(z0))
@@ -185,11 +243,12 @@ def free_stream_weibull(climate, site, hub_height_m, settings):
     else:
         ratio = profiles.transfer_speed_ratio(hub, z0, climate.height_m, climate.roughness_m,
                                               d, climate.displacement_m)
+    ratio = np.broadcast_to(np.asarray(ratio, float), hub.shape)
     c = np.asarray(climate.weibull_c_ms, float)[None, :] * ratio[:, None]
     k_ref = np.asarray(climate.weibull_k, float)
     if settings.adjust_shape_with_height:
         z_ref = max(climate.height_m - climate.displacement_m, 1.0)
-        z_hub = np.maximum(hub - d, 1.0)
+        z_hub = np.broadcast_to(np.maximum(hub - d, 1.0), hub.shape)
         k = shape_justus_mikhail(k_ref[None, :], z_ref, z_hub[:, None])
         k = np.clip(k, 0.5, 10.0)
     else:

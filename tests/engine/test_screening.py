@@ -388,3 +388,24 @@ def test_malformed_csv_line_reported_on_its_line(ctx, tmp_path):
     assert "height_m must be a number, got 'oops'" in where["line 4 (id 'c')"]
     assert sorted(res.table["id"]) == ["a", "d"]
     assert dict(zip(res.table["id"], res.table["line"])) == {"a": 2, "d": 5}
+
+
+def test_per_row_terrain_transfer_uses_each_rows_ashrae_terrain(ctx):
+    """One roughness per row picks that row's ASHRAE terrain in the power-law transfer."""
+    from engine import transfer
+
+    clim = ctx.climates[""]
+    # ASHRAE Handbook-Fundamentals, "Airflow Around Buildings", Table 1 (a, delta [m]):
+    # flat open 0.10/210, open scattered 0.14/270, urban/suburban 0.22/370, city 0.33/460.
+    table1 = {0.01: (0.10, 210.0), 0.1: (0.14, 270.0), 0.5: (0.22, 370.0), 1.5: (0.33, 460.0)}
+    z0 = np.array(list(table1))
+    hub = np.array([12.0, 15.0, 20.0, 30.0])
+    k, c = transfer.weibull_at_hub(clim, z0, np.zeros(4), hub,
+                                   model.TransferSettings(method="power_law"))
+    a_met, d_met = table1[0.01] if clim.roughness_m < 0.02 else (
+        table1[0.1] if clim.roughness_m < 0.15 else table1[0.5])
+    z_met = clim.height_m - clim.displacement_m  # the demo station: 10 m, above its z_min
+    for i, (a, depth) in enumerate(table1.values()):
+        ratio = (d_met / z_met) ** a_met * (hub[i] / depth) ** a
+        assert c[i] == pytest.approx(np.asarray(clim.weibull_c_ms) * ratio, rel=1e-12)
+    assert np.all(k == np.asarray(clim.weibull_k))
