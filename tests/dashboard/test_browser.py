@@ -39,7 +39,7 @@ def choose(page, label: str, option: str, nth: int = 0) -> None:
 
 
 def test_walk_the_demo_and_change_a_mast(page, dashboard_url):
-    """From the first step to the ranking; a taller mast on the terrace re-ranks it first."""
+    """From the first step to the ranking; a lower tower mast drops into its roof zones and re-ranks."""
     from playwright.sync_api import expect
 
     page.goto(dashboard_url)
@@ -60,27 +60,27 @@ def test_walk_the_demo_and_change_a_mast(page, dashboard_url):
         shot(page, name)
 
     top = first_ranked(page)
-    expect(top).to_contain_text("yard-mast")
+    expect(top).to_contain_text("tower-centre")
     # a field shown on two steps keeps its value across the page change
     expect(page.get_by_role("spinbutton", name="Price of a kWh")).to_have_value("0.250")
-    choose(page, "Position", "terrace-ridge")
+    choose(page, "Position", "tower-centre")
     mast = page.get_by_role("spinbutton", name="Mast height (m)")
-    expect(mast).to_have_value("3.0")
-    mast.fill("10")
+    expect(mast).to_have_value("9.0")
+    mast.fill("6")
     mast.press("Enter")
-    expect(top).to_contain_text("terrace-ridge")
+    expect(top).to_contain_text("yard-mast")
     idle(page)
-    shot(page, "browser-6-results-taller-mast")
+    shot(page, "browser-6-results-lower-mast")
 
     name = page.get_by_role("textbox", name="Save as scenario")
-    name.fill("terrace at 10 m")
+    name.fill("tower at 6 m")
     name.press("Enter")
     idle(page)
     page.get_by_role("button", name="Save scenario").click()
     idle(page)
-    mast.fill("3")
+    mast.fill("9")
     mast.press("Enter")
-    expect(top).to_contain_text("yard-mast")
+    expect(top).to_contain_text("tower-centre")
     name.fill("as drawn")
     name.press("Enter")
     idle(page)
@@ -90,7 +90,7 @@ def test_walk_the_demo_and_change_a_mast(page, dashboard_url):
     page.get_by_role("link", name="Compare what-ifs").first.click()
     idle(page)
     expect(page.get_by_role("heading", name="Inputs that differ")).to_be_visible()
-    expect(page.get_by_text("positions terrace-ridge: mast height (m)")).to_be_visible()
+    expect(page.get_by_text("positions tower-centre: mast height (m)")).to_be_visible()
     shot(page, "browser-6b-compare")
 
     page.get_by_role("link", name=re.compile(r"^6\. Summary")).click()
