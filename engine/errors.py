@@ -77,3 +77,19 @@ def check_range(problems: Problems, where: str, value, lo=None, hi=None, unit: s
         hi_s = "" if hi is None else (f"< {hi:g}" if hi_open else f"<= {hi:g}")
         rule = " and ".join(s for s in (lo_s, hi_s) if s)
         problems.add(where, f"must be {rule}, got {v:g} {unit}".rstrip())
+
+
+def decode_upload(data, max_bytes: int, what: str, save_as: str) -> str:
+    """Text of an uploaded file: size-checked and decoded as UTF-8 (a BOM is dropped).
+
+    ``what`` names the file in messages ("a site file"), ``save_as`` says how to fix an
+    encoding problem ("UTF-8 JSON"). Raises :class:`InputError` naming the limit or the byte.
+    """
+    if len(data) > max_bytes:
+        raise InputError([("file", f"is {len(data) / 1e6:.1f} MB; {what} must be under "
+                                   f"{max_bytes / 1e6:.0f} MB")])
+    try:
+        return bytes(data).decode("utf-8-sig")
+    except UnicodeDecodeError as e:
+        raise InputError([("file", f"is not UTF-8 text (byte {e.start}); save it as "
+                                   f"{save_as}")]) from None

@@ -21,7 +21,7 @@ import typing
 from pathlib import Path
 
 from . import migrate, model
-from .errors import InputError, Problems
+from .errors import InputError, Problems, decode_upload
 
 #: Largest site file accepted [bytes]; a site file is small, larger ones are a wrong upload.
 MAX_SITE_FILE_BYTES = 20 * 1024 * 1024
@@ -180,14 +180,7 @@ def loads_with_notes(text) -> tuple:
     migration met are raised together with the validation problems (see :mod:`engine.migrate`).
     """
     if isinstance(text, (bytes, bytearray)):
-        if len(text) > MAX_SITE_FILE_BYTES:
-            raise InputError([("file", f"is {len(text) / 1e6:.1f} MB; a site file must be under "
-                                       f"{MAX_SITE_FILE_BYTES / 1e6:.0f} MB")])
-        try:
-            text = bytes(text).decode("utf-8-sig")
-        except UnicodeDecodeError as e:
-            raise InputError([("file", f"is not UTF-8 text (byte {e.start}); save the site file "
-                                       "as UTF-8 JSON")]) from None
+        text = decode_upload(text, MAX_SITE_FILE_BYTES, "a site file", "UTF-8 JSON")
     try:
         data = json.loads(text)
     except json.JSONDecodeError as e:

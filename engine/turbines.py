@@ -27,7 +27,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .errors import InputError, Problems
+from .errors import InputError, Problems, decode_upload
 from .model import BETZ_CP, RHO_STANDARD, Turbine
 
 LIBRARY_DIR = Path(__file__).with_name("turbine_library")
@@ -251,14 +251,7 @@ def read_power_curve_csv(data, unit: str = "auto", swept_area_m2: float = 0.0) -
     """
     p = Problems()
     if isinstance(data, (bytes, bytearray)):
-        if len(data) > MAX_CURVE_FILE_BYTES:
-            raise InputError([("file", f"is {len(data) / 1e6:.1f} MB; a power-curve table "
-                                       f"must be under {MAX_CURVE_FILE_BYTES / 1e6:.0f} MB")])
-        try:
-            data = bytes(data).decode("utf-8-sig")
-        except UnicodeDecodeError as e:
-            raise InputError([("file", f"is not UTF-8 text (byte {e.start}); save the table "
-                                       "as UTF-8 CSV")]) from None
+        data = decode_upload(data, MAX_CURVE_FILE_BYTES, "a power-curve table", "UTF-8 CSV")
     if unit not in ("W", "kW", "auto"):
         raise InputError([("unit", f"must be 'W', 'kW' or 'auto', got {unit!r}")])
     lines = [(n + 1, ln) for n, ln in enumerate(str(data).splitlines()) if ln.strip()
