@@ -9,6 +9,10 @@ Prints, from one run, side by side:
 * building-turbine evaluations per second per core (target >= 200,000 locally);
 * the peak memory of the local engine for the largest size (target < 2 GB), measured as the
   maximum resident set size of a fresh child process;
+* the yield stage alone (``engine.energy.prepare_bins`` and ``energy_wh``) against the previous
+  formulation kept here (the curve gathered for every building, turbine and sector, the
+  Weibull powers taken per turbine), on the same arrays, interleaved, best of 3, in chunks of
+  the screening's ``chunk_rows`` (``--energy-only`` runs just this);
 * with ``--beyond N``: a table of N buildings screened on a Dask cluster whose workers are
   allowed less memory in all than the table takes, sorted and written straight to CSV by the
   workers (the limit and the table's measured size are printed).
@@ -19,6 +23,7 @@ turbines are those of the demo site. Usage::
     python benchmarks/bench_screening.py            # 10^4, 10^5, 10^6
     python benchmarks/bench_screening.py --beyond 1000000 --worker-mb 700 --workers 1
     python benchmarks/bench_screening.py --quick    # 10^3, 10^4, 10^5
+    python benchmarks/bench_screening.py --sizes 10000,100000 --compare-local   # before/after
     python benchmarks/bench_screening.py --sizes 1000,3000,10000   # a trial run
 """
 from __future__ import annotations
@@ -34,6 +39,8 @@ import tempfile
 import time
 from pathlib import Path
 
+# One core per process: the yield's matrix products would otherwise use every core.
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "demo_sites"))
@@ -49,11 +56,29 @@ def _context():
     return screening.context_from_assessment(sitefile.load(ROOT / "demo_sites" / "larkspur_yard.json"))
 
 
-def child_local(path: str) -> None:
-    """Run the local engine once in this (fresh) process; print time, size and peak memory."""
+class _BeforeSetup:
+    """Stands in for engine.energy.BinsSetup with the previous formulation (energy only)."""
+
+    def __init__(self, *args):
+        self.args = args
+
+    def energy_wh(self, scale=1.0):
+        assert scale == 1.0
+        return energy_before(*self.args)
+
+
+def child_local(path: str, before: bool = False) -> None:
+    """Run the local engine once in this (fresh) process; print time, size and peak memory.
+
+    With ``before``, the screening's yield stage uses the previous formulation
+    (:func:`energy_before`), for a side-by-side run of the whole screening.
+    """
     import pandas as pd
 
-    from engine import screening
+    from engine import energy, screening
+    if before:
+        energy.prepare_bins = lambda f, k, c, ti, skew, turbs, rho: _BeforeSetup(
+            f, k, c, ti, skew, turbs, rho)
     ctx = _context()
     # Warm-up on a few rows: lazy imports and first calls are not the screening's cost.
     screening.screen_local(pd.read_csv(path, nrows=50), ctx)
@@ -66,8 +91,9 @@ def child_local(path: str) -> None:
                       "peak_mb": peak_mb, "table_mb": table_mb}))
 
 
-def run_local(path: Path) -> dict:
-    out = subprocess.run([sys.executable, __file__, "--child-local", str(path)],
+def run_local(path: Path, before: bool = False) -> dict:
+    out = subprocess.run([sys.executable, __file__, "--child-local", str(path)]
+                         + (["--before"] if before else []),
                          capture_output=True, text=True, check=True, cwd=ROOT)
     return json.loads(out.stdout.strip().splitlines()[-1])
 
@@ -127,6 +153,59 @@ def run_beyond(n: int, tmp: Path, memory_limit=WORKER_MEMORY_LIMIT, n_workers=2)
           f"{rows:,d} ranked rows written, {res.n_rows:,d} read")
 
 
+def energy_before(f, k, c, ti, skew, turbs, rho):
+    """Net-free energy [Wh] by the previous formulation: (P, T, S, J) curves gathered per row."""
+    import numpy as np
+
+    from engine import energy
+    edges = energy.DEFAULT_EDGES_MS
+    skew_f = np.stack([energy.skew_speed_factor(skew, t.axis) for t in turbs], axis=1)
+    grid = energy.ti_grid_for(ti)
+    table = energy.turbulent_curve_table_w(turbs, rho, grid, edges)
+    w = energy.lookup_turbulent_curve_w(energy.bin_weights_w(table), grid, ti)
+    k_b = np.ascontiguousarray(np.broadcast_to(k[:, None, :], skew_f.shape))
+    g = np.exp(-energy._weibull_x(edges, k_b, c[:, None, :] * skew_f))
+    per = np.einsum("...j,...j->...", g, w)
+    return np.maximum(energy.HOURS_PER_YEAR * np.sum(f[:, None, :] * per, axis=-1), 0.0)
+
+
+def energy_after(f, k, c, ti, skew, turbs, rho):
+    """Energy [Wh] as the engine now computes it (the detailed assessment's function)."""
+    from engine import energy
+    return energy.prepare_bins(f, k, c, ti, skew, turbs, rho).energy_wh(1.0)
+
+
+def run_energy(sizes) -> None:
+    """Yield stage, previous and current formulation side by side on the same seeded arrays."""
+    import numpy as np
+
+    ctx = _context()
+    turbs, chunk, S = ctx.turbines, int(ctx.settings.chunk_rows), 12
+    print(f"yield stage, {len(turbs)} turbines, {S} sectors, chunks of {chunk} buildings "
+          "(best of 3, interleaved):")
+    print(f"{'buildings':>10} | {'before s':>8} {'eval/s':>10} | {'after s':>8} {'eval/s':>10} | "
+          f"{'speed-up':>8} | {'max rel diff':>12}")
+    for n in sizes:
+        rng = np.random.default_rng(n)
+        # Timing inputs only (seeded, in the ranges roof positions see).
+        arrs = (rng.dirichlet(np.ones(S), n), rng.uniform(1.5, 2.6, (n, S)),
+                rng.uniform(2.5, 8.0, (n, S)), rng.uniform(0.1, 0.45, (n, S)),
+                rng.uniform(0.0, 25.0, (n, S)))
+        best = {"before": math.inf, "after": math.inf}
+        out = {}
+        for _ in range(3):
+            for name, fn in (("before", energy_before), ("after", energy_after)):
+                t0 = time.perf_counter()
+                out[name] = np.concatenate([fn(*(a[i:i + chunk] for a in arrs), turbs, 1.2)
+                                            for i in range(0, n, chunk)])
+                best[name] = min(best[name], time.perf_counter() - t0)
+        diff = float(np.max(np.abs(out["after"] - out["before"])
+                            / np.maximum(np.abs(out["before"]), 1e-300)))
+        b, a = best["before"], best["after"]
+        print(f"{n:>10,d} | {b:8.2f} {n * len(turbs) / b:10.0f} | {a:8.2f} "
+              f"{n * len(turbs) / a:10.0f} | {b / a:8.2f} | {diff:12.1e}", flush=True)
+
+
 def exponent(sizes, seconds) -> float:
     """Slope b of log t = a + b log N (least squares)."""
     import numpy as np
@@ -138,6 +217,11 @@ def main() -> None:
     ap.add_argument("--quick", action="store_true")
     ap.add_argument("--sizes", default="", help="comma-separated sizes instead (a trial run)")
     ap.add_argument("--child-local")
+    ap.add_argument("--before", action="store_true", help=argparse.SUPPRESS)
+    ap.add_argument("--compare-local", action="store_true",
+                    help="only the local engine, previous and current yield stage side by side")
+    ap.add_argument("--energy-only", action="store_true",
+                    help="only the yield stage, previous and current formulation")
     ap.add_argument("--beyond", type=int, default=0,
                     help="only the beyond-memory run, with this many buildings")
     ap.add_argument("--worker-mb", type=int, default=WORKER_MEMORY_LIMIT // 1024 ** 2,
@@ -146,7 +230,7 @@ def main() -> None:
                     help="Dask workers in the beyond-memory run")
     args = ap.parse_args()
     if args.child_local:
-        child_local(args.child_local)
+        child_local(args.child_local, args.before)
         return
     import make_district
 
@@ -160,7 +244,22 @@ def main() -> None:
     sizes = [10 ** 3, 10 ** 4, 10 ** 5] if args.quick else [10 ** 4, 10 ** 5, 10 ** 6]
     if args.sizes:
         sizes = sorted(int(x) for x in args.sizes.split(","))
+    run_energy([n for n in sizes if n <= 10 ** 5])
+    if args.energy_only:
+        print(f"load average at the end {os.getloadavg()[0]:.1f}")
+        return
     paths = {n: make_district.write_district(n, tmp / f"district_{n}.csv") for n in sizes}
+    if args.compare_local:
+        print(f"{'buildings':>10} | {'before s':>8} {'eval/s':>9} | {'after s':>8} {'eval/s':>9} "
+              f"| {'speed-up':>8}   (whole local screening, fresh process each)")
+        for n in sizes:
+            b, a = run_local(paths[n], before=True), run_local(paths[n])
+            T = a["turbines"]
+            print(f"{n:>10,d} | {b['seconds']:8.2f} {n * T / b['seconds']:9.0f} | "
+                  f"{a['seconds']:8.2f} {n * T / a['seconds']:9.0f} | "
+                  f"{b['seconds'] / a['seconds']:8.2f}", flush=True)
+        print(f"load average at the end {os.getloadavg()[0]:.1f}")
+        return
     local = {}
     for n in sizes:
         local[n] = run_local(paths[n])

@@ -26,6 +26,7 @@ turbulence normalisation). Wording and clause numbers from memory.
 from __future__ import annotations
 
 import calendar
+import functools
 import math
 from dataclasses import dataclass
 
@@ -256,6 +257,34 @@ def turbulent_curve_table_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAUL
                                                edges[None, :], sigma) for t in turbines])
 
 
+@functools.lru_cache(maxsize=64)
+def _table_weights_cached(turbines, air_density_kgm3, ti_grid, edges_ms, reference_ti):
+    w = bin_weights_w(turbulent_curve_table_w(list(turbines), air_density_kgm3,
+                                              np.array(ti_grid), np.array(edges_ms),
+                                              reference_ti))
+    w.flags.writeable = False
+    return w
+
+
+def table_weights_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAULT_EDGES_MS,
+                    reference_ti=0.0):
+    """:func:`bin_weights_w` of :func:`turbulent_curve_table_w`, (T, I, J) [W], read-only.
+
+    Kept for the last few argument sets: a screening asks for the same turbines, density and
+    table rows chunk after chunk, and the rows do not depend on the chunk (each is computed
+    from its own turbulence intensity alone), so a kept table is the same numbers.
+    """
+    try:
+        key = (tuple(turbines), float(air_density_kgm3),
+               tuple(float(v) for v in np.asarray(ti_grid, float)),
+               tuple(float(v) for v in np.asarray(edges_ms, float)), float(reference_ti))
+        hash(key)
+    except TypeError:  # a turbine that cannot be hashed: compute afresh
+        return bin_weights_w(turbulent_curve_table_w(turbines, air_density_kgm3, ti_grid,
+                                                     edges_ms, reference_ti))
+    return _table_weights_cached(*key)
+
+
 def lookup_turbulent_curve_w(table_w, ti_grid, turbulence_intensity):
     """Curves at each turbulence intensity by linear interpolation in the table [W].
 
@@ -331,34 +360,6 @@ def bin_weights_w(power_edges_w):
     return w
 
 
-def _bins_sum_and_slope(frequency, x, k, weights_w, hours):
-    """Method-of-bins energy and its derivative d E / d ln λ at λ = 1 (scale c → λc) [Wh].
-
-    Notes
-    -----
-    E(λ) = N_h Σ_s f_s Σ_j exp(-x_j λ^-k) w_j, so dE/d ln λ = N_h Σ_s f_s k_s Σ_j x_j
-    exp(-x_j) w_j: the exact slope of the binned sum, from the same exponentials.
-    """
-    g = np.exp(np.negative(x))
-    gw = g * np.asarray(weights_w, float)
-    f = np.asarray(frequency)
-    # The binned sum is of non-negative terms; summation by parts can leave -1e-29-sized
-    # rounding below zero, which must not show as negative energy.
-    e = np.maximum(hours * np.sum(f * gw.sum(axis=-1), axis=-1), 0.0)
-    slope = hours * np.sum(f * np.asarray(k) * np.einsum("...j,...j->...", gw, x), axis=-1)
-    return e, slope
-
-
-def _bins_sum(frequency, x, weights_w, hours):
-    """N_h Σ_s f_s Σ_j exp(-x_j) w_j, the method of bins with :func:`bin_weights_w` [Wh]."""
-    g = np.exp(np.negative(x))
-    w = np.asarray(weights_w, float)
-    shape = np.broadcast_shapes(g.shape, w.shape)
-    per_sector = np.einsum("...j,...j->...", np.broadcast_to(g, shape), np.broadcast_to(w, shape))
-    # Non-negative terms; clip the rounding of summation by parts (see _bins_sum_and_slope).
-    return np.maximum(hours * np.sum(np.asarray(frequency) * per_sector, axis=-1), 0.0)
-
-
 def aep_method_of_bins_wh(frequency, weibull_k, weibull_c_ms, power_edges_w,
                           edges_ms=DEFAULT_EDGES_MS, hours=HOURS_PER_YEAR):
     """Annual energy [Wh] by the method of bins, summed over sectors.
@@ -409,6 +410,46 @@ def net_fraction(losses) -> float:
     return losses_chain(losses)[-1][2]
 
 
+def _ti_nodes(ti_grid, turbulence_intensity):
+    """Lower table row and fraction of each turbulence intensity in ``ti_grid``: (lo, frac)."""
+    ti_grid = np.asarray(ti_grid, float)
+    step = ti_grid[1] - ti_grid[0] if len(ti_grid) > 1 else 1.0
+    x = (np.clip(np.asarray(turbulence_intensity, float), ti_grid[0], ti_grid[-1])
+         - ti_grid[0]) / step
+    lo = np.clip(np.floor(x).astype(int), 0, max(len(ti_grid) - 2, 0))
+    return lo, x - lo
+
+
+def _interpolated_sums(terms, table_weights_w, turbine_axis, ti_lo, ti_frac):
+    """Σ_j terms_j w_j(TI) per turbine and sector, w interpolated linearly in TI: (..., P, T, S).
+
+    Parameters
+    ----------
+    terms : (..., P, A, S, J) per rotor-axis type
+    table_weights_w : (T, I, J) bin weights at the TI table's rows [W]
+    turbine_axis : (T,) index into A of each turbine
+    ti_lo, ti_frac : (P, S) lower table row and fraction of each sector's turbulence intensity
+
+    Notes
+    -----
+    w(TI) = w_lo + (w_hi − w_lo) φ is linear in the table rows, so
+    Σ_j t_j w_j(TI) = G_lo + (G_hi − G_lo) φ with G_i = Σ_j t_j w_ij: one matrix product per
+    turbine over the table's rows (BLAS) instead of gathering a curve for every position,
+    turbine and sector. Equal to summing the interpolated curves, to rounding.
+    """
+    terms = np.asarray(terms, float)
+    n_rows = table_weights_w.shape[1]
+    lo = np.broadcast_to(ti_lo, terms.shape[:-4] + ti_lo.shape)[..., None]
+    hi = np.minimum(lo + 1, n_rows - 1)
+    out = []
+    for t in range(table_weights_w.shape[0]):
+        g = terms[..., turbine_axis[t], :, :] @ table_weights_w[t].T  # (..., P, S, I)
+        g_lo = np.take_along_axis(g, lo, axis=-1)[..., 0]
+        g_hi = np.take_along_axis(g, hi, axis=-1)[..., 0]
+        out.append(g_lo + (g_hi - g_lo) * ti_frac)
+    return np.stack(out, axis=-2)
+
+
 @dataclass(frozen=True)
 class BinsSetup:
     """Everything the method of bins needs for (P, T, S, J), computed once.
@@ -416,13 +457,42 @@ class BinsSetup:
     ``energy_wh(scale)`` sums the bins with every sector's speed scale multiplied by
     ``scale`` (a number, or an (N,) array for N samples at once), keeping the curves, which
     is how the sensitivity and the Monte Carlo check re-use one setup.
+
+    The Weibull terms are held once per rotor-axis type A (the skew factor depends only on the
+    axis) and the curves as a table over turbulence intensity with each sector's row and
+    fraction; :attr:`weibull_x` and :attr:`weights_w` give the (P, T, S, J) arrays.
     """
 
     frequency: np.ndarray  # (P, 1, S)
     weibull_k: np.ndarray  # (P, T, S)
-    weibull_x: np.ndarray  # (P, T, S, J): (V_j / c_eff)^k
-    weights_w: np.ndarray  # (P, T, S, J): bin_weights_w of the corrected curves
+    axis_weibull_x: np.ndarray  # (P, A, S, J): (V_j / c_eff)^k per rotor-axis type
+    turbine_axis: np.ndarray  # (T,) index into A
+    table_weights_w: np.ndarray  # (T, I, J): bin_weights_w of the TI table's curves
+    ti_lo: np.ndarray  # (P, S) lower TI-table row
+    ti_frac: np.ndarray  # (P, S) fraction towards the next row
     skew_factor: np.ndarray  # (P, T, S)
+
+    @property
+    def weibull_x(self) -> np.ndarray:
+        """(V_j / c_eff)^k per position, turbine, sector and edge, (P, T, S, J)."""
+        return self.axis_weibull_x[:, self.turbine_axis]
+
+    @property
+    def weights_w(self) -> np.ndarray:
+        """Bin weights of every position's, turbine's and sector's curve [W], (P, T, S, J)."""
+        lo = self.ti_lo
+        hi = np.minimum(lo + 1, self.table_weights_w.shape[1] - 1)
+        t_idx = np.arange(self.table_weights_w.shape[0])[None, :, None]
+        a = self.table_weights_w[t_idx, lo[:, None, :]]
+        b = self.table_weights_w[t_idx, hi[:, None, :]]
+        return a + (b - a) * self.ti_frac[:, None, :, None]
+
+    def _sum(self, x, hours):
+        g = np.exp(np.negative(x))
+        per = _interpolated_sums(g, self.table_weights_w, self.turbine_axis, self.ti_lo,
+                                 self.ti_frac)
+        # Non-negative terms; clip the rounding of summation by parts (see bin_weights_w).
+        return np.maximum(hours * np.sum(self.frequency * per, axis=-1), 0.0)
 
     def energy_wh(self, scale=1.0, hours=HOURS_PER_YEAR) -> np.ndarray:
         """Energy [Wh] with speed scales × ``scale``: (P, T), or (N, P, T) for an (N,) scale.
@@ -432,19 +502,20 @@ class BinsSetup:
         (V/(λc))^k = (V/c)^k λ^-k, so scaling needs no new powers of the edges.
         """
         lam = np.asarray(scale, float)
+        k = self.weibull_k[:, :1, :]  # the shape does not depend on the turbine
         if lam.ndim == 0:
             if lam == 1.0:
-                return _bins_sum(self.frequency, self.weibull_x, self.weights_w, hours)
-            x = self.weibull_x * np.exp(-self.weibull_k * math.log(float(lam)))[..., None]
-            return _bins_sum(self.frequency, x, self.weights_w, hours)
+                return self._sum(self.axis_weibull_x, hours)
+            x = self.axis_weibull_x * np.exp(-k * math.log(float(lam)))[..., None]
+            return self._sum(x, hours)
         flat = lam.ravel()
         # Samples in chunks of about 4 million array elements to bound memory.
-        chunk = max(1, int(4e6 // max(self.weibull_x.size, 1)))
+        chunk = max(1, int(4e6 // max(self.axis_weibull_x.size, 1)))
         parts = []
         for i in range(0, flat.size, chunk):
             lnl = np.log(flat[i:i + chunk])[:, None, None, None]
-            x = self.weibull_x[None] * np.exp(-self.weibull_k[None] * lnl)[..., None]
-            parts.append(_bins_sum(self.frequency[None], x, self.weights_w[None], hours))
+            x = self.axis_weibull_x[None] * np.exp(-k[None] * lnl)[..., None]
+            parts.append(self._sum(x, hours))
         out = np.concatenate(parts, axis=0)
         return out.reshape(lam.shape + out.shape[1:])
 
@@ -468,7 +539,11 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     Notes
     -----
     Per turbine t the scale is c_pts = c_ps · cos(γ_ps)^(n_t/3) (:func:`skew_speed_factor`);
-    the curve is P_t at TI_ps (:func:`turbulent_curve_table_w`, density corrected).
+    (V_j/c_pts)^k = (V_j/c_ps)^k (cos^(n_t/3) γ_ps)^-k, so the powers of the edges are taken
+    once; the curve is P_t at TI_ps (:func:`turbulent_curve_table_w`, density corrected), linear
+    between the table's rows. Bin weights are linear in the curve, so the weights of the
+    table's rows are interpolated, and the sums over edges are taken per row
+    (:func:`_interpolated_sums`).
     """
     freq = np.asarray(frequency, float)
     k = np.asarray(weibull_k, float)
@@ -477,17 +552,25 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     skew = np.asarray(inflow_skew_deg, float)
     edges = np.asarray(edges_ms, float)
     axes = [t.axis for t in turbines]
-    factors = {a: skew_speed_factor(skew, a) for a in set(axes)}  # one cos() per axis type
-    skew_f = np.stack([factors[a] for a in axes], axis=1)  # (P, T, S)
+    kinds = sorted(set(axes))
+    factors = np.stack([skew_speed_factor(skew, a) for a in kinds], axis=1)  # (P, A, S)
+    turbine_axis = np.array([kinds.index(a) for a in axes], dtype=np.int64)
+    skew_f = factors[:, turbine_axis]  # (P, T, S)
     grid = ti_grid_for(ti)
-    table = turbulent_curve_table_w(turbines, air_density_kgm3, grid, edges, reference_ti)
-    # Bin weights are linear in the curve, so interpolating the table's weights in TI is
-    # the same as taking the weights of the interpolated curves, and cheaper.
-    weights = lookup_turbulent_curve_w(bin_weights_w(table), grid, ti)
+    lo, frac = _ti_nodes(grid, ti)
     k_b = np.ascontiguousarray(np.broadcast_to(k[:, None, :], skew_f.shape))
+    # (V/(c f))^k = (V/c)^k f^-k: the powers of the edges once, one factor per axis type.
+    x0 = _weibull_x(edges, k, c)  # (P, S, J)
+    with np.errstate(divide="ignore", over="ignore"):
+        per_axis = [x0 if np.all(factors[:, i] == 1.0)
+                    else x0 * np.exp(-k * np.log(factors[:, i]))[..., None]
+                    for i in range(len(kinds))]
     return BinsSetup(frequency=freq[:, None, :], weibull_k=k_b,
-                     weibull_x=_weibull_x(edges, k_b, c[:, None, :] * skew_f),
-                     weights_w=weights, skew_factor=skew_f)
+                     axis_weibull_x=np.stack(per_axis, axis=1),
+                     turbine_axis=turbine_axis,
+                     table_weights_w=table_weights_w(turbines, air_density_kgm3, grid, edges,
+                                                     reference_ti),
+                     ti_lo=lo, ti_frac=frac, skew_factor=skew_f)
 
 
 @dataclass(frozen=True)
@@ -543,11 +626,18 @@ def energy_and_sensitivity(setup: BinsSetup, hours=HOURS_PER_YEAR):
 
     Notes
     -----
-    s = (dE/d ln λ) / E with :func:`_bins_sum_and_slope`; the same quantity as the central
-    difference of :func:`speed_sensitivity` (to O(h²)) at the cost of one pass.
+    E(λ) = N_h Σ_s f_s Σ_j exp(-x_j λ^-k) w_j, so dE/d ln λ = N_h Σ_s f_s k_s Σ_j x_j
+    exp(-x_j) w_j at λ = 1, the exact slope of the binned sum from the same exponentials;
+    s = (dE/d ln λ) / E, the same quantity as the central difference of
+    :func:`speed_sensitivity` (to O(h²)) at the cost of one pass.
     """
-    e, slope = _bins_sum_and_slope(setup.frequency, setup.weibull_x, setup.weibull_k,
-                                   setup.weights_w, hours)
+    x = setup.axis_weibull_x
+    g = np.exp(np.negative(x))
+    args = (setup.table_weights_w, setup.turbine_axis, setup.ti_lo, setup.ti_frac)
+    per = _interpolated_sums(g, *args)
+    per_x = _interpolated_sums(g * x, *args)
+    e = np.maximum(hours * np.sum(setup.frequency * per, axis=-1), 0.0)
+    slope = hours * np.sum(setup.frequency * setup.weibull_k * per_x, axis=-1)
     sens = np.divide(slope, e, out=np.zeros_like(e), where=e > 0)
     return e, sens
 

@@ -326,3 +326,33 @@ def test_energy_bounds_hold_for_any_climate(c, k, ti, skew, rho, idx):
     pv = uncertainty.analytic_p_values(y.setup, energy.net_fraction(model.Losses()),
                                        model.Uncertainty(), y.speed_sensitivity)
     assert 0.0 <= pv[90][0, 0] <= pv[75][0, 0] <= pv[50][0, 0] + 1e-9
+
+
+def test_bins_sum_per_table_row_equals_scipy_method_of_bins():
+    """The per-row bins sum equals the IEC 61400-12-1 method of bins with scipy's Weibull CDF."""
+    from scipy.stats import weibull_min
+
+    lib = turbines.load_library()
+    rng = np.random.default_rng(5)
+    P, S = 4, 6
+    f, k = rng.dirichlet(np.ones(S), P), rng.uniform(1.4, 2.8, (P, S))
+    c, ti = rng.uniform(2.5, 9.0, (P, S)), rng.uniform(0.05, 0.5, (P, S))
+    skew = rng.uniform(0.0, 35.0, (P, S))
+    setup = energy.prepare_bins(f, k, c, ti, skew, lib, 1.18)
+    e = energy.DEFAULT_EDGES_MS
+    grid = energy.ti_grid_for(ti)
+    curves = energy.lookup_turbulent_curve_w(energy.turbulent_curve_table_w(lib, 1.18, grid),
+                                             grid, ti)  # (P, T, S, J), interpolated in TI
+    got = setup.energy_wh(1.0)
+    for t, turb in enumerate(lib):
+        c_t = c * energy.skew_speed_factor(skew, turb.axis)
+        # IEC 61400-12-1 method of bins: N_h sum_s f_s sum_i [F(V_i) - F(V_i-1)] (P_i-1 + P_i)/2,
+        # F the Weibull CDF from scipy (an independent reference library).
+        F = weibull_min.cdf(e[None, None, :], k[..., None], scale=c_t[..., None])
+        p_mid = 0.5 * (curves[:, t, :, 1:] + curves[:, t, :, :-1])
+        ref = energy.HOURS_PER_YEAR * np.sum(f * np.sum(np.diff(F, axis=-1) * p_mid, axis=-1),
+                                             axis=-1)
+        assert got[:, t] == pytest.approx(ref, rel=1e-9)
+    # Physics: never more than rated power all year, never negative.
+    rated = np.array([t.rated_power_w for t in lib])
+    assert np.all(got >= 0) and np.all(got <= rated[None, :] * energy.HOURS_PER_YEAR)
