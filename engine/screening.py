@@ -925,7 +925,7 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
     rows = good_rows(checked, rejected_lines)
     if len(rows) == 0:
         return _empty_result(ctx)
-    rows = rows.reset_index(drop=True)
+    rows = rows.reset_index(drop=True).copy()  # one block per dtype: chunk slices stay cheap
     n, T = len(rows), len(ctx.turbines)
     sur = surroundings(rows, nb, ctx.transfer.morphometry_layout)
     rho = air.site_air_density_kgm3(ctx.site)
