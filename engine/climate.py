@@ -51,9 +51,10 @@ def sector_index(direction_deg, n_sectors: int) -> np.ndarray:
         d = np.mod(d, 360.0)
     # For 0 <= θ <= 360 the quotient is in [0.5, n + 0.5]: truncation is the floor, and only
     # the top half-sector (up to 360°) wraps to sector 0.
-    q = d / w
+    q = d * (1.0 / w)
     q += 0.5
-    idx = q.astype(np.intp)
+    # int32 halves the cast's cost against intp; sector counts are far below its range.
+    idx = q.astype(np.int32)
     np.putmask(idx, idx >= n_sectors, 0)
     return idx
 
