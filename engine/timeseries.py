@@ -237,23 +237,32 @@ def _read_arrow(data: bytes, sep: str, skip: int) -> pd.DataFrame:
         del table
 
 
+def _to_utc_ns(t, has_offset: bool, utc_offset_h: float, notes: list):
+    """Parsed timestamps as int64 UTC ns (NAT_NS where unreadable) and the unreadable mask.
+
+    Times that carry an offset are already UTC; others are shifted by the fixed
+    ``utc_offset_h`` (no daylight saving). The rule applied is added to ``notes``.
+    """
+    ns = t.to_numpy(dtype="datetime64[ns]").view(np.int64).copy()
+    bad = t.isna().to_numpy()
+    if has_offset:
+        notes.append("timestamps carry a UTC offset; converted to UTC with it")
+    elif utc_offset_h:
+        ns[~bad] -= np.int64(round(utc_offset_h * 3600e9))
+        notes.append(f"timestamps without offset taken as UTC{utc_offset_h:+g} h (fixed, no DST)")
+    else:
+        notes.append("timestamps without offset taken as UTC")
+    ns[bad] = NAT_NS
+    return ns, bad
+
+
 def _parse_times(col: pd.Series, utc_offset_h: float, day_first: bool, notes: list):
     """Parse a column of timestamps to int64 UTC ns; unreadable -> NAT_NS (and a mask)."""
     blank = col.isna().to_numpy()
     if isinstance(col.dtype, pd.DatetimeTZDtype) or pd.api.types.is_datetime64_dtype(col):
         aware = isinstance(col.dtype, pd.DatetimeTZDtype)
         t = col.dt.tz_convert("UTC") if aware else col
-        ns = t.to_numpy(dtype="datetime64[ns]").view(np.int64).copy()
-        bad = t.isna().to_numpy()
-        if aware:
-            notes.append("timestamps carry a UTC offset; converted to UTC with it")
-        elif utc_offset_h:
-            ns[~bad] -= np.int64(round(utc_offset_h * 3600e9))
-            notes.append(f"timestamps without offset taken as UTC{utc_offset_h:+g} h "
-                         "(fixed, no DST)")
-        else:
-            notes.append("timestamps without offset taken as UTC")
-        ns[bad] = NAT_NS
+        ns, _ = _to_utc_ns(t, aware, utc_offset_h, notes)
         return ns, np.zeros(ns.shape, bool)
     if pd.api.types.is_numeric_dtype(col):
         v = col.to_numpy(dtype=float)
@@ -275,16 +284,7 @@ def _parse_times(col: pd.Series, utc_offset_h: float, day_first: bool, notes: li
     t = pd.to_datetime(s, format="ISO8601", utc=True, errors="coerce")
     if t.isna().mean() > 0.5:
         t = pd.to_datetime(s, utc=True, errors="coerce", dayfirst=day_first)
-    ns = t.to_numpy(dtype="datetime64[ns]").view(np.int64).copy()
-    bad = t.isna().to_numpy()
-    if has_offset:
-        notes.append("timestamps carry a UTC offset; converted to UTC with it")
-    elif utc_offset_h:
-        ns[~bad] -= np.int64(round(utc_offset_h * 3600e9))
-        notes.append(f"timestamps without offset taken as UTC{utc_offset_h:+g} h (fixed, no DST)")
-    else:
-        notes.append("timestamps without offset taken as UTC")
-    ns[bad] = NAT_NS
+    ns, bad = _to_utc_ns(t, has_offset, utc_offset_h, notes)
     return ns, bad & ~blank
 
 
