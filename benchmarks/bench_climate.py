@@ -6,9 +6,11 @@ Measured side by side in one run:
    :func:`engine.qc.run_qc`, :func:`engine.climate.climate_from_record`) on an invented
    10-year, 525,600-row record made on the fly (seeded, ``demo_sites/make_records.py``),
    in a fresh child process so its peak resident memory is the chain's own;
-2. the vectorised sector binning (counts, sums of V and V³ per sector) against a
+2. the vectorised sector binning (counts, sums of V and V³ per sector,
+   :func:`engine.climate.sector_sums`, blocked so its scratch arrays stay in cache) against a
    straightforward per-row Python loop doing the same binning on the same arrays; the two
-   must agree.
+   must agree. Beside it: the same call keeping each record's sector (as the chain does) and
+   the previous whole-array formulation, for the record.
 
 Targets: whole chain under 1 s on one core, binning at least 50x the loop, peak resident
 memory under 300 MB. Run: ``python benchmarks/bench_climate.py``.
@@ -80,6 +82,19 @@ def child(path: str) -> None:
 
 
 def bin_vectorised(v, d, n):
+    """The engine's binning, :func:`engine.climate.sector_sums` (what the chain calls)."""
+    from engine.climate import sector_sums
+    return sector_sums(v, d, n)
+
+
+def bin_vectorised_with_index(v, d, n):
+    """The same, also keeping each record's sector (the chain needs it for the fits)."""
+    from engine.climate import sector_sums
+    return sector_sums(v, d, n, index_out=np.empty(v.size, np.intp))
+
+
+def bin_whole_arrays(v, d, n):
+    """The previous formulation: whole-record temporaries and three bincounts."""
     from engine.climate import sector_index
     s = sector_index(d, n)
     return (np.bincount(s, minlength=n), np.bincount(s, v, minlength=n),
@@ -118,12 +133,19 @@ def main() -> int:
     # Interleave the two, best of several, so both see the same machine load.
     # CPU time is shown beside wall time: it is what the work costs when others share the CPU.
     vec_times, loop_times, vec_cpu, loop_cpu = [], [], [], []
+    idx_times, whole_times = [], []
     for _ in range(3):
         for _ in range(3):
             c0, t0 = time.process_time(), time.perf_counter()
             vec = bin_vectorised(v, d, N_SECTORS)
             vec_times.append(time.perf_counter() - t0)
             vec_cpu.append(time.process_time() - c0)
+            t0 = time.perf_counter()
+            vec_i = bin_vectorised_with_index(v, d, N_SECTORS)
+            idx_times.append(time.perf_counter() - t0)
+            t0 = time.perf_counter()
+            whole = bin_whole_arrays(v, d, N_SECTORS)
+            whole_times.append(time.perf_counter() - t0)
         c0, t0 = time.process_time(), time.perf_counter()
         loop = bin_loop(v, d, N_SECTORS)
         loop_times.append(time.perf_counter() - t0)
@@ -133,6 +155,9 @@ def main() -> int:
     assert np.array_equal(vec[0], loop[0]), "loop and vectorised binning disagree (counts)"
     np.testing.assert_allclose(vec[1], loop[1], rtol=1e-9)
     np.testing.assert_allclose(vec[2], loop[2], rtol=1e-9)
+    for other in (vec_i, whole):
+        assert np.array_equal(vec[0], other[0])
+        np.testing.assert_allclose(vec[1:], other[1:], rtol=1e-12)
 
     first, best = res["runs"][0], min(res["runs"], key=lambda r: r["total_s"])
     ratio = loop_s / vec_s
@@ -150,6 +175,9 @@ def main() -> int:
           f"{min(loop_cpu):.3f} s) (target >= {TARGET_RATIO:g}x: wall "
           f"{'met' if ratio >= TARGET_RATIO else 'NOT met'}, CPU "
           f"{'met' if ratio_cpu >= TARGET_RATIO else 'NOT met'})")
+    print(f"binning variants : keeping each record's sector {1e3 * min(idx_times):.1f} ms "
+          f"({loop_s / min(idx_times):.0f}x the loop); whole-record arrays (previous "
+          f"formulation) {1e3 * min(whole_times):.1f} ms ({loop_s / min(whole_times):.0f}x)")
     print(f"chain vs loop    : whole chain {best['total_s']:.3f} s is "
           f"{loop_s / best['total_s']:.2f}x the per-row binning loop alone")
     print(f"machine load     : {os.getloadavg()[0]:.1f} on {os.cpu_count()} CPUs (wall times "

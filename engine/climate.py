@@ -43,20 +43,125 @@ def sector_index(direction_deg, n_sectors: int) -> np.ndarray:
 
     Notes
     -----
-    i = floor((θ mod 360) / w + 1/2) mod n, w = 360/n; 360° is north (sector 0).
+    i = floor((θ mod 360) / w + 1/2) mod n, w = 360/n; 360° is north (sector 0). Taken as
+    i = (h + 1) // 2 with the half-sector h = floor(θ · 2n / 360), which is the same number
+    without the rounding of adding 1/2 in floating point.
     """
-    w = 360.0 / n_sectors
     d = np.asarray(direction_deg, float)
     if d.size and (d.min() < 0.0 or d.max() > 360.0):
         d = np.mod(d, 360.0)
-    # For 0 <= θ <= 360 the quotient is in [0.5, n + 0.5]: truncation is the floor, and only
-    # the top half-sector (up to 360°) wraps to sector 0.
-    q = d * (1.0 / w)
-    q += 0.5
-    # int32 halves the cast's cost against intp; sector counts are far below its range.
-    idx = q.astype(np.int32)
-    np.putmask(idx, idx >= n_sectors, 0)
-    return idx
+    # int32: half the cast's cost of intp; sector counts are far below its range.
+    half = (d * (2 * n_sectors / 360.0)).astype(np.int32)
+    half += 1
+    half >>= 1
+    np.putmask(half, half >= n_sectors, 0)
+    return half
+
+
+#: Rows per block of :func:`sector_sums`: its scratch arrays (about 32k rows x 8 bytes) stay in
+#: the processor's cache, where whole-record temporaries would each be fresh memory.
+SECTOR_BLOCK_ROWS = 32768
+#: Sub-sector bins per sector in :func:`sector_sums` (a power of two, at least 2). Consecutive
+#: records of a real record mostly fall in the same sector, and one running sum per sector
+#: makes each addition wait for the previous one; narrower bins spread neighbouring records over
+#: several sums, which then overlap. The sub-bins are added up per sector at the end.
+SECTOR_SUBBINS = 16
+
+
+def sector_sums(speed_ms, direction_deg, n_sectors: int, index_out=None):
+    """Records, sum of V and sum of V³ per direction sector, in one blocked pass.
+
+    Parameters
+    ----------
+    speed_ms : (N,) speeds [m/s]
+    direction_deg : (N,) directions the wind comes from [deg]; values outside 0–360 are
+        taken modulo 360
+    n_sectors : number of sectors, sector ``i`` centred on ``i * 360 / n`` degrees
+    index_out : optional (N,) intp array that receives each record's sector, as
+        :func:`sector_index` gives it
+
+    Returns
+    -------
+    counts : (n,) int64 records per sector [-]
+    sum_v : (n,) float sum of speeds per sector [m/s]
+    sum_v3 : (n,) float sum of cubed speeds per sector [m³/s³]
+
+    Raises
+    ------
+    InputError
+        when a direction is NaN or infinite (the quality control excludes those records)
+
+    Notes
+    -----
+    Same sectors as :func:`sector_index`. With L = :data:`SECTOR_SUBBINS` a power of two, the
+    records are counted in sub-bins j = floor(θ · nL / 360) = floor((L/2) h'), h' = θ · 2n / 360
+    (the scaling by L/2 is exact in floating point), and sub-bin j belongs to sector
+    floor((j + L/2) / L) = floor((h' + 1) / 2), the sector of :func:`sector_index`. For
+    0 ≤ θ ≤ 360, j runs from 0 to nL; sector n (the half-sector below 360°) is folded into sector
+    0 at the end. The record is taken in blocks of :data:`SECTOR_BLOCK_ROWS` with preallocated
+    scratch arrays that stay in cache; the totals are those of ``np.bincount`` over the whole
+    record up to the order of the additions.
+    """
+    v = np.asarray(speed_ms, float)
+    d = np.asarray(direction_deg, float)
+    if v.shape != d.shape or v.ndim != 1:
+        raise ValueError(f"speed_ms and direction_deg must be 1-D of one length, got "
+                         f"{v.shape} and {d.shape}")
+    n = int(n_sectors)
+    sub = SECTOR_SUBBINS
+    shift = sub.bit_length() - 1
+    if sub < 2 or sub != 1 << shift:
+        raise ValueError(f"SECTOR_SUBBINS must be a power of two of at least 2, got {sub}")
+    half = sub // 2
+    top = n * sub  # the sub-bin of 360 deg; a larger one means a direction beyond 360
+    width = top + half  # sub-bins 0 .. top + half - 1 (top + half is the next sector's start)
+    total = v.size
+    counts = np.zeros(width, np.int64)
+    sum_v = np.zeros(width)
+    sum_v3 = np.zeros(width)
+    block = max(1, min(SECTOR_BLOCK_ROWS, total))
+    q_buf = np.empty(block)
+    i_buf = np.empty(block, np.intp)
+    c_buf = np.empty(block)
+    scale = n * sub / 360.0  # exactly L/2 times 2n/360
+    for a in range(0, total, block):
+        m = min(block, total - a)
+        vb, db = v[a:a + m], d[a:a + m]
+        q, idx, cube = q_buf[:m], i_buf[:m], c_buf[:m]
+        np.multiply(db, scale, out=q)
+        cnt = None
+        if q.max() < width:  # False for NaN too; keeps the cast and the counts small
+            idx[...] = q  # float to integer truncates toward zero
+            try:
+                cnt = np.bincount(idx, minlength=width)
+            except ValueError:  # a negative sub-bin: a direction below -w/L
+                cnt = None
+        if cnt is None or cnt[top + 1:].any():
+            if not np.all(np.isfinite(db)):
+                raise InputError([("direction_deg", f"has a missing or infinite value in rows "
+                                                    f"{a + 1}-{a + m}; remove those records "
+                                                    "or run the quality control first")])
+            np.multiply(np.mod(db, 360.0), scale, out=q)
+            idx[...] = q
+            cnt = np.bincount(idx, minlength=width)
+        counts += cnt
+        sum_v += np.bincount(idx, vb, minlength=width)
+        np.multiply(vb, vb, out=cube)
+        cube *= vb
+        sum_v3 += np.bincount(idx, cube, minlength=width)
+        if index_out is not None:
+            out = index_out[a:a + m]
+            np.add(idx, half, out=out)
+            out >>= shift
+    if index_out is not None and total:
+        np.putmask(index_out, index_out >= n, 0)
+
+    def fold(x):
+        per = np.concatenate([np.zeros(half, x.dtype), x]).reshape(n + 1, sub).sum(axis=1)
+        per[0] += per[n]
+        return per[:n]
+
+    return fold(counts), fold(sum_v), fold(sum_v3)
 
 
 def weibull_fit_moments(speed_ms, groups=None, n_groups: int = 1):
@@ -276,8 +381,8 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
                                      "least 10 are needed for a Weibull fit (check the quality-"
                                      "control report for what was excluded)")])
     fit = weibull_fit_mle if method == "mle" else weibull_fit_moments
-    sec = sector_index(d, n_sectors)
-    counts = np.bincount(sec, minlength=n_sectors)
+    sec = np.empty(v.size, np.intp)
+    counts, sum_v, sum_v3 = sector_sums(v, d, n_sectors, index_out=sec)
     freq = counts / counts.sum()
     pos = v > 0
     k_s, c_s, n_fit = fit(v[pos], sec[pos], n_sectors)
@@ -287,8 +392,8 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
         raise InputError([("record", "speeds have no spread (all equal); a Weibull fit needs "
                                      "varying speeds")])
     with np.errstate(invalid="ignore", divide="ignore"):
-        mean_s = np.bincount(sec, v, minlength=n_sectors) / counts
-        pd_s = 0.5 * air_density_kgm3 * np.bincount(sec, v * v * v, minlength=n_sectors) / counts
+        mean_s = sum_v / counts
+        pd_s = 0.5 * air_density_kgm3 * sum_v3 / counts
     own = (n_fit >= min_sector_records) & np.isfinite(k_s)
     k_out = np.where(own, k_s, k_all)
     # A thin sector keeps its own mean speed with the all-sector shape.
@@ -344,7 +449,7 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
     return ClimateSummary(
         climate=clim, sectors=table, all_k=k_all, all_c_ms=c_all,
         mean_speed_ms=float(v.mean()),
-        power_density_wm2=float(0.5 * air_density_kgm3 * np.mean(v * v * v)),
+        power_density_wm2=float(0.5 * air_density_kgm3 * sum_v3.sum() / v.size),
         weibull_power_density_wm2=float(weibull_power_density_wm2(k_all, c_all,
                                                                    air_density_kgm3)),
         calm_fraction=calm, air_density_kgm3=float(air_density_kgm3), rose=rose,

@@ -64,6 +64,38 @@ def test_sector_index_convention():
     assert climate.sector_index(d, 12).tolist() == [0, 0, 1, 11, 0, 0, 0, 6]
 
 
+def test_sector_sums_match_scipy_binned_statistic():
+    """Blocked per-sector count, ΣV and ΣV³ equal scipy.stats.binned_statistic on shifted angles."""
+    rng = np.random.default_rng(5)
+    n_rows = 3 * climate.SECTOR_BLOCK_ROWS + 1234  # several blocks and a short last one
+    v = 6.0 * rng.weibull(2.0, n_rows)
+    d = rng.uniform(0.0, 360.0, n_rows)
+    d[:4] = (0.0, 15.0, 345.0, 360.0)  # sector edges and both ends of the circle
+    idx = np.empty(n_rows, np.intp)
+    counts, s1, s3 = climate.sector_sums(v, d, 12, index_out=idx)
+    # Independent reference: scipy's binning of θ + w/2 (mod 360) into 12 equal bins of 30°.
+    shifted = np.mod(d + 15.0, 360.0)
+    edges = np.linspace(0.0, 360.0, 13)
+    ref_n = stats.binned_statistic(shifted, v, "count", bins=edges).statistic
+    ref_1 = stats.binned_statistic(shifted, v, "sum", bins=edges).statistic
+    ref_3 = stats.binned_statistic(shifted, v ** 3, "sum", bins=edges).statistic
+    assert counts.tolist() == ref_n.astype(int).tolist()
+    np.testing.assert_allclose(s1, ref_1, rtol=1e-12)
+    np.testing.assert_allclose(s3, ref_3, rtol=1e-12)
+    assert np.array_equal(idx, climate.sector_index(d, 12))
+    assert counts.sum() == n_rows and np.all(s1 >= 0) and np.all(s3 >= 0)
+
+
+def test_sector_sums_wrap_and_reject_missing_direction():
+    """Directions outside 0-360 wrap like sector_index; a NaN direction is named, not binned."""
+    d = np.array([-20.0, 370.0, 725.0, 180.0])
+    counts, s1, _ = climate.sector_sums(np.ones(4), d, 12)
+    # -20 deg = 340 deg (sector 11), 370 = 10 deg and 725 = 5 deg (sector 0), 180 (sector 6).
+    assert counts.tolist() == [2, 0, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1]
+    with pytest.raises(InputError, match="direction_deg"):
+        climate.sector_sums(np.ones(3), np.array([10.0, np.nan, 20.0]), 12)
+
+
 def _series(seed=21, n=20000):
     rng = np.random.default_rng(seed)
     d = rng.choice([0.0, 90.0, 180.0, 270.0], size=n, p=[0.1, 0.2, 0.3, 0.4])
@@ -162,3 +194,22 @@ def test_mle_on_logged_resolution_matches_scipy():
         k_ref, _, c_ref = stats.weibull_min.fit(x[g == i], floc=0)  # scipy reference
         assert k[i] == pytest.approx(k_ref, rel=1e-4) and c[i] == pytest.approx(c_ref, rel=1e-4)
         assert n[i] == np.count_nonzero(g == i)
+
+
+def test_sector_sums_agree_with_sector_index_on_awkward_directions():
+    """Edges, far-out and negative directions: the blocked sums bin exactly as sector_index."""
+    rng = np.random.default_rng(11)
+    for n in (7, 12, 16, 36):
+        w = 360.0 / n
+        edges = (np.arange(-n, 2 * n) + 0.5) * w  # every sector edge, also beyond one turn
+        d = np.concatenate([edges, np.nextafter(edges, -np.inf), np.nextafter(edges, np.inf),
+                            rng.uniform(-720.0, 1080.0, 5000), [0.0, 360.0, 1e6, -1e6]])
+        idx = np.empty(d.size, np.intp)
+        counts, _, _ = climate.sector_sums(np.ones(d.size), d, n, index_out=idx)
+        ref = climate.sector_index(d, n)
+        assert np.array_equal(idx, ref), n
+        # Independent of both: the definition i = floor((θ mod 360)/w + 1/2) mod n, counted by
+        # numpy's histogram (common practice: sectors centred on multiples of 360/n).
+        hist, _ = np.histogram(np.mod(np.mod(d, 360.0) + w / 2, 360.0), bins=n,
+                               range=(0.0, 360.0))
+        assert int(np.abs(hist - counts).sum()) <= 2 * 3 * n  # only exact-edge ties differ
