@@ -1130,87 +1130,131 @@ def _cells_and_ids(checked: pd.DataFrame, rejected_lines, anchor) -> tuple:
     return part_cells(checked, rejected_lines, anchor), checked.loc[hit, ["id", "line"]]
 
 
-def _safe_frame(table: pd.DataFrame) -> pd.DataFrame:
-    from .exports import neutralise_cell
-    out = table.copy()
-    for c in ("id", "zone", "reasons", "best_turbine_id", "surroundings_from"):
-        out[c] = [neutralise_cell(v) for v in out[c]]
-    return out
+def _spill_sorted(table: pd.DataFrame, path: str) -> int:
+    """One Dask partition's results sorted by the ranking key and written to ``path``."""
+    from .screening_merge import write_sorted_part
+    return write_sorted_part(table, path)
 
 
 def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BYTES,
                 part_rows: int = PART_ROWS, out_csv=None) -> ScreeningResult:
     """Screen a buildings table as Dask partitions on ``client``'s cluster.
 
-    The partitions run the same functions as :func:`screen_local` (:func:`check_part`,
-    :func:`part_cells`, :func:`screen_part`); the neighbourhood sums are whole numbers, so the
-    table is identical. Only small facts come back to this process before the screening pass:
-    bad rows, 64-bit hashes of the ids (to find duplicates) and the cell sums.
+    The partitions (``dask.dataframe.from_map`` over the table's parts) run the same functions
+    as :func:`screen_local` (:func:`check_part`, :func:`part_cells`, :func:`screen_part`); the
+    neighbourhood sums are whole numbers, so the table is identical. Only small facts come back
+    to this process before the screening pass: bad rows, 64-bit hashes of the ids (to find
+    duplicates) and the cell sums.
 
     Parameters
     ----------
     client : a ``distributed.Client`` (its cluster does the work)
-    out_csv : when given, the workers sort and write the ranked table there, and ``table`` of
-        the result holds only its first 1000 rows: for tables larger than this process's memory
+    out_csv : when given, each partition's results are sorted by the ranking key and written by
+        its worker to a Parquet file in a temporary folder next to ``out_csv``; this process
+        merges them into the ranked CSV in bounded blocks
+        (:func:`engine.screening_merge.merge_sorted_parts`) and ``table`` of the result holds
+        only the first 1000 ranked rows. The checked rows are read again for each pass instead
+        of being held, so neither the workers nor this process ever hold the whole table. The
+        workers must see this process's file system (a local cluster does).
+
+    Raises
+    ------
+    InputError
+        The table cannot be read, its columns are unusable, or (with ``out_csv``) the workers'
+        part files cannot be written or are not visible here.
+
+    Notes
+    -----
+    Without ``out_csv`` the checked partitions are held on the workers between the passes and
+    each partition's results are gathered as soon as it finishes, which frees it and its
+    checked rows on the worker; the ranked table is assembled here.
     """
     import dask
     import dask.dataframe as dd
+    from distributed import as_completed
+
+    from .screening_merge import merge_sorted_parts, spill_dir
 
     parts = table_parts(source, part_bytes, part_rows)
     _check_header(parts)
     zones = ctx.zones()
+    hold = out_csv is None
+
+    def checked_partitions(origin=None):
+        frame = dd.from_map(_read_check, parts, zones=zones, origin=origin, meta=meta,
+                            enforce_metadata=False)
+        if not hold:
+            return frame, []
+        # One future per partition (not a persisted collection), so that each can be let go
+        # on its own once its results are back.
+        held = client.compute(frame.to_delayed())
+        return dd.from_delayed(held, meta=meta, verify_meta=False), held
+
     with dask.config.set({"dataframe.convert-string": False}):
         meta = check_part(read_part(parts[0]).iloc[:0], zones)
-        checked = dd.from_map(_read_check, parts, zones=zones, meta=meta, enforce_metadata=False)
-        if out_csv is None:
-            checked = client.persist(checked)
+        checked, held = checked_partitions()
         facts = dask.compute(*[dask.delayed(_summary)(d) for d in checked.to_delayed()])
         origin = origin_from_bounds([f["bounds"] for f in facts])
         if origin is not None:
             ctx = replace(ctx, origin_deg=origin)
-            checked = dd.from_map(_read_check, parts, zones=zones, origin=origin, meta=meta,
-                                  enforce_metadata=False)
-            if out_csv is None:
-                checked = client.persist(checked)
+            del checked, held
+            checked, held = checked_partitions(origin)
             facts = dask.compute(*[dask.delayed(_summary)(d) for d in checked.to_delayed()])
         hashes = np.concatenate([f["hash"] for f in facts] or [np.zeros(0, np.uint64)])
         lines = np.concatenate([f["line"] for f in facts] or [np.zeros(0, np.int64)])
         uniq, inverse, counts = np.unique(hashes, return_inverse=True, return_counts=True)
         rejected = np.sort(lines[counts[inverse] > 1])
+        del hashes, lines, uniq, inverse, counts
         rejected_d = dask.delayed(rejected, traverse=False)
         anchor = combine_anchors([f["anchor"] for f in facts])
         got = dask.compute(*[dask.delayed(_cells_and_ids)(d, rejected_d, anchor)
                              for d in checked.to_delayed()])
         nb = neighbourhood_lookup(combine_cell_sums([g[0] for g in got]), anchor=anchor)
         dup_rows = pd.concat([g[1] for g in got], ignore_index=True)
+        del got
         dups = duplicate_problems(dup_rows["id"], dup_rows["line"])
         bad = _bad_rows([f["bad"] for f in facts], dups)
         n_rows = int(sum(f["n"] for f in facts))
+        del facts
         empty = _empty_result(ctx)
         # The neighbourhood table goes into the graph once, not once per partition.
         shared = [dask.delayed(v, traverse=False) for v in (ctx, nb, rejected)]
         results = checked.map_partitions(screen_part, *shared, meta=empty)
         word = "row" if parts[0].kind == "parquet" else "line"
         if out_csv is None:
-            table = rank_results(results.compute())
+            futures = client.compute(results.to_delayed())
+            # Only the result futures keep the checked partitions alive from here on.
+            del results, checked, held
+            where = {f.key: i for i, f in enumerate(futures)}
+            tables = [None] * len(futures)
+            for fut, part_table in as_completed(futures, with_results=True):
+                i = where[fut.key]
+                tables[i] = part_table
+                futures[i] = None  # let the worker free this partition now
+            fut = part_table = None
+            table = rank_results(pd.concat(tables, ignore_index=True) if tables else empty)
+            del tables
         else:
-            ranked = results.sort_values(["suitability_code", "best_aep_kwh", "id"],
-                                         ascending=[True, False, True])
-            ranked = client.persist(ranked)
-            lengths = ranked.map_partitions(len).compute().to_numpy()
-            starts = np.concatenate([[1], 1 + np.cumsum(lengths)[:-1]]).astype(np.int64)
-            starts_s = pd.Series(starts)
-
-            def _ranks(df, partition_info=None):
-                df = df.copy()
-                s0 = int(starts_s.iloc[partition_info["number"]]) if partition_info else 1
-                df["rank"] = np.arange(s0, s0 + len(df), dtype=np.int64)
-                return df
-
-            ranked = ranked.map_partitions(_ranks, meta=empty)
-            ranked.map_partitions(_safe_frame, meta=empty).to_csv(
-                str(out_csv), single_file=True, index=False, lineterminator="\n")
-            table = ranked.head(1000, npartitions=-1)
+            out_csv = Path(out_csv)
+            with spill_dir(out_csv) as spill:
+                paths = [str(spill / f"part-{i:06d}.parquet") for i in range(results.npartitions)]
+                try:
+                    dask.compute(*[dask.delayed(_spill_sorted)(d, p)
+                                   for d, p in zip(results.to_delayed(), paths)])
+                except OSError as e:
+                    raise InputError([(str(out_csv), f"the Dask workers could not write the "
+                                                     f"sorted parts next to it ({e}); give an "
+                                                     "--out folder the workers can write")]) \
+                        from None
+                missing = [p for p in paths if not os.path.isfile(p)]
+                if missing:
+                    raise InputError([(str(out_csv), f"{len(missing)} sorted part(s) written by "
+                                                     "the Dask workers are not visible here; "
+                                                     "the workers must share this file system "
+                                                     "(or use --workers N for a local "
+                                                     "cluster)")])
+                table = merge_sorted_parts(paths, out_csv, columns=result_columns(ctx.turbines),
+                                           head_rows=1000).head
     return ScreeningResult(table=finish_table(table, ctx.turbines),
                            problems=row_problems(bad, word), n_rows=n_rows, bad_rows=bad)
 
