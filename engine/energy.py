@@ -450,6 +450,98 @@ def _interpolated_sums(terms, table_weights_w, turbine_axis, ti_lo, ti_frac):
     return np.stack(out, axis=-2)
 
 
+#: Positions per block of :func:`_blocked_bins_sums`: the block's (m, A, S, J) work arrays
+#: (about 0.5 MB for two axis types, 12 sectors and 81 edges) stay in the processor's cache.
+BINS_BLOCK_ROWS = 32
+
+
+def _blocked_bins_sums(frequency, weibull_k, axis_log_c, turbine_axis, table_weights_w,
+                       ti_lo, ti_frac, log_edges, hours, with_slope=False):
+    """Σ_s f_s Σ_j exp(-x_j) w_j(TI) per row and turbine, in cache-sized blocks of rows.
+
+    Parameters
+    ----------
+    frequency, weibull_k : (M, S) sector frequency [-] and Weibull shape [-]
+    axis_log_c : (M, A, S) ln of each rotor-axis type's effective Weibull scale [ln(m/s)]
+    turbine_axis : (T,) index into A of each turbine
+    table_weights_w : (T, I, J) bin weights of the TI table's curves [W]
+    ti_lo, ti_frac : (M, S) lower TI-table row and fraction towards the next
+    log_edges : (J,) ln of the bin edges (-inf at 0 m/s)
+    hours : hours in the period [h]
+    with_slope : also return N_h Σ_s f_s k_s Σ_j x_j exp(-x_j) w_j (dE / d ln λ at λ = 1)
+
+    Returns
+    -------
+    (M, T) energy [Wh], clipped at 0; and the (M, T) slope [Wh] with ``with_slope``
+
+    Notes
+    -----
+    ln x_j = k ln V_j − k ln c, for every row at once a product of the (rows, 2) matrix
+    [k, −k ln c] with the (2, J) matrix [ln V; 1]; x_j = exp(ln x_j). The sums over edges
+    are taken per TI-table row, as one matrix product per rotor-axis type against the table
+    weights of its turbines side by side, and interpolated linearly in TI:
+    Σ_j g_j w_j(TI) = G_lo + (G_hi − G_lo) φ with G_i = Σ_j g_j w_ij (w is linear in the
+    table's rows). Each block's work arrays are reused in place, so every step reads data still
+    in cache rather than fresh whole-array temporaries.
+    """
+    M, A, S = axis_log_c.shape
+    T, n_rows, J = table_weights_w.shape
+    energy = np.empty((M, T))
+    slope = np.empty((M, T)) if with_slope else None
+    block = max(1, min(BINS_BLOCK_ROWS, M))
+    # ln V = -inf at V = 0 gives x = 0; a large finite stand-in keeps the product finite.
+    rhs = np.stack([np.where(np.isfinite(log_edges), log_edges, -1e300), np.ones(J)])
+    coef = np.empty((A, block, S, 2))
+    x_buf = np.empty((A, block, S, J))
+    g_buf = np.empty((A, block, S, J)) if with_slope else None
+    # Per axis type: its turbines' (J, I) weight tables side by side, and where each one sits.
+    groups = []
+    for ax in range(A):
+        ts = np.flatnonzero(np.asarray(turbine_axis) == ax)
+        if ts.size:
+            w_cat = np.ascontiguousarray(np.concatenate([table_weights_w[t].T for t in ts],
+                                                        axis=1))
+            groups.append((ax, ts, w_cat))
+    for a in range(0, M, block):
+        m = min(block, M - a)
+        k_b = weibull_k[a:a + m]
+        c2 = coef[:, :m]
+        c2[..., 0] = k_b[None]
+        np.multiply(k_b[None], np.moveaxis(axis_log_c[a:a + m], 1, 0), out=c2[..., 1])
+        np.negative(c2[..., 1], out=c2[..., 1])
+        x = x_buf[:, :m]
+        np.matmul(c2, rhs, out=x)
+        np.exp(x, out=x)  # x_j = (V_j / c)^k
+        if with_slope:
+            g = g_buf[:, :m]
+            np.negative(x, out=g)
+        else:
+            g = x
+            np.negative(g, out=g)
+        np.exp(g, out=g)  # exp(-x_j)
+        lo = ti_lo[a:a + m].reshape(-1)
+        hi = np.minimum(lo + 1, n_rows - 1)
+        frac = ti_frac[a:a + m]
+        f = frequency[a:a + m]
+        passes = [(g, energy, f)]
+        if with_slope:
+            np.multiply(g, x, out=x)  # x_j exp(-x_j)
+            passes.append((x, slope, f * k_b))
+        for terms, out, fw in passes:
+            for ax, ts, w_cat in groups:
+                r = terms[ax].reshape(m * S, J) @ w_cat  # (m S, n_a I)
+                base = np.arange(m * S) * w_cat.shape[1]
+                flat = r.reshape(-1)
+                for i, t in enumerate(ts):
+                    g_lo = flat[base + (i * n_rows) + lo]
+                    g_hi = flat[base + (i * n_rows) + hi]
+                    per = (g_lo + (g_hi - g_lo) * frac.reshape(-1)).reshape(m, S)
+                    out[a:a + m, t] = hours * np.einsum("ms,ms->m", fw, per)
+    # Non-negative terms; clip the rounding of summation by parts (see bin_weights_w).
+    np.maximum(energy, 0.0, out=energy)
+    return (energy, slope) if with_slope else energy
+
+
 @dataclass(frozen=True)
 class BinsSetup:
     """Everything the method of bins needs for (P, T, S, J), computed once.
@@ -458,19 +550,33 @@ class BinsSetup:
     ``scale`` (a number, or an (N,) array for N samples at once), keeping the curves, which
     is how the sensitivity and the Monte Carlo check re-use one setup.
 
-    The Weibull terms are held once per rotor-axis type A (the skew factor depends only on the
-    axis) and the curves as a table over turbulence intensity with each sector's row and
-    fraction; :attr:`weibull_x` and :attr:`weights_w` give the (P, T, S, J) arrays.
+    The Weibull scales are held once per rotor-axis type A (the skew factor depends only on
+    the axis), as logarithms, and the curves as a table over turbulence intensity with each
+    sector's row and fraction; the sums are taken in cache-sized blocks of positions
+    (:func:`_blocked_bins_sums`). :attr:`weibull_x` and :attr:`weights_w` give the
+    (P, T, S, J) arrays.
     """
 
     frequency: np.ndarray  # (P, 1, S)
     weibull_k: np.ndarray  # (P, T, S)
-    axis_weibull_x: np.ndarray  # (P, A, S, J): (V_j / c_eff)^k per rotor-axis type
+    axis_log_c: np.ndarray  # (P, A, S): ln of the effective scale c·f per rotor-axis type
     turbine_axis: np.ndarray  # (T,) index into A
     table_weights_w: np.ndarray  # (T, I, J): bin_weights_w of the TI table's curves
     ti_lo: np.ndarray  # (P, S) lower TI-table row
     ti_frac: np.ndarray  # (P, S) fraction towards the next row
     skew_factor: np.ndarray  # (P, T, S)
+    edges_ms: np.ndarray  # (J,) bin edges [m/s]
+
+    @functools.cached_property
+    def _log_edges(self) -> np.ndarray:
+        with np.errstate(divide="ignore"):
+            return np.log(self.edges_ms)  # -inf at V = 0 gives x = 0
+
+    @property
+    def axis_weibull_x(self) -> np.ndarray:
+        """(V_j / c_eff)^k per position, rotor-axis type, sector and edge, (P, A, S, J)."""
+        k = self.weibull_k[:, :1, :, None]
+        return np.exp(k * (self._log_edges - self.axis_log_c[..., None]))
 
     @property
     def weibull_x(self) -> np.ndarray:
@@ -487,37 +593,46 @@ class BinsSetup:
         b = self.table_weights_w[t_idx, hi[:, None, :]]
         return a + (b - a) * self.ti_frac[:, None, :, None]
 
-    def _sum(self, x, hours):
-        g = np.exp(np.negative(x))
-        per = _interpolated_sums(g, self.table_weights_w, self.turbine_axis, self.ti_lo,
-                                 self.ti_frac)
-        # Non-negative terms; clip the rounding of summation by parts (see bin_weights_w).
-        return np.maximum(hours * np.sum(self.frequency * per, axis=-1), 0.0)
+    def _sums(self, log_scale, hours, with_slope=False):
+        """Blocked sums with every scale × e^log_scale; log_scale a number or (N,): rows N·P."""
+        f = self.frequency[:, 0, :]
+        k = self.weibull_k[:, 0, :]
+        ls = np.asarray(log_scale, float)
+        if ls.ndim == 0:
+            log_c = self.axis_log_c if ls == 0.0 else self.axis_log_c + float(ls)
+            return _blocked_bins_sums(f, k, log_c, self.turbine_axis, self.table_weights_w,
+                                      self.ti_lo, self.ti_frac, self._log_edges, hours,
+                                      with_slope)
+        n, (P, A, S) = ls.size, self.axis_log_c.shape
+        log_c = (self.axis_log_c[None] + ls.reshape(-1, 1, 1, 1)).reshape(n * P, A, S)
+        tile = lambda a: np.broadcast_to(a[None], (n,) + a.shape).reshape(n * P, S)  # noqa: E731
+        out = _blocked_bins_sums(tile(f), tile(k), log_c, self.turbine_axis,
+                                 self.table_weights_w, tile(self.ti_lo), tile(self.ti_frac),
+                                 self._log_edges, hours)
+        return out.reshape(n, P, -1)
 
     def energy_wh(self, scale=1.0, hours=HOURS_PER_YEAR) -> np.ndarray:
         """Energy [Wh] with speed scales × ``scale``: (P, T), or (N, P, T) for an (N,) scale.
 
         Notes
         -----
-        (V/(λc))^k = (V/c)^k λ^-k, so scaling needs no new powers of the edges.
+        (V/(λc))^k = exp(k (ln V − ln c − ln λ)): a scale moves only the logarithm of c.
         """
         lam = np.asarray(scale, float)
-        k = self.weibull_k[:, :1, :]  # the shape does not depend on the turbine
         if lam.ndim == 0:
-            if lam == 1.0:
-                return self._sum(self.axis_weibull_x, hours)
-            x = self.axis_weibull_x * np.exp(-k * math.log(float(lam)))[..., None]
-            return self._sum(x, hours)
+            return self._sums(0.0 if lam == 1.0 else math.log(float(lam)), hours)
         flat = lam.ravel()
-        # Samples in chunks of about 4 million array elements to bound memory.
-        chunk = max(1, int(4e6 // max(self.axis_weibull_x.size, 1)))
-        parts = []
-        for i in range(0, flat.size, chunk):
-            lnl = np.log(flat[i:i + chunk])[:, None, None, None]
-            x = self.axis_weibull_x[None] * np.exp(-k[None] * lnl)[..., None]
-            parts.append(self._sum(x, hours))
+        # Samples in chunks of about 4 million (sample, position, sector) rows' worth of edges.
+        per_sample = max(self.axis_log_c.size * len(self.edges_ms), 1)
+        chunk = max(1, int(4e6 // per_sample))
+        parts = [self._sums(np.log(flat[i:i + chunk]), hours)
+                 for i in range(0, flat.size, chunk)]
         out = np.concatenate(parts, axis=0)
         return out.reshape(lam.shape + out.shape[1:])
+
+    def energy_and_slope_wh(self, hours=HOURS_PER_YEAR):
+        """Energy (P, T) [Wh] and dE / d ln λ (P, T) [Wh] at λ = 1, from the same exponentials."""
+        return self._sums(0.0, hours, with_slope=True)
 
 
 def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflow_skew_deg,
@@ -559,18 +674,17 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     grid = ti_grid_for(ti)
     lo, frac = _ti_nodes(grid, ti)
     k_b = np.ascontiguousarray(np.broadcast_to(k[:, None, :], skew_f.shape))
-    # (V/(c f))^k = (V/c)^k f^-k: the powers of the edges once, one factor per axis type.
-    x0 = _weibull_x(edges, k, c)  # (P, S, J)
-    with np.errstate(divide="ignore", over="ignore"):
-        per_axis = [x0 if np.all(factors[:, i] == 1.0)
-                    else x0 * np.exp(-k * np.log(factors[:, i]))[..., None]
-                    for i in range(len(kinds))]
+    # ln(c f) per axis type; a scale of 0 (full shelter, or flow at 90° to a rotor axis) means
+    # no wind: the log is guarded as in _weibull_x.
+    with np.errstate(divide="ignore"):
+        log_c = np.maximum(np.log(np.maximum(c, 1e-9))[:, None, :] + np.log(factors),
+                           math.log(1e-9))  # (P, A, S)
     return BinsSetup(frequency=freq[:, None, :], weibull_k=k_b,
-                     axis_weibull_x=np.stack(per_axis, axis=1),
+                     axis_log_c=np.ascontiguousarray(log_c),
                      turbine_axis=turbine_axis,
                      table_weights_w=table_weights_w(turbines, air_density_kgm3, grid, edges,
                                                      reference_ti),
-                     ti_lo=lo, ti_frac=frac, skew_factor=skew_f)
+                     ti_lo=lo, ti_frac=frac, skew_factor=skew_f, edges_ms=edges)
 
 
 @dataclass(frozen=True)
@@ -631,13 +745,7 @@ def energy_and_sensitivity(setup: BinsSetup, hours=HOURS_PER_YEAR):
     s = (dE/d ln λ) / E, the same quantity as the central difference of
     :func:`speed_sensitivity` (to O(h²)) at the cost of one pass.
     """
-    x = setup.axis_weibull_x
-    g = np.exp(np.negative(x))
-    args = (setup.table_weights_w, setup.turbine_axis, setup.ti_lo, setup.ti_frac)
-    per = _interpolated_sums(g, *args)
-    per_x = _interpolated_sums(g * x, *args)
-    e = np.maximum(hours * np.sum(setup.frequency * per, axis=-1), 0.0)
-    slope = hours * np.sum(setup.frequency * setup.weibull_k * per_x, axis=-1)
+    e, slope = setup.energy_and_slope_wh(hours)
     sens = np.divide(slope, e, out=np.zeros_like(e), where=e > 0)
     return e, sens
 

@@ -204,6 +204,37 @@ def roof_effects(sector_deg, height_m, length_m, width_m, orientation_deg, parap
     the angle γ between the wind and the ridge's normal (0..90°). Used by
     :func:`effective_climate` and by the portfolio screening, so both give the same numbers.
     """
+    geo = roof_geometry(sector_deg, height_m, length_m, width_m, orientation_deg,
+                        parapet_height_m, u_m, v_m)
+    out = {"roof_scaling_length_m": geo["roof_scaling_length_m"],
+           "zone_top_m": geo["zone_top_m"],
+           "min_clear_mast_m": roofzones.min_clear_mast_m(geo["zone_top_m"], main_sector)}
+    if clearance_only:
+        return out
+    out.update(roof_flow(geo, sector_deg, orientation_deg, parapet_height_m, pitched,
+                         mast_height_m, ambient_ti))
+    return out
+
+
+def roof_geometry(sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m,
+                  u_m, v_m) -> dict:
+    """The mast-independent part of :func:`roof_effects`: scaling length, fetch, zone top.
+
+    Parameters
+    ----------
+    as :func:`roof_effects`
+
+    Returns
+    -------
+    dict of (P, S) arrays [m]: ``roof_scaling_length_m`` R, ``fetch_m`` X (windward edge to
+    the position), ``roof_length_m`` X + X_d (along the wind across the roof), ``zone_top_m``
+    (the high-turbulence zone's top above the roof surface, parapet included)
+
+    Notes
+    -----
+    R = B_s^(2/3) B_L^(1/3) of the windward face (ASHRAE), with the block's eaves height plus
+    parapet as its height; the zone top of :func:`engine.roofzones.turbulence_zone_top_m`.
+    """
     sector_deg = np.asarray(sector_deg, float)
     para = np.asarray(parapet_height_m, float)
     phi = np.asarray(orientation_deg, float)
@@ -214,22 +245,39 @@ def roof_effects(sector_deg, height_m, length_m, width_m, orientation_deg, parap
     X, Xd = buildings.roof_fetch_m(u_m, v_m, L, W, phi, sector_deg)
     roof_len = X + Xd
     zone_top = roofzones.turbulence_zone_top_m(X, R, roof_len) + para[:, None]
-    out = {"roof_scaling_length_m": R, "zone_top_m": zone_top,
-           "min_clear_mast_m": roofzones.min_clear_mast_m(zone_top, main_sector)}
-    if clearance_only:
-        return out
-    z = (np.asarray(mast_height_m, float) - para)[:, None]
+    return {"roof_scaling_length_m": R, "fetch_m": X, "roof_length_m": roof_len,
+            "zone_top_m": zone_top}
+
+
+def roof_flow(geometry: dict, sector_deg, orientation_deg, parapet_height_m, pitched,
+              mast_height_m, ambient_ti) -> dict:
+    """The mast-dependent part of :func:`roof_effects`: speed-up, turbulence, skew, clearances.
+
+    Parameters
+    ----------
+    geometry : :func:`roof_geometry` of the same positions
+    others : as :func:`roof_effects`
+
+    Returns
+    -------
+    dict: ``speed_factor``, ``turbulence_intensity``, ``inflow_skew_deg`` (P, S) and
+    ``clearance`` (dict of (P, S) clearances to the recirculation, turbulence and wake zones [m])
+    """
+    sector_deg = np.asarray(sector_deg, float)
+    phi = np.asarray(orientation_deg, float)
+    X, R, roof_len = geometry["fetch_m"], geometry["roof_scaling_length_m"], \
+        geometry["roof_length_m"]
+    z = (np.asarray(mast_height_m, float) - np.asarray(parapet_height_m, float))[:, None]
     # Angle between the wind and the ridge's normal (ridge along the length), 0..90 deg.
     gamma = np.abs(np.mod(sector_deg[None, :] - phi[:, None], 180.0) - 90.0)
     ds, dt = roofflow.direction_weights(np.asarray(pitched, bool)[:, None], gamma)
     s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds)
-    out.update(
-        speed_factor=s_roof,
-        turbulence_intensity=roofflow.roof_turbulence_intensity(
+    return {
+        "speed_factor": s_roof,
+        "turbulence_intensity": roofflow.roof_turbulence_intensity(
             np.asarray(ambient_ti, float), s_roof, z, X, R, roof_len, dt),
-        inflow_skew_deg=roofflow.roof_inflow_skew_deg(z, X, R, roof_len),
-        clearance=roofzones.zone_clearances_m(z, X, R, roof_len))
-    return out
+        "inflow_skew_deg": roofflow.roof_inflow_skew_deg(z, X, R, roof_len),
+        "clearance": roofzones.zone_clearances_m(z, X, R, roof_len)}
 
 
 def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):

@@ -550,7 +550,7 @@ class ScreeningSettings:
     #: Height over the surroundings' mean height from which a building "stands above" them [-].
     tall_ratio: float = 1.5
     #: Buildings evaluated at once (bounds memory: about 50 kB per building and turbine).
-    chunk_rows: int = 250
+    chunk_rows: int = 500
 
     def __post_init__(self):
         p = Problems()
@@ -722,10 +722,10 @@ def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered
     """
     from . import transfer
 
-    lp_n, lf_n, hm_n = nb.at(rows["x_m"].to_numpy(), rows["y_m"].to_numpy())
-    lp_g = rows["plan_area_fraction"].to_numpy(float)
-    lf_g = rows["frontal_area_fraction"].to_numpy(float)
-    hm_g = rows["mean_building_height_m"].to_numpy(float)
+    lp_n, lf_n, hm_n = nb.at(np.asarray(rows["x_m"], float), np.asarray(rows["y_m"], float))
+    lp_g = np.asarray(rows["plan_area_fraction"], float)
+    lf_g = np.asarray(rows["frontal_area_fraction"], float)
+    hm_g = np.asarray(rows["mean_building_height_m"], float)
     given = np.isfinite(lp_g) & np.isfinite(lf_g)
     lp = np.where(given, lp_g, lp_n)
     lf = np.where(given, lf_g, lf_n)
@@ -736,17 +736,17 @@ def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered
     z0_m, d_m = transfer.morphometric_roughness(lp, lf, hm, layout)
     d_m = np.clip(d_m, 0.0, NUMERIC_LIMITS["displacement_m"][1])
     src = np.where(given, "table: area fractions", "neighbours in the table").astype(object)
-    cat = rows["terrain_category"].to_numpy(object)
+    cat = np.asarray(rows["terrain_category"], object)
     has_cat = cat != ""
     if has_cat.any():
         z_cat = np.array([profiles.EN1991_TERRAIN[c][0] if c else np.nan for c in cat])
         z0_m = np.where(has_cat, z_cat, z0_m)
         d_m = np.where(has_cat, 0.0, d_m)
         src = np.where(has_cat, "table: terrain category", src)
-    z_g = rows["roughness_m"].to_numpy(float)
+    z_g = np.asarray(rows["roughness_m"], float)
     has_z = np.isfinite(z_g)
     if has_z.any():
-        d_g = rows["displacement_m"].to_numpy(float)
+        d_g = np.asarray(rows["displacement_m"], float)
         z0_m = np.where(has_z, z_g, z0_m)
         d_m = np.where(has_z, np.where(np.isfinite(d_g), d_g, 0.0), d_m)
         src = np.where(has_z, "table: roughness length", src)
@@ -754,8 +754,8 @@ def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered
             "roughness_m": z0_m, "displacement_m": d_m, "surroundings_from": src}
 
 
-def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_density_kgm3,
-                        transfer_settings, clearance_only: bool = False):
+def roof_centre_climate(rows, sur: dict, mast_m, climate, air_density_kgm3,
+                        transfer_settings, clearance_only: bool = False, geometry=None):
     """Effective climate of a roof position at each building's centre, one position per row.
 
     The functions :func:`engine.flow.effective_climate` calls for an assessment of that one
@@ -768,10 +768,14 @@ def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_dens
     :class:`engine.flow.EffectiveClimate` with P = len(rows); diagnostics (P,):
     ``min_clear_mast_m``, ``in_turbulence_zone``, ``in_recirculation_zone``, ``in_roof_wake``.
     With ``clearance_only``, just the (P,) ``min_clear_mast_m`` [m] (the roof flow is skipped).
+
+    ``rows`` is a DataFrame or a dict of (P,) column arrays; ``geometry`` the
+    :func:`roof_centre_geometry` of the same rows (found here when not given), so that the mast
+    search and the final climate share it.
     """
     from . import flow, roofzones, transfer
 
-    H = rows["height_m"].to_numpy(float)
+    H = np.asarray(rows["height_m"], float)
     mast = np.asarray(mast_m, float)
     hub = H + mast
     z0, d = sur["roughness_m"], sur["displacement_m"]
@@ -782,16 +786,14 @@ def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_dens
     ti0 = np.broadcast_to(profiles.turbulence_intensity_terrain(hub, z0, d)[:, None],
                           (P, S)).copy()
     main = roofzones.main_energy_sectors(roofzones.sector_energy_share(freq, k, free_c))
-    zero = np.zeros(P)
-    rf = flow.roof_effects(sector_deg, H, rows["length_m"].to_numpy(float),
-                           rows["width_m"].to_numpy(float),
-                           rows["orientation_deg"].to_numpy(float),
-                           rows["parapet_height_m"].to_numpy(float),
-                           rows["roof_type"].to_numpy(object) == "pitched", zero, zero, mast,
-                           ti0, main, clearance_only=clearance_only)
-    min_clear = rf["min_clear_mast_m"]
+    # The steps of engine.flow.roof_effects, its mast-independent geometry shared.
+    geo = roof_centre_geometry(rows, sector_deg) if geometry is None else geometry
+    min_clear = roofzones.min_clear_mast_m(geo["zone_top_m"], main)
     if clearance_only:
         return min_clear
+    rf = flow.roof_flow(geo, sector_deg, np.asarray(rows["orientation_deg"], float),
+                        np.asarray(rows["parapet_height_m"], float),
+                        np.asarray(rows["roof_type"], object) == "pitched", mast, ti0)
     clear = rf["clearance"]
     s_roof, ti, skew = rf["speed_factor"], rf["turbulence_intensity"], rf["inflow_skew_deg"]
     diag = {"min_clear_mast_m": min_clear,
@@ -805,7 +807,19 @@ def roof_centre_climate(rows: pd.DataFrame, sur: dict, mast_m, climate, air_dens
         air_density_kgm3=float(air_density_kgm3), flags=(), diagnostics=diag)
 
 
-def choose_mast_m(rows: pd.DataFrame, sur: dict, climate, air_density_kgm3, ctx) -> np.ndarray:
+def roof_centre_geometry(rows, sector_deg) -> dict:
+    """:func:`engine.flow.roof_geometry` of a position at each roof's centre, (P, S) arrays."""
+    from . import flow
+
+    zero = np.zeros(len(rows["height_m"]))
+    return flow.roof_geometry(sector_deg, np.asarray(rows["height_m"], float),
+                              np.asarray(rows["length_m"], float),
+                              np.asarray(rows["width_m"], float),
+                              np.asarray(rows["orientation_deg"], float),
+                              np.asarray(rows["parapet_height_m"], float), zero, zero)
+
+
+def choose_mast_m(rows, sur: dict, climate, air_density_kgm3, ctx, geometry=None) -> np.ndarray:
     """Mast for each roof centre: clear of the turbulence zone with the largest chosen rotor [m].
 
     The hub at the zone's top plus the largest rotor radius, rounded up to the settings' step,
@@ -820,10 +834,12 @@ def choose_mast_m(rows: pd.DataFrame, sur: dict, climate, air_density_kgm3, ctx)
     """
     r = ctx.rotor_radius_m
     step = ctx.settings.mast_step_m
-    mast = np.full(len(rows), r + 1.0)
+    mast = np.full(len(rows["height_m"]), r + 1.0)
+    if geometry is None:
+        geometry = roof_centre_geometry(rows, np.asarray(climate.sector_deg, float))
     for _ in range(2 if ctx.transfer.adjust_shape_with_height else 1):
         need = roof_centre_climate(rows, sur, mast, climate, air_density_kgm3, ctx.transfer,
-                                   clearance_only=True) + r
+                                   clearance_only=True, geometry=geometry) + r
         mast = np.clip(np.ceil(np.round(need / step, 9)) * step, 0.5, 60.0)
     return np.round(mast, 6)
 
@@ -853,7 +869,7 @@ def _empty_result(ctx: ScreeningContext) -> pd.DataFrame:
     return pd.DataFrame(data)[cols]
 
 
-def suitability(best_cf, mast_m, hub_m, sur: dict, rows: pd.DataFrame, ctx: ScreeningContext):
+def suitability(best_cf, mast_m, hub_m, sur: dict, rows, ctx: ScreeningContext):
     """Suitability class code (index into :data:`CLASSES`) and reasons text per building.
 
     Notes
@@ -890,9 +906,9 @@ def suitability(best_cf, mast_m, hub_m, sur: dict, rows: pd.DataFrame, ctx: Scre
                   "their wake, the profile there is only held at its lowest value"),
         (sur["plan_area_fraction"] > st.dense_plan_fraction,
          "dense surroundings slow the wind"),
-        (rows["height_m"].to_numpy(float) >= st.tall_ratio * sur["surroundings_height_m"],
+        (np.asarray(rows["height_m"], float) >= st.tall_ratio * sur["surroundings_height_m"],
          "stands above its neighbours"),
-        (rows["roof_type"].to_numpy(object) == "pitched",
+        (np.asarray(rows["roof_type"], object) == "pitched",
          "pitched roof: the flow over it depends strongly on direction"),
     ]
     # Each row's reasons are one combination of a few fixed phrases: write each combination
@@ -925,11 +941,13 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
     rows = good_rows(checked, rejected_lines)
     if len(rows) == 0:
         return _empty_result(ctx)
-    rows = rows.reset_index(drop=True).copy()  # one block per dtype: chunk slices stay cheap
-    n, T = len(rows), len(ctx.turbines)
+    # The columns as plain arrays once: a chunk is then a slice of each, with no frame work.
+    rows = {c: (rows[c].to_numpy() if pd.api.types.is_numeric_dtype(rows[c].dtype)
+                else rows[c].to_numpy(object)) for c in rows.columns}
+    n, T = len(rows["id"]), len(ctx.turbines)
     sur = surroundings(rows, nb, ctx.transfer.morphometry_layout)
     rho = air.site_air_density_kgm3(ctx.site)
-    zone = rows["zone"].to_numpy(object)
+    zone = np.asarray(rows["zone"], object)
     zkey = np.where(np.isin(zone, [z for z in ctx.climates if z]), zone, "")
     need = np.empty(n)
     mast = np.empty(n)
@@ -946,10 +964,11 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
         idx_zone = np.flatnonzero(zkey == zk)
         for a in range(0, len(idx_zone), step):
             sel = idx_zone[a:a + step]
-            r = rows.iloc[sel]
+            r = {k: v[sel] for k, v in rows.items()}
             s = {k: v[sel] for k, v in sur.items()}
-            mast[sel] = choose_mast_m(r, s, clim, rho, ctx)
-            eff = roof_centre_climate(r, s, mast[sel], clim, rho, ctx.transfer)
+            geo = roof_centre_geometry(r, np.asarray(clim.sector_deg, float))
+            mast[sel] = choose_mast_m(r, s, clim, rho, ctx, geometry=geo)
+            eff = roof_centre_climate(r, s, mast[sel], clim, rho, ctx.transfer, geometry=geo)
             need[sel] = eff.diagnostics["min_clear_mast_m"]
             # The gross energy of engine.energy.yield_arrays (its first step); the screening
             # leaves out the speed sensitivity behind P90, which costs twice as much again.
@@ -967,18 +986,19 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
     best_aep, best_cf = net_kwh[take, best], cf[take, best]
     code, reasons = suitability(best_cf, mast, hub, sur, rows, ctx)
     out = {
-        "rank": np.zeros(n, np.int64), "id": rows["id"].to_numpy(object),
-        "line": rows["line"].to_numpy(np.int64), "zone": zone,
+        "rank": np.zeros(n, np.int64), "id": np.asarray(rows["id"], object),
+        "line": np.asarray(rows["line"], np.int64), "zone": zone,
         "suitability": np.asarray(CLASSES, dtype=object)[code], "reasons": reasons,
         "best_turbine_id": np.asarray([t.id for t in ctx.turbines], dtype=object)[best],
         "best_aep_kwh": best_aep, "best_capacity_factor": best_cf,
-        "x_m": rows["x_m"].to_numpy(float), "y_m": rows["y_m"].to_numpy(float),
-        "length_m": rows["length_m"].to_numpy(float), "width_m": rows["width_m"].to_numpy(float),
-        "height_m": rows["height_m"].to_numpy(float),
-        "orientation_deg": rows["orientation_deg"].to_numpy(float),
-        "roof_type": rows["roof_type"].to_numpy(object),
-        "roof_pitch_deg": rows["roof_pitch_deg"].to_numpy(float),
-        "parapet_height_m": rows["parapet_height_m"].to_numpy(float),
+        "x_m": np.asarray(rows["x_m"], float), "y_m": np.asarray(rows["y_m"], float),
+        "length_m": np.asarray(rows["length_m"], float),
+        "width_m": np.asarray(rows["width_m"], float),
+        "height_m": np.asarray(rows["height_m"], float),
+        "orientation_deg": np.asarray(rows["orientation_deg"], float),
+        "roof_type": np.asarray(rows["roof_type"], object),
+        "roof_pitch_deg": np.asarray(rows["roof_pitch_deg"], float),
+        "parapet_height_m": np.asarray(rows["parapet_height_m"], float),
         "plan_area_fraction": sur["plan_area_fraction"],
         "frontal_area_fraction": sur["frontal_area_fraction"],
         "surroundings_height_m": sur["surroundings_height_m"],
@@ -1217,8 +1237,8 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
         n_rows = int(sum(f["n"] for f in facts))
         del facts
         empty = _empty_result(ctx)
-        # The neighbourhood table goes into the graph once, not once per partition.
-        shared = [dask.delayed(v, traverse=False) for v in (ctx, nb, rejected)]
+        # The neighbourhood table is sent to each worker once, not in every partition's task.
+        shared = client.scatter([ctx, nb, rejected], broadcast=True, hash=False)
         results = checked.map_partitions(screen_part, *shared, meta=empty)
         word = "row" if parts[0].kind == "parquet" else "line"
         if out_csv is None:
