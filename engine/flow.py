@@ -228,7 +228,8 @@ def roof_geometry(sector_deg, height_m, length_m, width_m, orientation_deg, para
     -------
     dict of (P, S) arrays [m]: ``roof_scaling_length_m`` R, ``fetch_m`` X (windward edge to
     the position), ``roof_length_m`` X + X_d (along the wind across the roof), ``zone_top_m``
-    (the high-turbulence zone's top above the roof surface, parapet included)
+    (the high-turbulence zone's top above the roof surface, parapet included), and above the
+    parapet's top ``recirculation_top_m`` and ``zone_top_above_parapet_m``
 
     Notes
     -----
@@ -244,9 +245,11 @@ def roof_geometry(sector_deg, height_m, length_m, width_m, orientation_deg, para
     R = roofzones.scaling_length_m((np.asarray(height_m, float) + para)[:, None], cross)
     X, Xd = buildings.roof_fetch_m(u_m, v_m, L, W, phi, sector_deg)
     roof_len = X + Xd
-    zone_top = roofzones.turbulence_zone_top_m(X, R, roof_len) + para[:, None]
+    z1 = roofzones.recirculation_boundary_m(X, R, roof_len)
+    top = np.maximum(z1, roofzones.turbulence_boundary_m(X, R))  # turbulence_zone_top_m
     return {"roof_scaling_length_m": R, "fetch_m": X, "roof_length_m": roof_len,
-            "zone_top_m": zone_top}
+            "zone_top_m": top + para[:, None], "recirculation_top_m": z1,
+            "zone_top_above_parapet_m": top}
 
 
 def roof_flow(geometry: dict, sector_deg, orientation_deg, parapet_height_m, pitched,
@@ -271,13 +274,16 @@ def roof_flow(geometry: dict, sector_deg, orientation_deg, parapet_height_m, pit
     # Angle between the wind and the ridge's normal (ridge along the length), 0..90 deg.
     gamma = np.abs(np.mod(sector_deg[None, :] - phi[:, None], 180.0) - 90.0)
     ds, dt = roofflow.direction_weights(np.asarray(pitched, bool)[:, None], gamma)
-    s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds)
+    z1, top = geometry["recirculation_top_m"], geometry["zone_top_above_parapet_m"]
+    s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds, recirculation_top_m=z1)
     return {
         "speed_factor": s_roof,
         "turbulence_intensity": roofflow.roof_turbulence_intensity(
-            np.asarray(ambient_ti, float), s_roof, z, X, R, roof_len, dt),
-        "inflow_skew_deg": roofflow.roof_inflow_skew_deg(z, X, R, roof_len),
-        "clearance": roofzones.zone_clearances_m(z, X, R, roof_len)}
+            np.asarray(ambient_ti, float), s_roof, z, X, R, roof_len, dt, zone_top_m=top),
+        "inflow_skew_deg": roofflow.roof_inflow_skew_deg(z, X, R, roof_len,
+                                                         recirculation_top_m=z1),
+        "clearance": roofzones.zone_clearances_m(z, X, R, roof_len, recirculation_top_m=z1,
+                                                 zone_top_m=top)}
 
 
 def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):

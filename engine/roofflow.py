@@ -88,7 +88,7 @@ def direction_weights(pitched, ridge_normal_angle_deg):
 
 
 def roof_speed_factor(height_above_roof_m, x_m, scaling_length_m, roof_length_m=np.inf,
-                      gain_weight=1.0, coeffs=None):
+                      gain_weight=1.0, coeffs=None, recirculation_top_m=None):
     """Mean-speed ratio above a roof to the undisturbed flow at the same height [-].
 
     Parameters
@@ -99,6 +99,8 @@ def roof_speed_factor(height_above_roof_m, x_m, scaling_length_m, roof_length_m=
     roof_length_m : along-wind roof length [m]
     gain_weight : direction weight d_s (see :func:`direction_weights`)
     coeffs : overrides of :data:`ROOF_FLOW`
+    recirculation_top_m : :func:`engine.roofzones.recirculation_boundary_m` of the same x, R and
+        roof length when already known [m]
 
     Notes
     -----
@@ -107,7 +109,8 @@ def roof_speed_factor(height_above_roof_m, x_m, scaling_length_m, roof_length_m=
     c = {**ROOF_FLOW, **(coeffs or {})}
     r = np.asarray(scaling_length_m, float)
     x = np.asarray(x_m, float)
-    z1 = roofzones.recirculation_boundary_m(x, r, roof_length_m)
+    z1 = (roofzones.recirculation_boundary_m(x, r, roof_length_m) if recirculation_top_m is None
+          else recirculation_top_m)
     eta = (np.asarray(height_above_roof_m, float) - z1) / r
     sb = c["bubble_speed_ratio"]
     spk = 1.0 + c["speedup_amplitude"] * gain_weight * np.exp(-x / (c["fetch_decay_r"] * r))
@@ -119,7 +122,7 @@ def roof_speed_factor(height_above_roof_m, x_m, scaling_length_m, roof_length_m=
 
 def roof_turbulence_intensity(ambient_ti, speed_factor, height_above_roof_m, x_m,
                               scaling_length_m, roof_length_m=np.inf, turbulence_weight=1.0,
-                              coeffs=None):
+                              coeffs=None, zone_top_m=None):
     """Turbulence intensity above a roof [-].
 
     Parameters
@@ -128,6 +131,8 @@ def roof_turbulence_intensity(ambient_ti, speed_factor, height_above_roof_m, x_m
     speed_factor : from :func:`roof_speed_factor` [-]
     height_above_roof_m, x_m, scaling_length_m, roof_length_m : as there [m]
     turbulence_weight : direction weight d_t (see :func:`direction_weights`)
+    zone_top_m : :func:`engine.roofzones.turbulence_zone_top_m` of the same x, R and roof length
+        when already known [m]
 
     Notes
     -----
@@ -135,7 +140,8 @@ def roof_turbulence_intensity(ambient_ti, speed_factor, height_above_roof_m, x_m
     """
     c = {**ROOF_FLOW, **(coeffs or {})}
     r = np.asarray(scaling_length_m, float)
-    zt = roofzones.turbulence_zone_top_m(x_m, r, roof_length_m)
+    zt = (roofzones.turbulence_zone_top_m(x_m, r, roof_length_m) if zone_top_m is None
+          else zone_top_m)
     above = np.maximum(np.asarray(height_above_roof_m, float) - zt, 0.0)
     added = c["added_ti"] * turbulence_weight * np.exp(-above / (c["ti_decay_r"] * r))
     s = np.maximum(np.asarray(speed_factor, float), c["sigma_speed_floor"])
@@ -143,18 +149,20 @@ def roof_turbulence_intensity(ambient_ti, speed_factor, height_above_roof_m, x_m
 
 
 def roof_inflow_skew_deg(height_above_roof_m, x_m, scaling_length_m, roof_length_m=np.inf,
-                         coeffs=None):
+                         coeffs=None, recirculation_top_m=None):
     """Upward inflow angle at the rotor above a roof [deg].
 
     Notes
     -----
     θ = θ_max e^(−X/(ν R)) e^(−max(η, 0)/η0): largest just above the bubble at the windward
     edge (Mertens 2003, from memory), gone within about a scaling length downstream.
+    ``recirculation_top_m`` as in :func:`roof_speed_factor`.
     """
     c = {**ROOF_FLOW, **(coeffs or {})}
     r = np.asarray(scaling_length_m, float)
     x = np.asarray(x_m, float)
-    z1 = roofzones.recirculation_boundary_m(x, r, roof_length_m)
+    z1 = (roofzones.recirculation_boundary_m(x, r, roof_length_m) if recirculation_top_m is None
+          else recirculation_top_m)
     eta = np.maximum((np.asarray(height_above_roof_m, float) - z1) / r, 0.0)
     return (c["skew_max_deg"] * np.exp(-x / (c["skew_fetch_r"] * r))
             * np.exp(-eta / c["decay_height_r"]))

@@ -135,7 +135,8 @@ def turbulence_zone_top_m(x_m, scaling_length_m, roof_length_m=np.inf):
                       turbulence_boundary_m(x_m, scaling_length_m))
 
 
-def zone_clearances_m(height_above_roof_m, x_m, scaling_length_m, roof_length_m=np.inf):
+def zone_clearances_m(height_above_roof_m, x_m, scaling_length_m, roof_length_m=np.inf,
+                      recirculation_top_m=None, zone_top_m=None):
     """Clearance of a point above each zone boundary (negative inside the zone) [m].
 
     Parameters
@@ -144,15 +145,22 @@ def zone_clearances_m(height_above_roof_m, x_m, scaling_length_m, roof_length_m=
     x_m : distance from the windward edge [m]
     scaling_length_m : R [m]
     roof_length_m : along-wind roof length [m]
+    recirculation_top_m, zone_top_m : :func:`recirculation_boundary_m` and
+        :func:`turbulence_zone_top_m` of the same x, R and roof length, when already known [m]
 
     Returns
     -------
     dict with ``recirculation``, ``turbulence`` (max of Z1 and Z2) and ``wake`` clearances [m]
     """
     z = np.asarray(height_above_roof_m, dtype=float)
+    if recirculation_top_m is None:
+        recirculation_top_m = recirculation_boundary_m(x_m, scaling_length_m, roof_length_m)
+    if zone_top_m is None:
+        zone_top_m = np.maximum(recirculation_top_m,
+                                turbulence_boundary_m(x_m, scaling_length_m))
     return {
-        "recirculation": z - recirculation_boundary_m(x_m, scaling_length_m, roof_length_m),
-        "turbulence": z - turbulence_zone_top_m(x_m, scaling_length_m, roof_length_m),
+        "recirculation": z - recirculation_top_m,
+        "turbulence": z - zone_top_m,
         "wake": z - roof_wake_boundary_m(x_m, scaling_length_m),
     }
 

@@ -184,7 +184,7 @@ def read_part(part: Part) -> pd.DataFrame:
             with warnings.catch_warnings(record=True) as caught:
                 warnings.simplefilter("always", pd.errors.ParserWarning)
                 raw = pd.read_csv(io.BytesIO(data), header=None, names=list(part.header),
-                                  dtype={c: str for c in TEXT_COLUMNS if c in part.header},
+                                  dtype={c: object for c in TEXT_COLUMNS if c in part.header},
                                   skip_blank_lines=False, on_bad_lines="warn", engine="c",
                                   # A non-UTF-8 byte in a row must not stop the table: the
                                   # row's cells then fail their own checks, by line.
@@ -550,7 +550,7 @@ class ScreeningSettings:
     #: Height over the surroundings' mean height from which a building "stands above" them [-].
     tall_ratio: float = 1.5
     #: Buildings evaluated at once (bounds memory: about 50 kB per building and turbine).
-    chunk_rows: int = 500
+    chunk_rows: int = 5000
 
     def __post_init__(self):
         p = Problems()
@@ -1010,7 +1010,9 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
     for j, t in enumerate(ctx.turbines):
         out[f"aep_kwh_{t.id}"] = net_kwh[:, j]
         out[f"capacity_factor_{t.id}"] = cf[:, j]
-    return pd.DataFrame(out)[result_columns(ctx.turbines)]
+    # Text columns stay object (as in _empty_result, the Dask meta): no conversion per part.
+    return pd.DataFrame({c: (pd.Series(out[c], dtype=object) if out[c].dtype == object
+                             else out[c]) for c in result_columns(ctx.turbines)})
 
 
 def rank_results(table: pd.DataFrame) -> pd.DataFrame:
@@ -1150,10 +1152,11 @@ def _cells_and_ids(checked: pd.DataFrame, rejected_lines, anchor) -> tuple:
     return part_cells(checked, rejected_lines, anchor), checked.loc[hit, ["id", "line"]]
 
 
-def _spill_sorted(table: pd.DataFrame, path: str) -> int:
-    """One Dask partition's results sorted by the ranking key and written to ``path``."""
+def _spill_sorted(table: pd.DataFrame, path: str, block_rows: int) -> int:
+    """One Dask partition's results sorted by the ranking key and written to ``path``, in
+    row groups of the merge's block size (a reader holds one row group at a time)."""
     from .screening_merge import write_sorted_part
-    return write_sorted_part(table, path)
+    return write_sorted_part(table, path, block_rows)
 
 
 def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BYTES,
@@ -1193,7 +1196,7 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
     import dask.dataframe as dd
     from distributed import as_completed
 
-    from .screening_merge import merge_sorted_parts, spill_dir
+    from .screening_merge import block_rows_for, merge_sorted_parts, spill_dir
 
     parts = table_parts(source, part_bytes, part_rows)
     _check_header(parts)
@@ -1258,8 +1261,9 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
             out_csv = Path(out_csv)
             with spill_dir(out_csv) as spill:
                 paths = [str(spill / f"part-{i:06d}.parquet") for i in range(results.npartitions)]
+                block = block_rows_for(len(paths))
                 try:
-                    dask.compute(*[dask.delayed(_spill_sorted)(d, p)
+                    dask.compute(*[dask.delayed(_spill_sorted)(d, p, block)
                                    for d, p in zip(results.to_delayed(), paths)])
                 except OSError as e:
                     raise InputError([(str(out_csv), f"the Dask workers could not write the "
@@ -1274,7 +1278,7 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
                                                      "(or use --workers N for a local "
                                                      "cluster)")])
                 table = merge_sorted_parts(paths, out_csv, columns=result_columns(ctx.turbines),
-                                           head_rows=1000).head
+                                           block_rows=block, head_rows=1000).head
     return ScreeningResult(table=finish_table(table, ctx.turbines),
                            problems=row_problems(bad, word), n_rows=n_rows, bad_rows=bad)
 
