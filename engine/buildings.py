@@ -70,6 +70,16 @@ def downwind_unit(direction_deg):
     return -np.sin(t), -np.cos(t)
 
 
+def crosswind_width_m(length_m, width_m, orientation_deg, direction_deg):
+    """Crosswind width of rotated rectangles, (B, S) [m]: the first output of
+    :func:`sector_geometry` alone, L |sin γ| + W |cos γ| with γ the wind's angle to the length."""
+    L = np.asarray(length_m, dtype=float)[..., None]
+    W = np.asarray(width_m, dtype=float)[..., None]
+    g = np.radians(np.asarray(direction_deg, dtype=float)[None, ...]
+                   - np.asarray(orientation_deg, dtype=float)[..., None])
+    return L * np.abs(np.sin(g)) + W * np.abs(np.cos(g))
+
+
 def sector_geometry(length_m, width_m, orientation_deg, direction_deg):
     """Crosswind width, along-wind length and windward face of rotated rectangles.
 

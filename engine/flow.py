@@ -241,7 +241,7 @@ def roof_geometry(sector_deg, height_m, length_m, width_m, orientation_deg, para
     phi = np.asarray(orientation_deg, float)
     L = np.asarray(length_m, float)
     W = np.asarray(width_m, float)
-    cross, _, _, _, _ = buildings.sector_geometry(L, W, phi, sector_deg)
+    cross = buildings.crosswind_width_m(L, W, phi, sector_deg)
     R = roofzones.scaling_length_m((np.asarray(height_m, float) + para)[:, None], cross)
     X, Xd = buildings.roof_fetch_m(u_m, v_m, L, W, phi, sector_deg)
     roof_len = X + Xd

@@ -57,3 +57,16 @@ def test_building_arrays_keep_order_and_roof_type():
     assert b.ids == ("a", "b") and b.index("b") == 1
     assert list(b.pitched) == [False, True]
     assert b.height_m.tolist() == [6.0, 7.0]
+
+
+def test_crosswind_width_equals_sector_geometry_first_output():
+    """The crosswind width alone equals sector_geometry's: L|sin γ| + W|cos γ| (projection)."""
+    rng = np.random.default_rng(3)
+    L, W, phi = rng.uniform(5, 80, 40), rng.uniform(5, 40, 40), rng.uniform(0, 360, 40)
+    d = np.arange(12) * 30.0
+    cross = geom.crosswind_width_m(L, W, phi, d)
+    np.testing.assert_array_equal(cross, geom.sector_geometry(L, W, phi, d)[0])
+    # Hand value (common practice: projection of a rectangle): a 20 x 10 m block along north,
+    # wind from 45 deg, shows (20 + 10) sin 45 = 21.21 m across the wind.
+    assert geom.crosswind_width_m([20.0], [10.0], [0.0], [45.0])[0, 0] == pytest.approx(
+        30.0 * math.sqrt(0.5), rel=1e-12)
