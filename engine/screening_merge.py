@@ -1,12 +1,14 @@
 """Ranking a screening table that does not fit in one process: sorted parts, then a k-way merge.
 
-Each part of a screened table (one Dask partition, or one step of the local loop) is sorted by
-the ranking key on its own and spilled to a Parquet file (:func:`write_sorted_part`). The
-calling process then merges the sorted files (:func:`merge_sorted_parts`): it reads every file
-in blocks of at most ``block_rows`` rows, emits at once every buffered row whose key is at most
-the smallest "last buffered key" of the files that still have rows to read, numbers the emitted
-rows with their global rank and appends them to the CSV. Only (files x block) rows are ever
-held, whatever the table's length.
+Each part of a screened table (one Dask partition) is sorted by the ranking key on its own and
+spilled to a Parquet file by its worker (:func:`write_sorted_part`), together with each row's
+CSV text (every column but ``rank``, formula-like text defused), so the costly text formatting
+runs on the workers, in parallel. The calling process then merges the sorted files
+(:func:`merge_sorted_parts`): it reads only the key columns and the row text of every file in
+blocks of at most ``block_rows`` rows, emits at once every buffered row whose key is at most the
+smallest "last buffered key" of the files that still have rows to read, puts its global rank in
+front of its text and appends it to the CSV. Only (files x block) rows are ever held, whatever
+the table's length.
 
 The ranking key is that of :func:`engine.screening.rank_results`: suitability class ascending,
 best net AEP descending, id ascending; rows equal in all three keep their order in the
@@ -28,7 +30,7 @@ import pandas as pd
 RANK_KEYS = ("suitability_code", "best_aep_kwh", "id")
 RANK_ASCENDING = (True, False, True)
 #: Most rows a merge buffers over all its files, when the block size is not given.
-MERGE_BUFFER_ROWS = 262_144
+MERGE_BUFFER_ROWS = 131_072
 #: Largest and smallest block read from one sorted file at a time [rows].
 MAX_BLOCK_ROWS = 65_536
 MIN_BLOCK_ROWS = 1_024
@@ -64,18 +66,52 @@ def _arrow_schema(table: pd.DataFrame):
     return pa.schema(fields)
 
 
+#: Column of a sorted part file holding each row's CSV text (after ``rank``, with its line end).
+LINE_COLUMN = "_csv_line"
+
+
+def csv_lines(frame: pd.DataFrame):
+    """Each row's CSV text with its line end, as one Arrow ``large_string`` array.
+
+    Notes
+    -----
+    The block is written once (:func:`_csv_text`, as :func:`engine.exports.safe_csv`) and cut
+    at its record ends: a line feed ends a record where the number of double quotes before it
+    is even (a quoted cell may hold a line feed; a quote inside one is doubled), a cumulative
+    sum over the bytes, with no loop over rows.
+    """
+    import pyarrow as pa
+
+    text = _csv_text(frame, header=False).encode("utf-8")
+    b = np.frombuffer(text, dtype=np.uint8)
+    nl = np.flatnonzero(b == 10)
+    quotes = np.cumsum(b == 34)
+    ends = nl[(quotes[nl] & 1) == 0]
+    if len(ends) != len(frame):
+        raise ValueError(f"CSV text of {len(frame)} rows has {len(ends)} record ends")
+    offsets = np.concatenate([[0], ends + 1]).astype(np.int64)
+    return pa.LargeStringArray.from_buffers(len(frame), pa.py_buffer(offsets),
+                                            pa.py_buffer(text))
+
+
 def write_sorted_part(table: pd.DataFrame, path, block_rows: int = MAX_BLOCK_ROWS) -> int:
     """Sort one part of a screened table by the ranking key and write it as Parquet.
 
     Parameters
     ----------
-    table : unranked result rows of one part (:func:`engine.screening.screen_part`)
+    table : unranked result rows of one part (:func:`engine.screening.screen_part`); ``rank``
+        is put first (and added when missing), as in the ranked table
     path : file to write (its folder is created if missing)
     block_rows : rows per Parquet row group, so a reader's block never needs a whole file
 
     Returns
     -------
     Number of rows written.
+
+    Notes
+    -----
+    The file holds the sorted rows and, in :data:`LINE_COLUMN`, each row's CSV text without
+    its rank (:func:`csv_lines`).
     """
     import pyarrow as pa
     import pyarrow.parquet as pq
@@ -83,8 +119,11 @@ def write_sorted_part(table: pd.DataFrame, path, block_rows: int = MAX_BLOCK_ROW
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     ranked = sort_part(table)
-    schema = _arrow_schema(ranked)
-    arrow = pa.Table.from_pandas(ranked, schema=schema, preserve_index=False)
+    if "rank" not in ranked:
+        ranked.insert(0, "rank", np.zeros(len(ranked), np.int64))
+    ranked = ranked[["rank"] + [c for c in ranked.columns if c != "rank"]]
+    arrow = pa.Table.from_pandas(ranked, schema=_arrow_schema(ranked), preserve_index=False)
+    arrow = arrow.append_column(LINE_COLUMN, csv_lines(ranked.iloc[:, 1:]))
     pq.write_table(arrow, path, row_group_size=max(int(block_rows), 1))
     return len(ranked)
 
@@ -143,14 +182,32 @@ def key_at_most(code, neg_aep, ids, part, pos, limit) -> np.ndarray:
 
 
 def _csv_text(frame: pd.DataFrame, header: bool) -> str:
-    """CSV text of one block, formula-like text defused as :func:`engine.exports.safe_csv`."""
-    from .exports import neutralise_cell
+    """CSV text of one block, formula-like text defused as :func:`engine.exports.safe_csv`.
+
+    Notes
+    -----
+    :func:`engine.exports.neutralise_cell` runs only on the cells it can change (text starting
+    with a formula character or holding a carriage return, and any cell that is not text),
+    found with vectorised string tests; every other cell is left as it is, so the text equals
+    ``safe_csv`` of the block.
+    """
+    from .exports import _FORMULA_START, neutralise_cell
 
     out = frame.copy()
     for c in out.columns:
         if out[c].dtype == object or str(out[c].dtype).startswith("str"):
-            out[c] = [neutralise_cell("; ".join(map(str, v)) if isinstance(v, (list, tuple))
-                                      else v) for v in out[c]]
+            col = out[c].astype(object)
+            starts = col.str.startswith(_FORMULA_START)  # missing for a cell that is not text
+            has_cr = col.str.contains("\r", regex=False)
+            hit = (starts.isna() | starts.fillna(False).astype(bool)
+                   | has_cr.fillna(False).astype(bool)).to_numpy(bool)
+            if hit.any():
+                vals = col.to_numpy(object).copy()
+                idx = np.flatnonzero(hit)
+                vals[idx] = [neutralise_cell("; ".join(map(str, v)) if isinstance(v, (list, tuple))
+                                             else v) for v in vals[idx]]
+                col = pd.Series(vals, index=col.index, dtype=object)
+            out[c] = col
     return out.to_csv(index=False, header=header, lineterminator="\n")
 
 
@@ -162,48 +219,82 @@ def _as_object_text(frame: pd.DataFrame) -> pd.DataFrame:
     return frame
 
 
-class _SortedFile:
-    """A sorted part file read block by block, with its unemitted rows and their keys."""
+def _array_bytes(arr) -> memoryview:
+    """The bytes of an Arrow (large) string array's values, end to end."""
+    if len(arr) == 0:
+        return memoryview(b"")
+    width = 8 if str(arr.type).startswith("large_") else 4
+    offsets = np.frombuffer(arr.buffers()[1], dtype=np.int64 if width == 8 else np.int32,
+                            count=len(arr) + 1, offset=arr.offset * width)
+    return memoryview(arr.buffers()[2])[int(offsets[0]):int(offsets[-1])]
 
-    def __init__(self, path, index: int, block_rows: int, columns):
+
+class _SortedFile:
+    """A sorted part file read block by block: its unemitted rows' keys and CSV text."""
+
+    def __init__(self, path, index: int, block_rows: int):
         import pyarrow.parquet as pq
 
         self.index = index
         self._file = pq.ParquetFile(path)
         self.left_to_read = self._file.metadata.num_rows
-        self._batches = self._file.iter_batches(batch_size=block_rows, columns=columns)
-        self.frame = None
+        self._batches = self._file.iter_batches(batch_size=block_rows,
+                                                columns=list(RANK_KEYS) + [LINE_COLUMN])
+        self.n = 0
         self.first_pos = 0  # position in the file of the buffer's first row
         self.keys = None
+        self.lines = None
 
     @property
     def empty(self) -> bool:
-        return self.frame is None or len(self.frame) == 0
+        return self.n == 0
 
     def refill(self) -> None:
         """Read the next block when the buffer is empty and the file has rows left."""
         if not self.empty or self.left_to_read <= 0:
             return
         batch = next(self._batches)
-        self.frame = _as_object_text(batch.to_pandas())
-        self.left_to_read -= len(self.frame)
-        self.keys = rank_key_arrays(self.frame)
+        self.lines = batch.column(LINE_COLUMN)
+        self.keys = rank_key_arrays(_as_object_text(batch.select(list(RANK_KEYS)).to_pandas()))
+        self.n = batch.num_rows
+        self.left_to_read -= self.n
 
     def pos(self) -> np.ndarray:
-        return np.arange(self.first_pos, self.first_pos + len(self.frame), dtype=np.int64)
+        return np.arange(self.first_pos, self.first_pos + self.n, dtype=np.int64)
 
     def last_key(self) -> tuple:
         code, neg, ids = self.keys
-        return (int(code[-1]), float(neg[-1]), ids[-1], self.index,
-                self.first_pos + len(self.frame) - 1)
+        return (int(code[-1]), float(neg[-1]), ids[-1], self.index, self.first_pos + self.n - 1)
 
-    def take(self, n: int) -> pd.DataFrame:
-        """Remove and return the first ``n`` buffered rows."""
-        head = self.frame.iloc[:n]
-        self.frame = self.frame.iloc[n:]
-        self.first_pos += n
+    def take(self, n: int):
+        """Remove the first ``n`` buffered rows; return their keys, positions and text."""
+        out = (tuple(k[:n] for k in self.keys), self.pos()[:n], self.lines.slice(0, n))
         self.keys = tuple(k[n:] for k in self.keys)
-        return head
+        self.lines = self.lines.slice(n)
+        self.first_pos += n
+        self.n -= n
+        return out
+
+
+def _read_head(paths, part, pos, columns) -> pd.DataFrame:
+    """Full rows (part, pos) of the sorted files, in the order given, ``rank`` from 1."""
+    import pyarrow.parquet as pq
+
+    frames = []
+    for p in np.unique(part):
+        want = pos[part == p]
+        need, got = int(want.max()) + 1, []
+        for batch in pq.ParquetFile(paths[p]).iter_batches(batch_size=max(need, 1),
+                                                            columns=columns):
+            got.append(batch.to_pandas())
+            if sum(len(g) for g in got) >= need:
+                break
+        rows = _as_object_text(pd.concat(got, ignore_index=True)).iloc[want]
+        frames.append(rows.assign(_order=np.flatnonzero(part == p)))
+    head = pd.concat(frames, ignore_index=True).sort_values("_order", kind="stable")
+    head = head.drop(columns="_order").reset_index(drop=True)
+    head["rank"] = np.arange(1, len(head) + 1, dtype=np.int64)
+    return head
 
 
 @dataclass(frozen=True)
@@ -224,13 +315,19 @@ def merge_sorted_parts(paths, out_csv, columns=None, block_rows: int | None = No
     paths : Parquet files written by :func:`write_sorted_part`, in the table's part order
         (the order decides between rows equal in class, AEP and id)
     out_csv : CSV to write; replaced only once it is whole (temporary file, then rename)
-    columns : output columns in order (``rank`` among them); default: the first file's
+    columns : expected output columns in order, ``rank`` first (checked against the files);
+        default: the first file's
     block_rows : rows read from one file at a time; default :func:`block_rows_for`
     head_rows : how many of the first ranked rows to return as a frame
 
     Returns
     -------
     :class:`MergeResult`
+
+    Raises
+    ------
+    ValueError
+        The files' columns differ from each other or from ``columns``.
 
     Notes
     -----
@@ -241,32 +338,36 @@ def merge_sorted_parts(paths, out_csv, columns=None, block_rows: int | None = No
     The emitted rows are a prefix of each buffer; one ``np.lexsort`` orders them. The file
     reaching T is emptied and read again, so each round reads at least one block: at most
     N / block + files rounds, and never more than files x block rows in memory. Ranks run
-    1..N in emission order; text cells are defused as :func:`engine.exports.safe_csv`.
+    1..N in emission order; each emitted line is "rank," + the row's stored CSV text.
 
     References
     ----------
     Knuth, D. E. (1998), *The Art of Computer Programming*, vol. 3, 2nd ed., section 5.4.1
     (multiway merging).
     """
+    import pyarrow as pa
+    import pyarrow.compute as pc
+    import pyarrow.parquet as pq
+
     paths = [Path(p) for p in paths]
     out_csv = Path(out_csv)
     if block_rows is None:
         block_rows = block_rows_for(len(paths))
     block_rows = max(int(block_rows), 1)
-    files = []
-    if columns is None and paths:
-        import pyarrow.parquet as pq
-        columns = list(pq.read_schema(paths[0]).names)
-    columns = list(columns or [])
-    read_cols = [c for c in columns if c != "rank"] or None
+    names = [[c for c in pq.read_schema(p).names if c != LINE_COLUMN] for p in paths]
+    if columns is None:
+        columns = names[0] if names else ["rank"]
+    columns = list(columns)
+    if any(n != columns for n in names) or columns[:1] != ["rank"]:
+        raise ValueError(f"sorted part files must all have the columns {columns} (rank first)")
     fd, tmp = tempfile.mkstemp(prefix=f".{out_csv.name}.", suffix=".tmp",
                                dir=out_csv.parent if str(out_csv.parent) else ".")
-    head, n_done = [], 0
+    head_part, head_pos, n_done = [], [], 0
     try:
         os.chmod(tmp, (out_csv.stat().st_mode & 0o777) if out_csv.exists() else 0o644)
-        files = [_SortedFile(p, i, block_rows, read_cols) for i, p in enumerate(paths)]
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(_csv_text(pd.DataFrame(columns=columns), header=True))
+        files = [_SortedFile(p, i, block_rows) for i, p in enumerate(paths)]
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(_csv_text(pd.DataFrame(columns=columns), header=True).encode("utf-8"))
             while True:
                 for f in files:
                     f.refill()
@@ -274,35 +375,37 @@ def merge_sorted_parts(paths, out_csv, columns=None, block_rows: int | None = No
                 if not live:
                     break
                 waiting = [f for f in live if f.left_to_read > 0]
-                counts = []
                 if waiting:
                     lasts = [f.last_key() for f in waiting]
                     # Smallest last key: a lexsort over one row per waiting file.
                     lk = [np.array([k[j] for k in lasts], dtype=object if j == 2 else None)
                           for j in range(5)]
                     limit = lasts[int(merge_order(*lk)[0])]
+                    counts = []
                     for f in live:
                         code, neg, ids = f.keys
-                        part = np.full(len(code), f.index, np.int64)
+                        part = np.full(f.n, f.index, np.int64)
                         counts.append(int(np.count_nonzero(
                             key_at_most(code, neg, ids, part, f.pos(), limit))))
                 else:
-                    counts = [len(f.frame) for f in live]
-                pieces = [(f, f.pos()[:n], tuple(k[:n] for k in f.keys), f.take(n))
-                          for f, n in zip(live, counts) if n > 0]
-                code = np.concatenate([p[2][0] for p in pieces])
-                neg = np.concatenate([p[2][1] for p in pieces])
-                ids = np.concatenate([p[2][2] for p in pieces])
-                part = np.concatenate([np.full(len(p[1]), p[0].index, np.int64) for p in pieces])
-                pos = np.concatenate([p[1] for p in pieces])
-                block = pd.concat([p[3] for p in pieces], ignore_index=True)
-                block = block.iloc[merge_order(code, neg, ids, part, pos)].reset_index(drop=True)
-                block["rank"] = np.arange(n_done + 1, n_done + len(block) + 1, dtype=np.int64)
-                block = block[columns]
+                    counts = [f.n for f in live]
+                pieces = [(f.index, f.take(n)) for f, n in zip(live, counts) if n > 0]
+                code = np.concatenate([t[0][0] for _, t in pieces])
+                neg = np.concatenate([t[0][1] for _, t in pieces])
+                ids = np.concatenate([t[0][2] for _, t in pieces])
+                part = np.concatenate([np.full(len(t[1]), i, np.int64) for i, t in pieces])
+                pos = np.concatenate([t[1] for _, t in pieces])
+                order = merge_order(code, neg, ids, part, pos)
+                lines = pa.concat_arrays([t[2] for _, t in pieces]).take(pa.array(order))
+                ranks = pa.array(np.arange(n_done + 1, n_done + len(order) + 1).astype(str),
+                                 type=pa.large_string())
+                fh.write(_array_bytes(pc.binary_join_element_wise(
+                    ranks, lines, pa.scalar(",", pa.large_string()))))
                 if n_done < head_rows:
-                    head.append(block.iloc[:head_rows - n_done])
-                n_done += len(block)
-                fh.write(_csv_text(block, header=False))
+                    take = order[:head_rows - n_done]
+                    head_part.append(part[take])
+                    head_pos.append(pos[take])
+                n_done += len(order)
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, out_csv)
@@ -312,8 +415,11 @@ def merge_sorted_parts(paths, out_csv, columns=None, block_rows: int | None = No
         except OSError:
             pass
         raise
-    head_frame = pd.concat(head, ignore_index=True) if head else pd.DataFrame(columns=columns)
-    return MergeResult(n_rows=n_done, head=head_frame, block_rows=block_rows)
+    if head_part:
+        head = _read_head(paths, np.concatenate(head_part), np.concatenate(head_pos), columns)
+    else:
+        head = pd.DataFrame(columns=columns)
+    return MergeResult(n_rows=n_done, head=head, block_rows=block_rows)
 
 
 @contextmanager

@@ -100,6 +100,21 @@ def test_merge_keeps_part_order_between_equal_keys(tmp_path, block):
     assert set(back["reasons"]) == {"'=HYPERLINK(x)", "ok"}
 
 
+def test_formula_text_defused_as_shared_export(tmp_path):
+    """Every formula-like or carriage-return cell is written as engine.exports.safe_csv does."""
+    from engine.exports import safe_csv
+
+    table = ties_table(120, seed=6)
+    odd = ["=1+1", "+cmd", "-2", "@SUM(A1)", "\ttab", "\r=x", "a\rb", "plain", "", "x=1"]
+    table["id"] = np.array([f"{odd[i % len(odd)]}{i}" if i % 3 else odd[i % len(odd)]
+                            for i in range(len(table))], dtype=object)
+    paths = spill(table, [0, 70, 120], tmp_path)
+    out = tmp_path / "ranked.csv"
+    sm.merge_sorted_parts(paths, out, columns=list(table.columns), block_rows=16)
+    # Reference: the shared export's writer on the whole table ranked at once.
+    assert out.read_text(encoding="utf-8") == safe_csv(reference(table))
+
+
 def test_missing_aep_ranks_last_in_its_class(tmp_path):
     """A missing AEP sorts after every number of its class, where pandas puts NaN."""
     table = ties_table(200, seed=8)
@@ -124,13 +139,13 @@ def test_emitted_blocks_stay_within_files_times_block(tmp_path, monkeypatch):
     cuts = [0, 500, 1700, 1701, 3000]
     paths = spill(table, cuts, tmp_path)
     sizes = []
-    real = sm._csv_text
+    real = sm._array_bytes
 
-    def spy(frame, header):
-        sizes.append(len(frame))
-        return real(frame, header)
+    def spy(lines):
+        sizes.append(len(lines))
+        return real(lines)
 
-    monkeypatch.setattr(sm, "_csv_text", spy)
+    monkeypatch.setattr(sm, "_array_bytes", spy)
     got = sm.merge_sorted_parts(paths, tmp_path / "r.csv", columns=list(table.columns),
                                 block_rows=40)
     assert got.n_rows == 3000 and sum(sizes) == 3000
