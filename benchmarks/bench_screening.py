@@ -13,15 +13,18 @@ Prints, from one run, side by side:
   formulation kept here (the curve gathered for every building, turbine and sector, the
   Weibull powers taken per turbine), on the same arrays, interleaved, best of 3, in chunks of
   the screening's ``chunk_rows`` (``--energy-only`` runs just this);
-* with ``--beyond N``: a table of N buildings screened on a Dask cluster whose workers are
-  allowed less memory in all than the table takes, sorted and written straight to CSV by the
-  workers (the limit and the table's measured size are printed).
+* with ``--beyond [N]``: a table of N buildings (default 2,000,000) x 1 turbine screened on 2
+  Dask workers allowed less memory in all (default 600 MB each) than the table takes: each
+  worker sorts its partitions and spills them to Parquet, a fresh calling process merges them
+  into the ranked CSV in bounded blocks (the limit, the table's measured size, the workers'
+  and the calling process's peak memory are printed).
 
 Tables are the invented district of ``demo_sites/make_district.py`` (seeded); the climate and
 turbines are those of the demo site. Usage::
 
     python benchmarks/bench_screening.py            # 10^4, 10^5, 10^6
-    python benchmarks/bench_screening.py --beyond 1000000 --worker-mb 700 --workers 1
+    python benchmarks/bench_screening.py --beyond                 # 2e6 on 2 x 600 MB
+    python benchmarks/bench_screening.py --beyond 3000000 --worker-mb 500 --workers 2
     python benchmarks/bench_screening.py --quick    # 10^3, 10^4, 10^5
     python benchmarks/bench_screening.py --sizes 10000,100000 --compare-local   # before/after
     python benchmarks/bench_screening.py --sizes 1000,3000,10000   # a trial run
@@ -45,10 +48,16 @@ ROOT = Path(__file__).resolve().parent.parent
 sys.path.insert(0, str(ROOT))
 sys.path.insert(0, str(ROOT / "demo_sites"))
 
-#: Memory each Dask worker may use in the beyond-memory run [bytes].
+#: Memory each Dask worker may use in the throughput columns [bytes].
 WORKER_MEMORY_LIMIT = 800 * 1024 ** 2
-#: Part size of the beyond-memory run [bytes of CSV].
+#: Memory each Dask worker may use in the beyond-memory run [bytes] (default of --worker-mb).
+BEYOND_WORKER_LIMIT = 600 * 1024 ** 2
+#: Buildings of the beyond-memory run when ``--beyond`` gives none (``--beyond 0``).
+BEYOND_BUILDINGS = 2_000_000
+#: Part size of the Dask runs [bytes of CSV].
 SMALL_PART_BYTES = 6 * 1024 * 1024
+#: Part size of the beyond-memory run [bytes of CSV]: smaller tasks on tighter workers.
+BEYOND_PART_BYTES = 2 * 1024 * 1024
 
 
 def _context():
@@ -104,8 +113,42 @@ def _cluster(memory_limit=WORKER_MEMORY_LIMIT, n_workers=2):
                         dashboard_address=None, host="127.0.0.1", memory_limit=memory_limit)
 
 
+class WorkerWatch:
+    """Peak process memory of each Dask worker (from the scheduler's heartbeats, every 0.3 s)
+    and the workers that came and went (a restarted worker has a new address)."""
+
+    def __init__(self, client):
+        import threading
+        self.client, self.peak, self._stop = client, {}, False
+        self.start_workers = set(client.scheduler_info()["workers"])
+        self._thread = threading.Thread(target=self._run, daemon=True)
+
+    def _run(self):
+        while not self._stop:
+            try:
+                for addr, w in self.client.scheduler_info()["workers"].items():
+                    self.peak[addr] = max(self.peak.get(addr, 0), w["metrics"]["memory"])
+            except Exception:  # the scheduler is busy or a worker is restarting: look again
+                pass
+            time.sleep(0.3)
+
+    def __enter__(self):
+        self._thread.start()
+        return self
+
+    def __exit__(self, *exc):
+        self._stop = True
+        self._thread.join()
+
+    def summary(self) -> dict:
+        seen = set(self.peak) | self.start_workers
+        return {"worker_peak_mb": max(self.peak.values(), default=0) / 1024 ** 2,
+                "restarts": len(seen) - len(self.start_workers)}
+
+
 def run_dask(paths: dict) -> dict:
-    """Seconds per size on a 2-worker local cluster (results gathered to this process)."""
+    """Seconds, workers' peak memory and restarts per size on a 2-worker local cluster
+    (results gathered to this process, partition by partition)."""
     from distributed import Client
 
     from engine import screening
@@ -114,43 +157,81 @@ def run_dask(paths: dict) -> dict:
     with _cluster() as cluster, Client(cluster) as client:
         screening.screen_dask(paths[min(paths)], ctx, client)  # warm the workers' imports
         for n, path in sorted(paths.items()):
-            t0 = time.perf_counter()
-            screening.screen_dask(path, ctx, client, part_bytes=SMALL_PART_BYTES)
-            results[n] = time.perf_counter() - t0
-            print(f"dask  {n:>9,d}: {results[n]:8.1f} s", flush=True)
+            with WorkerWatch(client) as watch:
+                t0 = time.perf_counter()
+                screening.screen_dask(path, ctx, client, part_bytes=SMALL_PART_BYTES)
+                dt = time.perf_counter() - t0
+            results[n] = dict(seconds=dt, **watch.summary())
+            print(f"dask  {n:>9,d}: {dt:8.1f} s, workers' peak "
+                  f"{results[n]['worker_peak_mb']:5.0f} MB of {WORKER_MEMORY_LIMIT / 1024 ** 2:.0f}"
+                  f", {results[n]['restarts']} restart(s), load average "
+                  f"{os.getloadavg()[0]:.1f}", flush=True)
     return results
 
 
-def run_beyond(n: int, tmp: Path, memory_limit=WORKER_MEMORY_LIMIT, n_workers=2) -> None:
-    """Screen ``n`` buildings with one turbine on memory-limited workers, written by them."""
-    import pandas as pd
+def _one_turbine_context():
+    from dataclasses import replace
+    ctx = _context()
+    return replace(ctx, turbines=ctx.turbines[:1])
+
+
+def child_beyond(path: str, memory_limit: int, n_workers: int) -> None:
+    """Screen ``path`` with one turbine on memory-limited workers that sort and spill their
+    partitions; this (fresh) process merges them into the ranked CSV. Prints one JSON line."""
     from distributed import Client
+
+    from engine import screening
+    ctx1 = _one_turbine_context()
+    out = Path(path).with_suffix(".out.csv")
+    with _cluster(memory_limit, n_workers) as cluster, Client(cluster) as client:
+        with WorkerWatch(client) as watch:
+            t0 = time.perf_counter()
+            res = screening.screen_dask(path, ctx1, client, out_csv=out,
+                                        part_bytes=BEYOND_PART_BYTES)
+            dt = time.perf_counter() - t0
+        limits = [w["memory_limit"] for w in client.scheduler_info()["workers"].values()]
+    with open(out, "rb") as fh:
+        rows = sum(block.count(b"\n") for block in iter(lambda: fh.read(1 << 24), b"")) - 1
+    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    print(json.dumps(dict(seconds=dt, rows_written=rows, rows_read=res.n_rows, limits=limits,
+                          caller_peak_mb=peak_mb, **watch.summary())))
+
+
+def run_beyond(n: int, tmp: Path, memory_limit=BEYOND_WORKER_LIMIT, n_workers=2) -> None:
+    """Screen ``n`` buildings with one turbine on workers allowed less memory in all than the
+    table takes in memory (checked rows + results, measured on a sample), written by them."""
+    import pandas as pd
 
     import make_district
     from engine import screening
-    ctx = _context()
-    ctx1 = screening.ScreeningContext(site=ctx.site, climates=ctx.climates,
-                                      turbines=ctx.turbines[:1], losses=ctx.losses,
-                                      ranking=ctx.ranking, transfer=ctx.transfer)
+    ctx1 = _one_turbine_context()
     path = make_district.write_district(n, tmp / f"district_{n}.csv")
-    sample = screening.screen_local(pd.read_csv(path, nrows=20_000), ctx1)
+    sample_rows = pd.read_csv(path, nrows=20_000)
+    sample = screening.screen_local(sample_rows, ctx1)
+    checked = screening.check_part(sample_rows.assign(line=0))
     per_row = (sample.table.memory_usage(deep=True).sum()
-               + screening.check_part(pd.read_csv(path, nrows=20_000).assign(line=0))
-               .memory_usage(deep=True).sum()) / len(sample.table)
-    out = path.with_suffix(".out.csv")
-    with _cluster(memory_limit, n_workers) as cluster, Client(cluster) as client:
-        t0 = time.perf_counter()
-        res = screening.screen_dask(path, ctx1, client, out_csv=out, part_bytes=SMALL_PART_BYTES)
-        dt = time.perf_counter() - t0
-        limits = [w["memory_limit"] for w in client.scheduler_info()["workers"].values()]
-    rows = sum(1 for _ in open(out, "rb")) - 1
+               + checked.memory_usage(deep=True).sum()) / len(sample.table)
+    del sample, checked, sample_rows
+    out = subprocess.run([sys.executable, __file__, "--child-beyond", str(path),
+                          "--worker-mb", str(memory_limit // 1024 ** 2),
+                          "--workers", str(n_workers)],
+                         capture_output=True, text=True, cwd=ROOT)
+    if out.returncode != 0:
+        print(out.stderr[-4000:])
+        raise SystemExit("beyond-memory run failed")
+    r = json.loads(out.stdout.strip().splitlines()[-1])
+    table_mb, allowed_mb = per_row * n / 1024 ** 2, sum(r["limits"]) / 1024 ** 2
     print(f"beyond memory: {n:,d} buildings x 1 turbine; in memory they take about "
-          f"{per_row * n / 1e6:,.0f} MB (checked rows + results, {per_row:.0f} B per building, "
-          f"measured on 20,000); {len(limits)} Dask worker(s) allowed "
-          f"{limits[0] / 1024 ** 2:.0f} MB each "
-          f"({sum(limits) / 1024 ** 2:.0f} MB in all), {SMALL_PART_BYTES / 1024 ** 2:.0f} MB "
-          f"CSV parts; sorted and written by the workers in {dt:.1f} s ({n / dt:.0f} bldg/s); "
-          f"{rows:,d} ranked rows written, {res.n_rows:,d} read")
+          f"{table_mb:,.0f} MB (checked rows + results, {per_row:.0f} B per building, measured "
+          f"on 20,000); {len(r['limits'])} Dask worker(s) allowed "
+          f"{r['limits'][0] / 1024 ** 2:.0f} MB each ({allowed_mb:,.0f} MB in all: the table "
+          f"is {table_mb / allowed_mb:.2f} x that); {BEYOND_PART_BYTES / 1024 ** 2:.0f} MB CSV "
+          f"parts sorted and spilled by the workers, merged by the calling process")
+    print(f"  {r['seconds']:.1f} s ({n / r['seconds']:,.0f} bldg/s); {r['rows_written']:,d} "
+          f"ranked rows written of {r['rows_read']:,d} read; workers' peak "
+          f"{r['worker_peak_mb']:.0f} MB, {r['restarts']} restart(s); calling process peak "
+          f"RSS {r['caller_peak_mb']:.0f} MB (it also runs the scheduler); load average "
+          f"{os.getloadavg()[0]:.1f}", flush=True)
 
 
 def energy_before(f, k, c, ti, skew, turbs, rho):
@@ -217,14 +298,16 @@ def main() -> None:
     ap.add_argument("--quick", action="store_true")
     ap.add_argument("--sizes", default="", help="comma-separated sizes instead (a trial run)")
     ap.add_argument("--child-local")
+    ap.add_argument("--child-beyond", help=argparse.SUPPRESS)
     ap.add_argument("--before", action="store_true", help=argparse.SUPPRESS)
     ap.add_argument("--compare-local", action="store_true",
                     help="only the local engine, previous and current yield stage side by side")
     ap.add_argument("--energy-only", action="store_true",
                     help="only the yield stage, previous and current formulation")
-    ap.add_argument("--beyond", type=int, default=0,
-                    help="only the beyond-memory run, with this many buildings")
-    ap.add_argument("--worker-mb", type=int, default=WORKER_MEMORY_LIMIT // 1024 ** 2,
+    ap.add_argument("--beyond", type=int, default=None, nargs="?", const=BEYOND_BUILDINGS,
+                    help="only the beyond-memory run, with this many buildings (default "
+                         f"{BEYOND_BUILDINGS:,d})")
+    ap.add_argument("--worker-mb", type=int, default=BEYOND_WORKER_LIMIT // 1024 ** 2,
                     help="memory limit of each Dask worker in the beyond-memory run [MB]")
     ap.add_argument("--workers", type=int, default=2,
                     help="Dask workers in the beyond-memory run")
@@ -232,12 +315,15 @@ def main() -> None:
     if args.child_local:
         child_local(args.child_local, args.before)
         return
+    if args.child_beyond:
+        child_beyond(args.child_beyond, args.worker_mb * 1024 ** 2, args.workers)
+        return
     import make_district
 
     tmp = Path(tempfile.mkdtemp(prefix="perch-bench-"))
     print(f"machine: {os.cpu_count()} logical cores; load average at start "
           f"{os.getloadavg()[0]:.1f}; tables in {tmp}", flush=True)
-    if args.beyond:
+    if args.beyond is not None:
         run_beyond(args.beyond, tmp, args.worker_mb * 1024 ** 2, args.workers)
         print(f"load average at the end {os.getloadavg()[0]:.1f}")
         return
@@ -269,13 +355,17 @@ def main() -> None:
     T = local[sizes[0]]["turbines"]
     print()
     print(f"{'buildings':>10} | {'local s':>8} {'bldg/s':>9} {'eval/s/core':>12} | "
-          f"{'dask-2 s':>8} {'bldg/s':>9} {'eval/s/core':>12} | {'dask/local':>10}")
+          f"{'dask-2 s':>8} {'bldg/s':>9} {'eval/s/core':>12} {'wkr MB':>7} | {'dask/local':>10}")
     for n in sizes:
-        ls, ds = local[n]["seconds"], dask_s[n]
+        ls, ds = local[n]["seconds"], dask_s[n]["seconds"]
         print(f"{n:>10,d} | {ls:8.1f} {n / ls:9.0f} {n * T / ls:12.0f} | "
-              f"{ds:8.1f} {n / ds:9.0f} {n * T / ds / 2:12.0f} | {ls / ds:10.2f}")
+              f"{ds:8.1f} {n / ds:9.0f} {n * T / ds / 2:12.0f} "
+              f"{dask_s[n]['worker_peak_mb']:7.0f} | {ls / ds:10.2f}")
+    print(f"(dask-2: 2 process workers x 1 thread, {WORKER_MEMORY_LIMIT / 1024 ** 2:.0f} MB each, "
+          f"loopback; results gathered partition by partition; wkr MB = the workers' peak; "
+          f"restarts: {sum(d['restarts'] for d in dask_s.values())})")
     b_local = exponent(sizes, [local[n]["seconds"] for n in sizes])
-    b_dask = exponent(sizes, [dask_s[n] for n in sizes])
+    b_dask = exponent(sizes, [dask_s[n]["seconds"] for n in sizes])
     print(f"growth exponent of time with size: local {b_local:.3f}, dask {b_dask:.3f} "
           f"(target <= 1.05)")
     best = max(n * T / local[n]["seconds"] for n in sizes)

@@ -1152,11 +1152,14 @@ def _cells_and_ids(checked: pd.DataFrame, rejected_lines, anchor) -> tuple:
     return part_cells(checked, rejected_lines, anchor), checked.loc[hit, ["id", "line"]]
 
 
-def _spill_sorted(table: pd.DataFrame, path: str, block_rows: int) -> int:
-    """One Dask partition's results sorted by the ranking key and written to ``path``, in
-    row groups of the merge's block size (a reader holds one row group at a time)."""
+def _spill_sorted(table: pd.DataFrame, folder: str, block_rows: int,
+                  partition_info=None) -> pd.DataFrame:
+    """One Dask partition's results sorted by the ranking key and written to its file in
+    ``folder``, in row groups of the merge's block size; returns its row count as a frame."""
     from .screening_merge import write_sorted_part
-    return write_sorted_part(table, path, block_rows)
+    i = partition_info["number"] if partition_info else 0
+    n = write_sorted_part(table, os.path.join(folder, f"part-{i:06d}.parquet"), block_rows)
+    return pd.DataFrame({"part": [i], "rows": [n]})
 
 
 def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BYTES,
@@ -1240,8 +1243,9 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
         n_rows = int(sum(f["n"] for f in facts))
         del facts
         empty = _empty_result(ctx)
-        # The neighbourhood table is sent to each worker once, not in every partition's task.
-        shared = client.scatter([ctx, nb, rejected], broadcast=True, hash=False)
+        # The neighbourhood table goes into the graph once, not once per partition (and not
+        # scattered: scattered data is lost for good when a worker is restarted).
+        shared = [dask.delayed(v, traverse=False) for v in (ctx, nb, rejected)]
         results = checked.map_partitions(screen_part, *shared, meta=empty)
         word = "row" if parts[0].kind == "parquet" else "line"
         if out_csv is None:
@@ -1263,8 +1267,12 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
                 paths = [str(spill / f"part-{i:06d}.parquet") for i in range(results.npartitions)]
                 block = block_rows_for(len(paths))
                 try:
-                    dask.compute(*[dask.delayed(_spill_sorted)(d, p, block)
-                                   for d, p in zip(results.to_delayed(), paths)])
+                    # One task per partition reads, checks, screens, sorts and writes it, so no
+                    # partition's results wait in a worker's memory for a separate write task.
+                    results.map_partitions(
+                        _spill_sorted, str(spill), block,
+                        meta=pd.DataFrame({"part": pd.Series([], dtype=np.int64),
+                                           "rows": pd.Series([], dtype=np.int64)})).compute()
                 except OSError as e:
                     raise InputError([(str(out_csv), f"the Dask workers could not write the "
                                                      f"sorted parts next to it ({e}); give an "

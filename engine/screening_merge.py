@@ -77,16 +77,16 @@ def csv_lines(frame: pd.DataFrame):
     -----
     The block is written once (:func:`_csv_text`, as :func:`engine.exports.safe_csv`) and cut
     at its record ends: a line feed ends a record where the number of double quotes before it
-    is even (a quoted cell may hold a line feed; a quote inside one is doubled), a cumulative
-    sum over the bytes, with no loop over rows.
+    is even (a quoted cell may hold a line feed; a quote inside one is doubled), counted by a
+    binary search of the line feeds among the quotes, with no loop over rows.
     """
     import pyarrow as pa
 
     text = _csv_text(frame, header=False).encode("utf-8")
     b = np.frombuffer(text, dtype=np.uint8)
     nl = np.flatnonzero(b == 10)
-    quotes = np.cumsum(b == 34)
-    ends = nl[(quotes[nl] & 1) == 0]
+    quotes_before = np.searchsorted(np.flatnonzero(b == 34), nl)  # no per-byte count array
+    ends = nl[(quotes_before & 1) == 0]
     if len(ends) != len(frame):
         raise ValueError(f"CSV text of {len(frame)} rows has {len(ends)} record ends")
     offsets = np.concatenate([[0], ends + 1]).astype(np.int64)
