@@ -1,9 +1,12 @@
 """``python -m engine screen BUILDINGS --out ranked.csv``: screen a portfolio of buildings.
 
 Runs :func:`engine.screening.screen_local` (pandas/numpy, the default) or, with ``--workers N``
-or ``--scheduler ADDRESS``, :func:`engine.screening.screen_dask` (identical results). Bad rows
-are listed on stderr by line and id with the fix; the good rows are screened. Exit code 0 when
-at least one building was screened, 2 when the input cannot be used at all.
+or ``--scheduler ADDRESS``, :func:`engine.screening.screen_dask` (identical results), which
+streams ``--out``: the workers sort and spill their partitions next to it and this process
+merges them in bounded blocks (:mod:`engine.screening_merge`), so the table never has to fit
+in one process's memory. Bad rows are listed on stderr by line and id with the fix; the good
+rows are screened. Exit code 0 when at least one building was screened, 2 when the input
+cannot be used at all.
 """
 from __future__ import annotations
 
