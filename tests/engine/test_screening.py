@@ -22,11 +22,6 @@ import make_district  # noqa: E402
 
 
 @pytest.fixture(scope="module")
-def ctx():
-    return screening.context_from_assessment(sitefile.load(DEMO))
-
-
-@pytest.fixture(scope="module")
 def sample_result(ctx):
     return screening.screen_local(SAMPLE, ctx)
 
@@ -290,20 +285,6 @@ def test_cli_screen_writes_ranked_table(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "line 7 (id" in err and "structural engineer" in err
     assert cli.main(["screen", str(tmp_path / "none.csv"), "--out", str(out)]) == 2
-
-
-@pytest.fixture(scope="module")
-def dask_client():
-    """A two-worker Dask cluster on the loopback interface, closed after the tests."""
-    distributed = pytest.importorskip("distributed")
-    cluster = distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
-                                       dashboard_address=None, host="127.0.0.1")
-    client = distributed.Client(cluster)
-    try:
-        yield client
-    finally:
-        client.close()
-        cluster.close()
 
 
 @pytest.mark.slow

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine import cli, screening, sitefile
+from engine import cli, screening
 from engine import screening_merge as sm
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -16,11 +16,6 @@ DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
 SAMPLE = ROOT / "demo_sites" / "district_1000.csv"
 sys.path.insert(0, str(ROOT / "demo_sites"))
 import make_district  # noqa: E402
-
-
-@pytest.fixture(scope="module")
-def ctx():
-    return screening.context_from_assessment(sitefile.load(DEMO))
 
 
 @pytest.fixture(scope="module")
@@ -176,20 +171,6 @@ def test_no_rows_gives_header_only(tmp_path, ctx):
     got = sm.merge_sorted_parts(paths, out, columns=screening.result_columns(ctx.turbines))
     screening.write_ranked_csv(screening.finish_table(empty, ctx.turbines), expected)
     assert got.n_rows == 0 and out.read_bytes() == expected.read_bytes()
-
-
-@pytest.fixture(scope="module")
-def thread_client():
-    """A two-worker in-process Dask cluster on the loopback interface, closed after the tests."""
-    distributed = pytest.importorskip("distributed")
-    cluster = distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=False,
-                                       protocol="tcp", host="127.0.0.1", dashboard_address=None)
-    client = distributed.Client(cluster)
-    try:
-        yield client
-    finally:
-        client.close()
-        cluster.close()
 
 
 def test_dask_streamed_csv_equals_local_table(ctx, thread_client, tmp_path):
