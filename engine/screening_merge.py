@@ -236,10 +236,16 @@ class _SortedFile:
         import pyarrow.parquet as pq
 
         self.index = index
-        self._file = pq.ParquetFile(path)
+        # One row group at a time (the parts are written in row groups of the block size):
+        # the batch iterator reads ahead over the whole file, so every open part would be held
+        # at once.
+        self._file = pq.ParquetFile(path, pre_buffer=False)
         self.left_to_read = self._file.metadata.num_rows
-        self._batches = self._file.iter_batches(batch_size=block_rows,
-                                                columns=list(RANK_KEYS) + [LINE_COLUMN])
+        self._next_group = 0
+        self._columns = list(RANK_KEYS) + [LINE_COLUMN]
+        self._block_rows = max(int(block_rows), 1)
+        self._group = None  # the row group being handed out, and how far
+        self._group_at = 0
         self.n = 0
         self.first_pos = 0  # position in the file of the buffer's first row
         self.keys = None
@@ -253,8 +259,14 @@ class _SortedFile:
         """Read the next block when the buffer is empty and the file has rows left."""
         if not self.empty or self.left_to_read <= 0:
             return
-        batch = next(self._batches)
-        self.lines = batch.column(LINE_COLUMN)
+        while self._group is None or self._group_at >= self._group.num_rows:
+            self._group = self._file.read_row_group(self._next_group,
+                                                    columns=self._columns).combine_chunks()
+            self._next_group += 1
+            self._group_at = 0
+        batch = self._group.slice(self._group_at, self._block_rows)
+        self._group_at += batch.num_rows
+        self.lines = batch.column(LINE_COLUMN).combine_chunks()
         self.keys = rank_key_arrays(_as_object_text(batch.select(list(RANK_KEYS)).to_pandas()))
         self.n = batch.num_rows
         self.left_to_read -= self.n
