@@ -1233,11 +1233,24 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
         del hashes, lines, uniq, inverse, counts
         rejected_d = dask.delayed(rejected, traverse=False)
         anchor = combine_anchors([f["anchor"] for f in facts])
-        got = dask.compute(*[dask.delayed(_cells_and_ids)(d, rejected_d, anchor)
-                             for d in checked.to_delayed()])
-        nb = neighbourhood_lookup(combine_cell_sums([g[0] for g in got]), anchor=anchor)
-        dup_rows = pd.concat([g[1] for g in got], ignore_index=True)
-        del got
+        # The cell sums are added up as the parts' sums arrive (a few at a time), so this
+        # process never holds every part's cells at once; whole numbers, so the order of the
+        # additions does not change the sums.
+        cell_futures = client.compute([dask.delayed(_cells_and_ids)(d, rejected_d, anchor)
+                                       for d in checked.to_delayed()])
+        cells, waiting, dup_parts = None, [], []
+        for fut, (part_cells_, part_dups) in as_completed(cell_futures, with_results=True):
+            waiting.append(part_cells_)
+            dup_parts.append(part_dups)
+            fut.release()
+            if len(waiting) >= 8:
+                cells = combine_cell_sums(([cells] if cells is not None else []) + waiting)
+                waiting = []
+        del cell_futures
+        cells = combine_cell_sums(([cells] if cells is not None else []) + waiting)
+        nb = neighbourhood_lookup(cells, anchor=anchor)
+        dup_rows = pd.concat(dup_parts, ignore_index=True)
+        del cells, waiting, dup_parts
         dups = duplicate_problems(dup_rows["id"], dup_rows["line"])
         bad = _bad_rows([f["bad"] for f in facts], dups)
         n_rows = int(sum(f["n"] for f in facts))
