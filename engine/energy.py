@@ -420,36 +420,6 @@ def _ti_nodes(ti_grid, turbulence_intensity):
     return lo, x - lo
 
 
-def _interpolated_sums(terms, table_weights_w, turbine_axis, ti_lo, ti_frac):
-    """Σ_j terms_j w_j(TI) per turbine and sector, w interpolated linearly in TI: (..., P, T, S).
-
-    Parameters
-    ----------
-    terms : (..., P, A, S, J) per rotor-axis type
-    table_weights_w : (T, I, J) bin weights at the TI table's rows [W]
-    turbine_axis : (T,) index into A of each turbine
-    ti_lo, ti_frac : (P, S) lower table row and fraction of each sector's turbulence intensity
-
-    Notes
-    -----
-    w(TI) = w_lo + (w_hi − w_lo) φ is linear in the table rows, so
-    Σ_j t_j w_j(TI) = G_lo + (G_hi − G_lo) φ with G_i = Σ_j t_j w_ij: one matrix product per
-    turbine over the table's rows (BLAS) instead of gathering a curve for every position,
-    turbine and sector. Equal to summing the interpolated curves, to rounding.
-    """
-    terms = np.asarray(terms, float)
-    n_rows = table_weights_w.shape[1]
-    lo = np.broadcast_to(ti_lo, terms.shape[:-4] + ti_lo.shape)[..., None]
-    hi = np.minimum(lo + 1, n_rows - 1)
-    out = []
-    for t in range(table_weights_w.shape[0]):
-        g = terms[..., turbine_axis[t], :, :] @ table_weights_w[t].T  # (..., P, S, I)
-        g_lo = np.take_along_axis(g, lo, axis=-1)[..., 0]
-        g_hi = np.take_along_axis(g, hi, axis=-1)[..., 0]
-        out.append(g_lo + (g_hi - g_lo) * ti_frac)
-    return np.stack(out, axis=-2)
-
-
 #: Positions per block of :func:`_blocked_bins_sums`: the block's (m, A, S, J) work arrays
 #: (about 0.5 MB for two axis types, 12 sectors and 81 edges) stay in the processor's cache.
 BINS_BLOCK_ROWS = 32
@@ -575,8 +545,7 @@ class BinsSetup:
     @property
     def axis_weibull_x(self) -> np.ndarray:
         """(V_j / c_eff)^k per position, rotor-axis type, sector and edge, (P, A, S, J)."""
-        k = self.weibull_k[:, :1, :, None]
-        return np.exp(k * (self._log_edges - self.axis_log_c[..., None]))
+        return _weibull_x(self.edges_ms, self.weibull_k[:, :1, :], np.exp(self.axis_log_c))
 
     @property
     def weibull_x(self) -> np.ndarray:
@@ -653,12 +622,11 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
 
     Notes
     -----
-    Per turbine t the scale is c_pts = c_ps · cos(γ_ps)^(n_t/3) (:func:`skew_speed_factor`);
-    (V_j/c_pts)^k = (V_j/c_ps)^k (cos^(n_t/3) γ_ps)^-k, so the powers of the edges are taken
-    once; the curve is P_t at TI_ps (:func:`turbulent_curve_table_w`, density corrected), linear
-    between the table's rows. Bin weights are linear in the curve, so the weights of the
-    table's rows are interpolated, and the sums over edges are taken per row
-    (:func:`_interpolated_sums`).
+    Per turbine t the scale is c_pts = c_ps · cos(γ_ps)^(n_t/3) (:func:`skew_speed_factor`),
+    kept as ln c_pts once per rotor-axis type; the curve is P_t at TI_ps
+    (:func:`turbulent_curve_table_w`, density corrected), linear between the table's rows. Bin
+    weights are linear in the curve, so the sums over edges are taken per table row and
+    interpolated (:func:`_blocked_bins_sums`).
     """
     freq = np.asarray(frequency, float)
     k = np.asarray(weibull_k, float)

@@ -171,7 +171,7 @@ def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_
 
 def roof_effects(sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m,
                  pitched, u_m, v_m, mast_height_m, ambient_ti, main_sector,
-                 clearance_only: bool = False) -> dict:
+                 clearance_only: bool = False, geometry=None) -> dict:
     """Roof zones and roof flow at roof positions, vectorised over positions: (P, S) arrays.
 
     Parameters
@@ -186,6 +186,8 @@ def roof_effects(sector_deg, height_m, length_m, width_m, orientation_deg, parap
     main_sector : (P, S) bool, the main energy sectors
         (:func:`engine.roofzones.main_energy_sectors`)
     clearance_only : return only the zone geometry and ``min_clear_mast_m`` (no roof flow)
+    geometry : :func:`roof_geometry` of the same positions when already found (it does not
+        depend on the mast, so a mast search can find it once)
 
     Returns
     -------
@@ -204,8 +206,8 @@ def roof_effects(sector_deg, height_m, length_m, width_m, orientation_deg, parap
     the angle γ between the wind and the ridge's normal (0..90°). Used by
     :func:`effective_climate` and by the portfolio screening, so both give the same numbers.
     """
-    geo = roof_geometry(sector_deg, height_m, length_m, width_m, orientation_deg,
-                        parapet_height_m, u_m, v_m)
+    geo = geometry if geometry is not None else roof_geometry(
+        sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m, u_m, v_m)
     out = {"roof_scaling_length_m": geo["roof_scaling_length_m"],
            "zone_top_m": geo["zone_top_m"],
            "min_clear_mast_m": roofzones.min_clear_mast_m(geo["zone_top_m"], main_sector)}

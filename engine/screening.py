@@ -786,14 +786,16 @@ def roof_centre_climate(rows, sur: dict, mast_m, climate, air_density_kgm3,
     ti0 = np.broadcast_to(profiles.turbulence_intensity_terrain(hub, z0, d)[:, None],
                           (P, S)).copy()
     main = roofzones.main_energy_sectors(roofzones.sector_energy_share(freq, k, free_c))
-    # The steps of engine.flow.roof_effects, its mast-independent geometry shared.
-    geo = roof_centre_geometry(rows, sector_deg) if geometry is None else geometry
-    min_clear = roofzones.min_clear_mast_m(geo["zone_top_m"], main)
+    zero = np.zeros(P)
+    rf = flow.roof_effects(sector_deg, H, np.asarray(rows["length_m"], float),
+                           np.asarray(rows["width_m"], float),
+                           np.asarray(rows["orientation_deg"], float),
+                           np.asarray(rows["parapet_height_m"], float),
+                           np.asarray(rows["roof_type"], object) == "pitched", zero, zero, mast,
+                           ti0, main, clearance_only=clearance_only, geometry=geometry)
+    min_clear = rf["min_clear_mast_m"]
     if clearance_only:
         return min_clear
-    rf = flow.roof_flow(geo, sector_deg, np.asarray(rows["orientation_deg"], float),
-                        np.asarray(rows["parapet_height_m"], float),
-                        np.asarray(rows["roof_type"], object) == "pitched", mast, ti0)
     clear = rf["clearance"]
     s_roof, ti, skew = rf["speed_factor"], rf["turbulence_intensity"], rf["inflow_skew_deg"]
     diag = {"min_clear_mast_m": min_clear,
