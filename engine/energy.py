@@ -423,6 +423,11 @@ def _ti_nodes(ti_grid, turbulence_intensity):
 #: Positions per block of :func:`_blocked_bins_sums`: the block's (m, A, S, J) work arrays
 #: (about 0.5 MB for two axis types, 12 sectors and 81 edges) stay in the processor's cache.
 BINS_BLOCK_ROWS = 32
+#: Positions whose per-table-row sums are kept before they are interpolated and added up in
+#: one step (a few MB of sums), so that no Python work is done per block for each turbine.
+BINS_GATHER_ROWS = 2048
+#: Largest |k ln V| and |k ln c| for which (V/c)^k is taken as V^k · c^-k (no overflow).
+_PRODUCT_FORM_LIMIT = 600.0
 
 
 def _blocked_bins_sums(frequency, weibull_k, axis_log_c, turbine_axis, table_weights_w,
@@ -446,22 +451,42 @@ def _blocked_bins_sums(frequency, weibull_k, axis_log_c, turbine_axis, table_wei
 
     Notes
     -----
-    ln x_j = k ln V_j − k ln c, for every row at once a product of the (rows, 2) matrix
-    [k, −k ln c] with the (2, J) matrix [ln V; 1]; x_j = exp(ln x_j). The sums over edges
-    are taken per TI-table row, as one matrix product per rotor-axis type against the table
-    weights of its turbines side by side, and interpolated linearly in TI:
+    x_j = (V_j / c)^k. When every row has the same shape k_s in a sector (one climate's
+    shapes, which do not change with height unless the settings ask for it), x_j = V_j^k_s ·
+    c^-k_s: an (S, J) table of powers made once and one exponential per row and sector, so
+    each edge costs one product and one exponential, exp(-x_j). Otherwise ln x_j = k ln V_j −
+    k ln c, for every row of a block at once a product of the (rows, 2) matrix [k, −k ln c]
+    with the (2, J) matrix [ln V; 1], and x_j = exp(ln x_j).
+
+    The sums over edges are taken per TI-table row, as one matrix product per rotor-axis type
+    against the table weights of its turbines side by side, and interpolated linearly in TI:
     Σ_j g_j w_j(TI) = G_lo + (G_hi − G_lo) φ with G_i = Σ_j g_j w_ij (w is linear in the
     table's rows). Each block's work arrays are reused in place, so every step reads data still
-    in cache rather than fresh whole-array temporaries.
+    in cache rather than fresh whole-array temporaries; the per-row sums of
+    :data:`BINS_GATHER_ROWS` rows are interpolated and weighted by frequency together.
     """
     M, A, S = axis_log_c.shape
     T, n_rows, J = table_weights_w.shape
     energy = np.empty((M, T))
     slope = np.empty((M, T)) if with_slope else None
+    if M == 0:
+        return (energy, slope) if with_slope else energy
     block = max(1, min(BINS_BLOCK_ROWS, M))
-    # ln V = -inf at V = 0 gives x = 0; a large finite stand-in keeps the product finite.
-    rhs = np.stack([np.where(np.isfinite(log_edges), log_edges, -1e300), np.ones(J)])
-    coef = np.empty((A, block, S, 2))
+    span = max(block, min(BINS_GATHER_ROWS // block * block, M))
+    # ln V = -inf at V = 0 gives x = 0; a large finite stand-in keeps the products finite.
+    log_v = np.where(np.isfinite(log_edges), log_edges, -1e300)
+    k0 = weibull_k[0]
+    product_form = (bool(np.all(weibull_k == k0[None, :]))
+                    and float(np.max(np.abs(k0[:, None] * log_edges[np.isfinite(log_edges)]),
+                                     initial=0.0)) < _PRODUCT_FORM_LIMIT
+                    and float(np.max(np.abs(k0 * axis_log_c))) < _PRODUCT_FORM_LIMIT)
+    if product_form:
+        neg_v_pow = -np.exp(k0[:, None] * log_v[None, :])  # (S, J) -V_j^k_s, 0 at V = 0
+        # (A, M, S) c^-k per axis type, row and sector
+        c_negk = np.exp(-k0[None, None, :] * np.moveaxis(axis_log_c, 1, 0))
+    else:
+        rhs = np.stack([log_v, np.ones(J)])
+        coef = np.empty((A, block, S, 2))
     x_buf = np.empty((A, block, S, J))
     g_buf = np.empty((A, block, S, J)) if with_slope else None
     # Per axis type: its turbines' (J, I) weight tables side by side, and where each one sits.
@@ -472,41 +497,59 @@ def _blocked_bins_sums(frequency, weibull_k, axis_log_c, turbine_axis, table_wei
             w_cat = np.ascontiguousarray(np.concatenate([table_weights_w[t].T for t in ts],
                                                         axis=1))
             groups.append((ax, ts, w_cat))
-    for a in range(0, M, block):
-        m = min(block, M - a)
-        k_b = weibull_k[a:a + m]
-        c2 = coef[:, :m]
-        c2[..., 0] = k_b[None]
-        np.multiply(k_b[None], np.moveaxis(axis_log_c[a:a + m], 1, 0), out=c2[..., 1])
-        np.negative(c2[..., 1], out=c2[..., 1])
-        x = x_buf[:, :m]
-        np.matmul(c2, rhs, out=x)
-        np.exp(x, out=x)  # x_j = (V_j / c)^k
-        if with_slope:
-            g = g_buf[:, :m]
-            np.negative(x, out=g)
-        else:
-            g = x
-            np.negative(g, out=g)
-        np.exp(g, out=g)  # exp(-x_j)
-        lo = ti_lo[a:a + m].reshape(-1)
-        hi = np.minimum(lo + 1, n_rows - 1)
-        frac = ti_frac[a:a + m]
-        f = frequency[a:a + m]
-        passes = [(g, energy, f)]
-        if with_slope:
-            np.multiply(g, x, out=x)  # x_j exp(-x_j)
-            passes.append((x, slope, f * k_b))
-        for terms, out, fw in passes:
-            for ax, ts, w_cat in groups:
-                r = terms[ax].reshape(m * S, J) @ w_cat  # (m S, n_a I)
-                base = np.arange(m * S) * w_cat.shape[1]
-                flat = r.reshape(-1)
-                for i, t in enumerate(ts):
-                    g_lo = flat[base + (i * n_rows) + lo]
-                    g_hi = flat[base + (i * n_rows) + hi]
-                    per = (g_lo + (g_hi - g_lo) * frac.reshape(-1)).reshape(m, S)
-                    out[a:a + m, t] = hours * np.einsum("ms,ms->m", fw, per)
+    n_pass = 2 if with_slope else 1
+    # Per pass and axis group: the (span, S, n_a, I) sums of a span of rows per table row.
+    sums = [[np.empty((span, S, ts.size, n_rows)) for _, ts, _ in groups] for _ in range(n_pass)]
+    outs = (energy, slope)
+    for a0 in range(0, M, span):
+        a1 = min(a0 + span, M)
+        for a in range(a0, a1, block):
+            m = min(block, a1 - a)
+            x = x_buf[:, :m]
+            g = g_buf[:, :m] if with_slope else x
+            if product_form:
+                np.multiply(c_negk[:, a:a + m, :, None], neg_v_pow, out=g)  # -x_j
+                if with_slope:
+                    np.negative(g, out=x)  # x_j = (V_j / c)^k
+            else:
+                k_b = weibull_k[a:a + m]
+                c2 = coef[:, :m]
+                c2[..., 0] = k_b[None]
+                np.multiply(k_b[None], np.moveaxis(axis_log_c[a:a + m], 1, 0), out=c2[..., 1])
+                np.negative(c2[..., 1], out=c2[..., 1])
+                np.matmul(c2, rhs, out=x)
+                np.exp(x, out=x)  # x_j = (V_j / c)^k
+                np.negative(x, out=g)
+            np.exp(g, out=g)  # exp(-x_j)
+            terms = [g]
+            if with_slope:
+                np.multiply(g, x, out=x)  # x_j exp(-x_j)
+                terms.append(x)
+            for p, tm in enumerate(terms):
+                for gi, (ax, ts, w_cat) in enumerate(groups):
+                    dst = sums[p][gi][a - a0:a - a0 + m].reshape(m * S, -1)
+                    np.matmul(tm[ax].reshape(m * S, J), w_cat, out=dst)
+        # Interpolate in TI and weight by frequency, for the whole span at once: the sums of
+        # row (m, s), turbine g of a group, table row i sit at ((m S + s) n_a + g) I + i.
+        n = a1 - a0
+        lo = ti_lo[a0:a1].reshape(-1, 1)
+        step = np.minimum(lo + 1, n_rows - 1) - lo
+        frac = ti_frac[a0:a1][:, :, None]
+        f = frequency[a0:a1]
+        weights = (f, f * weibull_k[a0:a1]) if with_slope else (f,)
+        for gi, (ax, ts, w_cat) in enumerate(groups):
+            width = ts.size * n_rows
+            at_lo = (np.arange(n * S)[:, None] * width + np.arange(ts.size)[None, :] * n_rows
+                     + lo)  # (n S, n_a)
+            at_hi = at_lo + step
+            for p, fw in enumerate(weights):
+                flat = sums[p][gi].reshape(-1)
+                g_lo = flat.take(at_lo).reshape(n, S, ts.size)
+                per = flat.take(at_hi).reshape(n, S, ts.size)
+                per -= g_lo
+                per *= frac
+                per += g_lo  # (n, S, n_a)
+                outs[p][a0:a1, ts] = hours * np.einsum("ms,msg->mg", fw, per)
     # Non-negative terms; clip the rounding of summation by parts (see bin_weights_w).
     np.maximum(energy, 0.0, out=energy)
     return (energy, slope) if with_slope else energy

@@ -328,14 +328,22 @@ def test_energy_bounds_hold_for_any_climate(c, k, ti, skew, rho, idx):
     assert 0.0 <= pv[90][0, 0] <= pv[75][0, 0] <= pv[50][0, 0] + 1e-9
 
 
-def test_bins_sum_per_table_row_equals_scipy_method_of_bins():
-    """The per-row bins sum equals the IEC 61400-12-1 method of bins with scipy's Weibull CDF."""
+@pytest.mark.parametrize("one_shape_per_sector", [False, True])
+def test_bins_sum_per_table_row_equals_scipy_method_of_bins(one_shape_per_sector):
+    """The per-row bins sum equals the IEC 61400-12-1 method of bins with scipy's Weibull CDF.
+
+    Both forms of the sums are checked: a shape per row (ln x from a matrix product) and one
+    shape per sector for every row (x = V^k c^-k from a table of powers). 70 rows span more
+    than one block (BINS_BLOCK_ROWS) and a last, partial block.
+    """
     from scipy.stats import weibull_min
 
     lib = turbines.load_library()
     rng = np.random.default_rng(5)
-    P, S = 4, 6
+    P, S = 70, 6
     f, k = rng.dirichlet(np.ones(S), P), rng.uniform(1.4, 2.8, (P, S))
+    if one_shape_per_sector:
+        k = np.broadcast_to(k[:1], (P, S)).copy()
     c, ti = rng.uniform(2.5, 9.0, (P, S)), rng.uniform(0.05, 0.5, (P, S))
     skew = rng.uniform(0.0, 35.0, (P, S))
     setup = energy.prepare_bins(f, k, c, ti, skew, lib, 1.18)
@@ -356,3 +364,10 @@ def test_bins_sum_per_table_row_equals_scipy_method_of_bins():
     # Physics: never more than rated power all year, never negative.
     rated = np.array([t.rated_power_w for t in lib])
     assert np.all(got >= 0) and np.all(got <= rated[None, :] * energy.HOURS_PER_YEAR)
+    # The slope from the same exponentials equals a central difference of the sums
+    # (dE/d ln λ, step 1e-5: truncation error ~1e-10 of E).
+    e_both, slope = setup.energy_and_slope_wh()
+    h = 1e-5
+    up, down = setup.energy_wh(math.exp(h)), setup.energy_wh(math.exp(-h))
+    assert e_both == pytest.approx(got, rel=1e-12)
+    assert slope == pytest.approx((up - down) / (2 * h), rel=1e-6, abs=1e-6 * got.max())
