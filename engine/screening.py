@@ -1019,8 +1019,9 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
 
 def rank_results(table: pd.DataFrame) -> pd.DataFrame:
     """Rank buildings: best class first, then larger best net AEP, then id; ``rank`` from 1."""
-    out = table.sort_values(["suitability_code", "best_aep_kwh", "id"],
-                            ascending=[True, False, True], kind="mergesort").reset_index(drop=True)
+    from .screening_merge import rank_key_arrays, ranking_order
+
+    out = table.take(ranking_order(*rank_key_arrays(table))).reset_index(drop=True)
     out["rank"] = np.arange(1, len(out) + 1, dtype=np.int64)
     return out
 

@@ -36,16 +36,51 @@ MAX_BLOCK_ROWS = 65_536
 MIN_BLOCK_ROWS = 1_024
 
 
+def ranking_order(code, neg_aep, ids, *later_keys) -> np.ndarray:
+    """Indices that sort rows by (code, −AEP, id, *later_keys), stable: the ranking's order.
+
+    Parameters
+    ----------
+    code : (N,) int class codes; neg_aep : (N,) float, −AEP with NaN as +∞
+    (:func:`rank_key_arrays`); ids : (N,) text; later_keys : (N,) int arrays breaking the
+    remaining ties, most significant first
+
+    Notes
+    -----
+    One ``np.lexsort`` over the numbers; the ids, compared as text (code-point order, as
+    Python's string order), are ranked only among the rows that tie in class and AEP, which
+    are few: sorting text is what costs. Rows that tie in every key keep their order, as with
+    a stable sort.
+    """
+    code = np.asarray(code)
+    neg_aep = np.asarray(neg_aep, float)
+    order = np.lexsort(tuple(np.asarray(k) for k in reversed(later_keys)) + (neg_aep, code))
+    if len(order) < 2:
+        return order
+    c, a = code[order], neg_aep[order]
+    same = (c[1:] == c[:-1]) & (a[1:] == a[:-1])
+    if not same.any():
+        return order
+    run = np.cumsum(np.concatenate([[True], ~same]))  # run number of each sorted place
+    tied = np.concatenate([same, [False]]) | np.concatenate([[False], same])
+    at = np.flatnonzero(tied)
+    sub = order[at]
+    id_rank, _ = pd.factorize(np.asarray(ids, dtype=object)[sub], sort=True)
+    # Runs stay where they are (run numbers ascend along ``at``); inside one, ids ascend and
+    # equal ids keep the order of the later keys (lexsort is stable).
+    order[at] = sub[np.lexsort((id_rank, run[at]))]
+    return order
+
+
 def sort_part(table: pd.DataFrame) -> pd.DataFrame:
     """One part sorted by the ranking key (stable), index reset; ``rank`` left as it is.
 
     Notes
     -----
-    The same ``sort_values`` call as :func:`engine.screening.rank_results`, so a part sorted
-    here and a whole table ranked there agree row for row.
+    The same order as :func:`engine.screening.rank_results` (:func:`ranking_order`), so a
+    part sorted here and a whole table ranked there agree row for row.
     """
-    return table.sort_values(list(RANK_KEYS), ascending=list(RANK_ASCENDING),
-                             kind="mergesort").reset_index(drop=True)
+    return table.take(ranking_order(*rank_key_arrays(table))).reset_index(drop=True)
 
 
 def _arrow_schema(table: pd.DataFrame):
@@ -150,15 +185,8 @@ def rank_key_arrays(frame: pd.DataFrame):
 
 
 def merge_order(code, neg_aep, ids, part, pos) -> np.ndarray:
-    """Indices that sort rows by (code, −AEP, id, part, position): one ``np.lexsort``.
-
-    Notes
-    -----
-    Ids are compared as text, through their ranks among the rows given
-    (``pd.factorize(..., sort=True)``, code-point order as Python's string order).
-    """
-    id_rank, _ = pd.factorize(np.asarray(ids, dtype=object), sort=True)
-    return np.lexsort((pos, part, id_rank, neg_aep, code))
+    """Indices that sort rows by (code, −AEP, id, part, position) (:func:`ranking_order`)."""
+    return ranking_order(code, neg_aep, ids, part, pos)
 
 
 def key_at_most(code, neg_aep, ids, part, pos, limit) -> np.ndarray:

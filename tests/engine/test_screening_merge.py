@@ -203,3 +203,19 @@ def test_cli_out_with_workers_streams_same_csv(tmp_path):
     assert cli.main(base + ["--out", str(b), "--workers", "2"]) == 0
     assert a.read_bytes() == b.read_bytes()
     assert not list(tmp_path.glob(".dask.csv*"))
+
+
+@pytest.mark.parametrize("seed", [3, 4, 11])
+def test_ranking_order_equals_pandas_stable_sort_with_ties(seed):
+    """ranking_order (numbers first, text only among ties) equals pandas' stable sort on the
+    three keys, with many equal classes and AEPs, repeated ids, a NaN AEP, -0.0 and 0.0."""
+    t = ties_table(seed=seed)
+    t.loc[5, "best_aep_kwh"] = np.nan
+    t.loc[7, "best_aep_kwh"] = -0.0
+    got = t.take(sm.ranking_order(*sm.rank_key_arrays(t))).reset_index(drop=True)
+    ref = reference(t).assign(rank=0)
+    pd.testing.assert_frame_equal(got, ref, check_exact=True)
+    # No ties at all: the numeric sort alone decides (the text is never compared).
+    u = t.assign(best_aep_kwh=np.arange(len(t), dtype=float))
+    got = u.take(sm.ranking_order(*sm.rank_key_arrays(u))).reset_index(drop=True)
+    pd.testing.assert_frame_equal(got, reference(u).assign(rank=0), check_exact=True)
