@@ -930,6 +930,25 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
                 rejected_lines=()) -> pd.DataFrame:
     """Screen the good rows of one checked part: one result row per building (unranked).
 
+    The frame of :func:`screen_columns`, with the columns of :func:`result_columns` and text
+    columns as object (as in the Dask meta).
+    """
+    return _result_frame(screen_columns(checked, ctx, nb, rejected_lines), ctx)
+
+
+def _result_frame(cols, ctx: ScreeningContext) -> pd.DataFrame:
+    """The result frame of :func:`screen_columns`' arrays; None gives the empty result."""
+    if cols is None:
+        return _empty_result(ctx)
+    # Text columns stay object (as in _empty_result, the Dask meta): no conversion per part.
+    return pd.DataFrame({c: (pd.Series(cols[c], dtype=object) if cols[c].dtype == object
+                             else cols[c]) for c in result_columns(ctx.turbines)})
+
+
+def screen_columns(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
+                   rejected_lines=()):
+    """The results of :func:`screen_part` as a dict of (n,) arrays, or None with no good row.
+
     Per zone (its climate) and per chunk of ``ctx.settings.chunk_rows`` buildings: the
     surroundings (:func:`surroundings`), the mast (:func:`choose_mast_m`), the effective climate
     at the roof's centre (:func:`roof_centre_climate`), the yield of every turbine
@@ -942,7 +961,7 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
 
     rows = good_rows(checked, rejected_lines)
     if len(rows) == 0:
-        return _empty_result(ctx)
+        return None
     # The columns as plain arrays once: a chunk is then a slice of each, with no frame work.
     rows = {c: (rows[c].to_numpy() if pd.api.types.is_numeric_dtype(rows[c].dtype)
                 else rows[c].to_numpy(object)) for c in rows.columns}
@@ -1012,9 +1031,7 @@ def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
     for j, t in enumerate(ctx.turbines):
         out[f"aep_kwh_{t.id}"] = net_kwh[:, j]
         out[f"capacity_factor_{t.id}"] = cf[:, j]
-    # Text columns stay object (as in _empty_result, the Dask meta): no conversion per part.
-    return pd.DataFrame({c: (pd.Series(out[c], dtype=object) if out[c].dtype == object
-                             else out[c]) for c in result_columns(ctx.turbines)})
+    return out
 
 
 def rank_results(table: pd.DataFrame) -> pd.DataFrame:
@@ -1121,16 +1138,34 @@ def screen_local(source, ctx: ScreeningContext, progress=None, part_bytes: int =
     tell(0.3, "surroundings summed")
     results = []
     for i, c in enumerate(checked):
-        results.append(screen_part(c, ctx, nb, rejected))
+        cols = screen_columns(c, ctx, nb, rejected)
+        if cols is not None:
+            results.append(cols)
         tell(0.3 + 0.7 * (i + 1) / len(checked), f"screened part {i + 1} of {len(checked)}")
-    table = pd.concat(results, ignore_index=True) if results else _empty_result(ctx)
+    table = _ranked_frame(results, ctx)
     del results
-    table = rank_results(table)
     bad = _bad_rows(checked, dups)
     word = "row" if parts and parts[0].kind == "parquet" else "line"
     return ScreeningResult(table=finish_table(table, ctx.turbines),
                            problems=row_problems(bad, word), n_rows=int(len(all_ids)),
                            bad_rows=bad)
+
+
+def _ranked_frame(results: list, ctx: ScreeningContext) -> pd.DataFrame:
+    """Parts' result arrays joined, put in ranking order and made one frame (as
+    :func:`rank_results` of the parts' frames, without sorting a frame)."""
+    from .screening_merge import ranking_order
+
+    if not results:
+        return rank_results(_empty_result(ctx))
+    cols = {c: (np.concatenate([r[c] for r in results]) if len(results) > 1 else results[0][c])
+            for c in result_columns(ctx.turbines)}
+    aep = cols["best_aep_kwh"]
+    order = ranking_order(cols["suitability_code"], np.where(np.isnan(aep), np.inf, -aep),
+                          cols["id"])
+    cols = {c: v.take(order) for c, v in cols.items()}
+    cols["rank"] = np.arange(1, len(order) + 1, dtype=np.int64)
+    return _result_frame(cols, ctx)
 
 
 def _read_check(part: Part, zones=None, origin=None) -> pd.DataFrame:
