@@ -242,6 +242,31 @@ def header_problems(columns) -> list:
     return probs
 
 
+def _clean_text(v) -> str:
+    """One cell as stripped text; "" for a missing cell (None, NaN, pd.NA)."""
+    if isinstance(v, str):
+        return v.strip()
+    if v is None or v is pd.NA or (isinstance(v, float) and v != v):
+        return ""
+    return str(v).strip()
+
+
+def _text_codes(raw: pd.DataFrame, name: str, n: int, case=None):
+    """A text column of few distinct values as (codes, cleaned distinct values).
+
+    The cells are cleaned once per distinct value (``pd.factorize``): stripped, "" when
+    missing, and lower or upper case with ``case``; code -1 (a missing cell) points at the
+    trailing "" of the values. A missing column is all "".
+    """
+    if name not in raw:
+        return np.zeros(n, np.int64), np.array([""], dtype=object)
+    codes, uniq = pd.factorize(raw[name])
+    clean = [_clean_text(u) for u in uniq]
+    if case is not None:
+        clean = [getattr(c, case)() for c in clean]
+    return codes, np.array(clean + [""], dtype=object)
+
+
 def check_part(raw: pd.DataFrame, zones=None) -> pd.DataFrame:
     """Check and normalise the rows of one part; adds ``problem`` ("" for a good row).
 
@@ -252,15 +277,17 @@ def check_part(raw: pd.DataFrame, zones=None) -> pd.DataFrame:
 
     Returns
     -------
-    DataFrame with every known column (defaults filled in), numeric columns as float, and
-    ``problem``: the row's problems joined by "; ", each with its fix.
+    DataFrame with every known column (defaults filled in), numeric columns as float, text
+    columns as object (Python str), and ``problem``: the row's problems joined by "; ", each
+    with its fix.
 
     Notes
     -----
-    Vectorised: every rule is one array comparison; messages are written only for bad rows.
+    Vectorised: every rule is one array comparison; messages are written only for bad rows,
+    and text columns of few values are checked once per distinct value.
     """
     n = len(raw)
-    out = pd.DataFrame({"line": raw["line"].to_numpy(np.int64)})
+    out = {"line": raw["line"].to_numpy(np.int64)}
     bad_msgs = {}
 
     def add(mask, messages):
@@ -268,23 +295,28 @@ def check_part(raw: pd.DataFrame, zones=None) -> pd.DataFrame:
         for i, m in zip(idx, messages):
             bad_msgs.setdefault(int(i), []).append(m)
 
-    ids = raw["id"] if "id" in raw else pd.Series([""] * n)
-    ids = ids.astype("string").fillna("").str.strip()
-    out["id"] = ids.to_numpy(dtype=object)
-    empty_id = (ids == "").to_numpy()
+    if "id" in raw:
+        ids = raw["id"].to_numpy(dtype=object)
+        ids = np.array([v.strip() if type(v) is str else _clean_text(v) for v in ids],
+                       dtype=object)
+    else:
+        ids = np.full(n, "", dtype=object)
+    out["id"] = ids
+    empty_id = ids == ""
     add(empty_id, ["id is empty; give every building a unique id"] * int(empty_id.sum()))
     use_ll = "x_m" not in raw and "latitude_deg" in raw
     for name, (lo, hi, unit, lo_open, hi_open) in NUMERIC_LIMITS.items():
         if name not in raw:
-            out[name] = float(BUILDING_DEFAULTS.get(name, np.nan))
+            out[name] = np.full(n, float(BUILDING_DEFAULTS.get(name, np.nan)))
             continue
         col = raw[name]
-        vals = pd.to_numeric(col, errors="coerce").to_numpy(dtype=float)
-        if pd.api.types.is_numeric_dtype(col.dtype):
-            given = ~col.isna().to_numpy()
+        if pd.api.types.is_numeric_dtype(col.dtype) and not pd.api.types.is_bool_dtype(col.dtype):
+            vals = col.to_numpy(dtype=float, na_value=np.nan)
+            given = ~np.isnan(vals)
         else:
-            given = ~(col.isna().to_numpy()
-                      | (col.astype("string").fillna("").str.strip() == "").to_numpy())
+            vals = pd.to_numeric(col, errors="coerce").to_numpy(dtype=float, na_value=np.nan)
+            codes, clean = _text_codes(raw, name, n)
+            given = (clean != "")[codes]
         required = name in REQUIRED_COLUMNS or (name in ("x_m", "y_m") and not use_ll) or (
             name in ("latitude_deg", "longitude_deg") and use_ll)
         not_number = given & ~np.isfinite(vals)
@@ -302,51 +334,57 @@ def check_part(raw: pd.DataFrame, zones=None) -> pd.DataFrame:
         out_of = ok & (low | high)
         add(out_of, _limit_message(name, vals[out_of], lo, hi, unit, lo_open, hi_open))
         out[name] = vals
-    roof = raw["roof_type"].astype("string").fillna("").str.strip().str.lower() \
-        if "roof_type" in raw else pd.Series(["flat"] * n, dtype="string")
-    roof = roof.where(roof != "", "flat")
-    bad_roof = ~roof.isin(model.ROOF_TYPES).to_numpy()
+    codes, roofs = _text_codes(raw, "roof_type", n, case="lower")
+    if "roof_type" not in raw:
+        roofs = np.array(["flat"], dtype=object)
+    roofs = np.where(roofs == "", "flat", roofs).astype(object)
+    roof = roofs[codes]
+    bad_roof = np.isin(roofs, list(model.ROOF_TYPES), invert=True)[codes]
     add(bad_roof, [f"roof_type must be one of {', '.join(model.ROOF_TYPES)}, got {v!r}"
-                   for v in roof.to_numpy()[bad_roof]])
-    out["roof_type"] = roof.to_numpy(dtype=object)
-    zone = raw["zone"].astype("string").fillna("").str.strip() if "zone" in raw \
-        else pd.Series([""] * n, dtype="string")
-    out["zone"] = zone.to_numpy(dtype=object)
+                   for v in roof[bad_roof]])
+    out["roof_type"] = roof
+    codes, zone_values = _text_codes(raw, "zone", n)
+    zone = zone_values[codes]
+    out["zone"] = zone
     if zones is not None:
-        no_clim = ~zone.isin(list(zones)).to_numpy()
+        no_clim = np.isin(zone_values, list(zones), invert=True)[codes]
         add(no_clim, [f"zone {v!r} has no climate; give one with --climate {v}=FILE or a "
-                      f"default climate" for v in zone.to_numpy()[no_clim]])
-    cat = raw["terrain_category"].astype("string").fillna("").str.strip().str.upper() \
-        if "terrain_category" in raw else pd.Series([""] * n, dtype="string")
-    bad_cat = ((cat != "") & ~cat.isin(list(profiles.EN1991_TERRAIN))).to_numpy()
+                      f"default climate" for v in zone[no_clim]])
+    codes, cats = _text_codes(raw, "terrain_category", n, case="upper")
+    cat = cats[codes]
+    bad_cat = ((cats != "") & np.isin(cats, list(profiles.EN1991_TERRAIN), invert=True))[codes]
     add(bad_cat, [f"terrain_category must be one of {', '.join(profiles.EN1991_TERRAIN)} "
-                  f"(EN 1991-1-4 Table 4.1) or empty, got {v!r}" for v in cat.to_numpy()[bad_cat]])
-    out["terrain_category"] = cat.to_numpy(dtype=object)
+                  f"(EN 1991-1-4 Table 4.1) or empty, got {v!r}" for v in cat[bad_cat]])
+    out["terrain_category"] = cat
     # Surroundings given by row: both fractions together, or neither.
-    lp, lf = out["plan_area_fraction"].to_numpy(), out["frontal_area_fraction"].to_numpy()
+    lp, lf = out["plan_area_fraction"], out["frontal_area_fraction"]
     half = np.isfinite(lp) != np.isfinite(lf)
     add(half, ["give plan_area_fraction and frontal_area_fraction together, or neither"]
         * int(half.sum()))
-    pitched_flat = (out["roof_type"].to_numpy() == "flat") & (out["roof_pitch_deg"].to_numpy() > 0)
+    pitched_flat = (roof == "flat") & (out["roof_pitch_deg"] > 0)
     add(pitched_flat, [f"roof_pitch_deg is {v:g} deg on a flat roof; set roof_type to pitched "
-                       "or the pitch to 0" for v in out["roof_pitch_deg"].to_numpy()[pitched_flat]])
+                       "or the pitch to 0" for v in out["roof_pitch_deg"][pitched_flat]])
     text = np.full(n, "", dtype=object)
     for i, msgs in bad_msgs.items():
         text[i] = "; ".join(msgs)
     if LINE_PROBLEM in raw:
         # A line that could not be split has no fields to speak of: its own message only.
-        lp_text = raw[LINE_PROBLEM].fillna("").to_numpy(object)
-        text = np.where(lp_text != "", lp_text, text)
+        lp_text = raw[LINE_PROBLEM].to_numpy(dtype=object, na_value="")
+        text = np.where(lp_text != "", lp_text, text).astype(object)
     out["problem"] = text
-    return out
+    # Text stays Python str (object): no conversion here, none when the screening reads it.
+    return pd.DataFrame({c: (pd.Series(v, dtype=object) if v.dtype == object else v)
+                         for c, v in out.items()})
 
 
 def duplicate_problems(ids: pd.Series, lines: pd.Series) -> pd.DataFrame:
     """Rows whose id appears more than once: (line, id, problem). None of them is screened."""
-    frame = pd.DataFrame({"id": ids.to_numpy(object), "line": lines.to_numpy(np.int64)})
-    dup = frame[frame["id"].duplicated(keep=False)]
-    if dup.empty:
+    ids = pd.Series(np.asarray(ids, dtype=object), dtype=object)  # hashed as Python str
+    hit = ids.duplicated(keep=False).to_numpy()
+    if not hit.any():
         return pd.DataFrame({"line": np.array([], np.int64), "id": [], "problem": []})
+    dup = pd.DataFrame({"id": ids[hit].reset_index(drop=True),
+                        "line": np.asarray(lines, np.int64)[hit]})
     lines_of = dup.groupby("id")["line"].apply(lambda s: sorted(s.tolist()))
     listed = lines_of.map(lambda ls: ", ".join(map(str, ls[:10])) + (" ..." if len(ls) > 10 else ""))
     dup = dup.assign(problem=[f"id {i!r} appears on {len(lines_of[i])} lines ({listed[i]}); ids "
