@@ -75,9 +75,12 @@ def crosswind_width_m(length_m, width_m, orientation_deg, direction_deg):
     :func:`sector_geometry` alone, L |sin γ| + W |cos γ| with γ the wind's angle to the length."""
     L = np.asarray(length_m, dtype=float)[..., None]
     W = np.asarray(width_m, dtype=float)[..., None]
-    g = np.radians(np.asarray(direction_deg, dtype=float)[None, ...]
-                   - np.asarray(orientation_deg, dtype=float)[..., None])
-    return L * np.abs(np.sin(g)) + W * np.abs(np.cos(g))
+    # sin and cos of γ = θ − φ by the angle-difference formulas: the sines and cosines of the
+    # (S,) directions and the (B,) orientations, not of every (B, S) pair.
+    th = np.radians(np.asarray(direction_deg, dtype=float))[None, ...]
+    ph = np.radians(np.asarray(orientation_deg, dtype=float))[..., None]
+    s_t, c_t, s_p, c_p = np.sin(th), np.cos(th), np.sin(ph), np.cos(ph)
+    return L * np.abs(s_t * c_p - c_t * s_p) + W * np.abs(c_t * c_p + s_t * s_p)
 
 
 def sector_geometry(length_m, width_m, orientation_deg, direction_deg):
@@ -107,7 +110,7 @@ def sector_geometry(length_m, width_m, orientation_deg, direction_deg):
     phi = np.asarray(orientation_deg, dtype=float)[..., None]
     theta = np.asarray(direction_deg, dtype=float)[None, ...]
     g = np.radians(theta - phi)
-    cross = L * np.abs(np.sin(g)) + W * np.abs(np.cos(g))
+    cross = crosswind_width_m(length_m, width_m, orientation_deg, direction_deg)
     along = L * np.abs(np.cos(g)) + W * np.abs(np.sin(g))
     rel = np.mod(theta - phi, 360.0)
     face = np.mod(np.rint(rel / 90.0).astype(int), 4)
@@ -157,14 +160,21 @@ def roof_fetch_m(u_m, v_m, length_m, width_m, orientation_deg, direction_deg):
     v = np.asarray(v_m, float)[:, None]
     inside = (np.abs(u) <= hu + 1e-9) & (np.abs(v) <= hv + 1e-9)
 
-    def exit_t(c, h, d):
-        # Distance along direction d from coordinate c to the side it crosses.
+    def exit_both(c, h, d):
+        # Distance along +d and along -d from coordinate c to the side each crosses:
+        # (h - c sgn d) / |d| and (h + c sgn d) / |d|; none (inf) when d is about 0.
+        a = np.abs(d)
+        cs = np.where(d < 0, -c, c)
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            t = np.where(d > 1e-12, (h - c) / d, np.where(d < -1e-12, (h + c) / -d, np.inf))
-        return t
+            fwd = (h - cs) / a
+            back = (h + cs) / a
+        flat = a <= 1e-12
+        return np.where(flat, np.inf, fwd), np.where(flat, np.inf, back)
 
-    down = np.minimum(exit_t(u, hu, du), exit_t(v, hv, dv))
-    up = np.minimum(exit_t(u, hu, -du), exit_t(v, hv, -dv))
+    down_u, up_u = exit_both(u, hu, du)
+    down_v, up_v = exit_both(v, hv, dv)
+    down = np.minimum(down_u, down_v)
+    up = np.minimum(up_u, up_v)
     up = np.where(inside, np.maximum(up, 0.0), 0.0)
     down = np.where(inside, np.maximum(down, 0.0), 0.0)
     return up, down

@@ -328,7 +328,10 @@ def skew_speed_factor(inflow_skew_deg, axis):
     """
     n = SKEW_POWER_EXPONENT[axis]
     g = np.radians(np.clip(np.abs(np.asarray(inflow_skew_deg, float)), 0.0, 90.0))
-    return np.cos(g) ** (n / 3.0)
+    if n == 0.0:
+        return np.ones_like(g)  # cos^0: a rotor indifferent to the inflow angle
+    cos_g = np.cos(g)
+    return cos_g if n == 3.0 else cos_g ** (n / 3.0)
 
 
 def _weibull_x(edges_ms, k, c_ms):

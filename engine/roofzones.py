@@ -172,10 +172,10 @@ def sector_energy_share(frequency, weibull_k, weibull_c_ms):
     -----
     e_s = f_s c_s³ Γ(1 + 3/k_s) (the sector's mean cube of speed, Weibull), normalised.
     """
-    from scipy.special import gamma
+    from .weibull import gamma_of_shapes
 
-    e = (np.asarray(frequency, float) * np.asarray(weibull_c_ms, float) ** 3
-         * gamma(1.0 + 3.0 / np.asarray(weibull_k, float)))
+    c = np.asarray(weibull_c_ms, float)
+    e = np.asarray(frequency, float) * (c * c * c) * gamma_of_shapes(weibull_k, 3.0)
     tot = e.sum(axis=-1, keepdims=True)
     return np.divide(e, tot, out=np.zeros_like(e), where=tot > 0)
 

@@ -31,9 +31,21 @@ def weibull_pdf(speed_ms, k, c_ms):
     return (k / c) * x ** (k - 1.0) * np.exp(-(x ** k))
 
 
+def gamma_of_shapes(k, power: float) -> np.ndarray:
+    """Γ(1 + power/k) for an array of Weibull shapes [-].
+
+    Many positions share one climate's shapes: when every row of a 2-D ``k`` is the same,
+    Γ is taken on one row and broadcast (the same numbers, without a Γ per position).
+    """
+    k = np.asarray(k, dtype=float)
+    if k.ndim == 2 and k.shape[0] > 1 and np.array_equal(k, np.broadcast_to(k[:1], k.shape)):
+        return np.broadcast_to(gamma(1.0 + power / k[0]), k.shape)
+    return gamma(1.0 + power / k)
+
+
 def weibull_mean_ms(k, c_ms):
     """Mean speed c Γ(1 + 1/k) [m/s]."""
-    return np.asarray(c_ms, dtype=float) * gamma(1.0 + 1.0 / np.asarray(k, dtype=float))
+    return np.asarray(c_ms, dtype=float) * gamma_of_shapes(k, 1.0)
 
 
 def weibull_power_density_wm2(k, c_ms, air_density_kgm3=1.225):

@@ -60,12 +60,23 @@ def test_building_arrays_keep_order_and_roof_type():
 
 
 def test_crosswind_width_equals_sector_geometry_first_output():
-    """The crosswind width alone equals sector_geometry's: L|sin γ| + W|cos γ| (projection)."""
+    """The crosswind width alone equals sector_geometry's: L|sin γ| + W|cos γ| (projection),
+    and equals the spread of the block's four corners projected across the wind."""
     rng = np.random.default_rng(3)
     L, W, phi = rng.uniform(5, 80, 40), rng.uniform(5, 40, 40), rng.uniform(0, 360, 40)
     d = np.arange(12) * 30.0
     cross = geom.crosswind_width_m(L, W, phi, d)
     np.testing.assert_array_equal(cross, geom.sector_geometry(L, W, phi, d)[0])
+    # Independent reference (common practice: the shadow of a convex shape is the spread of
+    # its corners' projections): corners from the block's own axes, projected on the unit
+    # vector across the wind.
+    p = np.radians(phi)[:, None, None]
+    su, sv = np.array([1, 1, -1, -1])[None, None, :], np.array([1, -1, -1, 1])[None, None, :]
+    east = su * L[:, None, None] / 2 * np.sin(p) + sv * W[:, None, None] / 2 * np.cos(p)
+    north = su * L[:, None, None] / 2 * np.cos(p) - sv * W[:, None, None] / 2 * np.sin(p)
+    t = np.radians(d)[None, :, None]
+    across = east * np.cos(t) - north * np.sin(t)  # (B, S, 4)
+    np.testing.assert_allclose(cross, across.max(-1) - across.min(-1), rtol=1e-12)
     # Hand value (common practice: projection of a rectangle): a 20 x 10 m block along north,
     # wind from 45 deg, shows (20 + 10) sin 45 = 21.21 m across the wind.
     assert geom.crosswind_width_m([20.0], [10.0], [0.0], [45.0])[0, 0] == pytest.approx(
