@@ -199,8 +199,7 @@ def read_part(part: Part) -> pd.DataFrame:
         lines = np.arange(part.first_line, part.first_line + len(raw) + len(skipped),
                           dtype=np.int64)
         lines = lines[~np.isin(lines, np.fromiter(skipped, np.int64, len(skipped)))]
-        raw = raw.copy()
-        raw["line"] = lines
+        raw["line"] = lines  # raw is the parser's own new frame
         raw[LINE_PROBLEM] = ""
         if skipped:
             extra = pd.DataFrame({"line": np.fromiter(skipped, np.int64, len(skipped)),
@@ -373,13 +372,16 @@ def check_part(raw: pd.DataFrame, zones=None) -> pd.DataFrame:
         text = np.where(lp_text != "", lp_text, text).astype(object)
     out["problem"] = text
     # Text stays Python str (object): no conversion here, none when the screening reads it.
-    return pd.DataFrame({c: (pd.Series(v, dtype=object) if v.dtype == object else v)
-                         for c, v in out.items()})
+    return pd.DataFrame({c: (pd.Series(v, dtype=object, copy=False) if v.dtype == object
+                             else v) for c, v in out.items()}, copy=False)
 
 
 def duplicate_problems(ids: pd.Series, lines: pd.Series) -> pd.DataFrame:
     """Rows whose id appears more than once: (line, id, problem). None of them is screened."""
-    ids = pd.Series(np.asarray(ids, dtype=object), dtype=object)  # hashed as Python str
+    values = np.asarray(ids, dtype=object)
+    if len(set(values.tolist())) == len(values):  # the usual case, by a set of Python str
+        return pd.DataFrame({"line": np.array([], np.int64), "id": [], "problem": []})
+    ids = pd.Series(values, dtype=object)
     hit = ids.duplicated(keep=False).to_numpy()
     if not hit.any():
         return pd.DataFrame({"line": np.array([], np.int64), "id": [], "problem": []})
@@ -465,9 +467,35 @@ def cell_sums(x_m, y_m, length_m, width_m, height_m, anchor=(0.0, 0.0)) -> pd.Da
     a = np.rint(L * W / AREA_QUANTUM).astype(np.int64)
     f = np.rint(frontal_area_mean_m2(L, W, H) / AREA_QUANTUM).astype(np.int64)
     ah = np.rint(L * W * H / AREA_QUANTUM).astype(np.int64)
-    frame = pd.DataFrame({"cx": cx, "cy": cy, "area": a, "frontal": f, "area_height": ah,
-                          "count": np.ones(len(a), np.int64)})
-    return frame.groupby(["cx", "cy"], sort=True, as_index=False).sum()
+    return _sum_by_cell(cx, cy, {"area": a, "frontal": f, "area_height": ah,
+                                 "count": np.ones(len(a), np.int64)})
+
+
+_CELL_SUM_COLUMNS = ("area", "frontal", "area_height", "count")
+
+
+def _sum_by_cell(cx, cy, values: dict) -> pd.DataFrame:
+    """Whole-number sums of ``values`` per cell (cx, cy), rows sorted by cx then cy (int64).
+
+    Notes
+    -----
+    One stable sort of a combined cell key and ``np.add.reduceat`` per column: exact, as the
+    sums are of integers.
+    """
+    cx = np.asarray(cx, np.int64)
+    cy = np.asarray(cy, np.int64)
+    if len(cx) == 0:
+        return pd.DataFrame({c: np.zeros(0, np.int64) for c in ("cx", "cy", *values)})
+    kx, ky = cx - cx.min(), cy - cy.min()
+    key = kx * (int(ky.max()) + 1) + ky  # ascending key = ascending (cx, cy)
+    order = np.argsort(key, kind="stable")
+    sk = key[order]
+    starts = np.flatnonzero(np.concatenate([[True], sk[1:] != sk[:-1]]))
+    first = order[starts]
+    out = {"cx": cx[first], "cy": cy[first]}
+    for name, v in values.items():
+        out[name] = np.add.reduceat(np.asarray(v, np.int64)[order], starts)
+    return pd.DataFrame(out)
 
 
 def combine_cell_sums(frames) -> pd.DataFrame:
@@ -475,8 +503,11 @@ def combine_cell_sums(frames) -> pd.DataFrame:
     frames = [f for f in frames if len(f)]
     if not frames:
         return cell_sums([], [], [], [], [])
-    return pd.concat(frames, ignore_index=True).groupby(
-        ["cx", "cy"], sort=True, as_index=False).sum()
+    if len(frames) == 1:
+        return frames[0].reset_index(drop=True)
+    both = pd.concat(frames, ignore_index=True)
+    return _sum_by_cell(both["cx"].to_numpy(), both["cy"].to_numpy(),
+                        {c: both[c].to_numpy() for c in _CELL_SUM_COLUMNS})
 
 
 @dataclass(frozen=True)
@@ -979,8 +1010,10 @@ def _result_frame(cols, ctx: ScreeningContext) -> pd.DataFrame:
     if cols is None:
         return _empty_result(ctx)
     # Text columns stay object (as in _empty_result, the Dask meta): no conversion per part.
-    return pd.DataFrame({c: (pd.Series(cols[c], dtype=object) if cols[c].dtype == object
-                             else cols[c]) for c in result_columns(ctx.turbines)})
+    # The arrays are the frame's own (copy=False): no copy into 2-D blocks.
+    return pd.DataFrame({c: (pd.Series(cols[c], dtype=object, copy=False)
+                             if cols[c].dtype == object else cols[c])
+                         for c in result_columns(ctx.turbines)}, copy=False)
 
 
 def screen_columns(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,

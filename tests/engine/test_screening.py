@@ -129,6 +129,16 @@ def test_neighbourhood_matches_brute_force_and_any_split():
     nb = screening.neighbourhood_lookup(cells)
     lp, lf, hm = nb.at(d.x_m, d.y_m)
     cx, cy = screening.cell_index(d.x_m, d.y_m)
+    # The cell sums equal pandas' group-by of the same whole-number quanta (reference library).
+    q = screening.AREA_QUANTUM
+    L, W, H = d.length_m.to_numpy(), d.width_m.to_numpy(), d.height_m.to_numpy()
+    ref = pd.DataFrame({"cx": cx, "cy": cy, "area": np.rint(L * W / q).astype(np.int64),
+                        "frontal": np.rint(screening.frontal_area_mean_m2(L, W, H) / q)
+                        .astype(np.int64),
+                        "area_height": np.rint(L * W * H / q).astype(np.int64),
+                        "count": np.ones(len(d), np.int64)}).groupby(
+        ["cx", "cy"], sort=True, as_index=False).sum()
+    pd.testing.assert_frame_equal(cells, ref, check_exact=True)
     m, side = screening.HALF_CELLS, (2 * screening.HALF_CELLS + 1) * screening.CELL_M
     area = (d.length_m * d.width_m).to_numpy()
     for i in (0, 1234, 2999):
