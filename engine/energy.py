@@ -327,9 +327,9 @@ def skew_speed_factor(inflow_skew_deg, axis):
     skewed flow on a roof", J. Sol. Energy Eng. 125:433 (from memory).
     """
     n = SKEW_POWER_EXPONENT[axis]
+    if n == 0.0:  # cos^0: a rotor indifferent to the inflow angle
+        return np.ones(np.shape(inflow_skew_deg))
     g = np.radians(np.clip(np.abs(np.asarray(inflow_skew_deg, float)), 0.0, 90.0))
-    if n == 0.0:
-        return np.ones_like(g)  # cos^0: a rotor indifferent to the inflow angle
     cos_g = np.cos(g)
     return cos_g if n == 3.0 else cos_g ** (n / 3.0)
 
@@ -535,21 +535,21 @@ def _blocked_bins_sums(frequency, weibull_k, axis_log_c, turbine_axis, table_wei
         # Interpolate in TI and weight by frequency, for the whole span at once: the sums of
         # row (m, s), turbine g of a group, table row i sit at ((m S + s) n_a + g) I + i.
         n = a1 - a0
-        lo = ti_lo[a0:a1].reshape(-1, 1)
-        step = np.minimum(lo + 1, n_rows - 1) - lo
+        lo = ti_lo[a0:a1].reshape(-1, 1, 1)
+        # The two neighbouring table rows side by side (one gather reads both from the same
+        # cache line); one row only when the table has one.
+        pair = np.array([0, 1 if n_rows > 1 else 0])[None, None, :]
         frac = ti_frac[a0:a1][:, :, None]
         f = frequency[a0:a1]
         weights = (f, f * weibull_k[a0:a1]) if with_slope else (f,)
         for gi, (ax, ts, w_cat) in enumerate(groups):
             width = ts.size * n_rows
-            at_lo = (np.arange(n * S)[:, None] * width + np.arange(ts.size)[None, :] * n_rows
-                     + lo)  # (n S, n_a)
-            at_hi = at_lo + step
+            at = (np.arange(n * S)[:, None, None] * width
+                  + np.arange(ts.size)[None, :, None] * n_rows + lo + pair)  # (n S, n_a, 2)
             for p, fw in enumerate(weights):
-                flat = sums[p][gi].reshape(-1)
-                g_lo = flat.take(at_lo).reshape(n, S, ts.size)
-                per = flat.take(at_hi).reshape(n, S, ts.size)
-                per -= g_lo
+                both = sums[p][gi].reshape(-1).take(at).reshape(n, S, ts.size, 2)
+                g_lo = both[..., 0]
+                per = both[..., 1] - g_lo
                 per *= frac
                 per += g_lo  # (n, S, n_a)
                 outs[p][a0:a1, ts] = hours * np.einsum("ms,msg->mg", fw, per)

@@ -58,7 +58,7 @@ def scaling_length_m(face_height_m, face_width_m):
     w = np.asarray(face_width_m, dtype=float)
     bs = np.minimum(h, w)
     bl = np.minimum(np.maximum(h, w), 8.0 * bs)
-    return bs ** (2.0 / 3.0) * bl ** (1.0 / 3.0)
+    return np.cbrt(bs * bs * bl)  # B_s^(2/3) B_L^(1/3), one root
 
 
 def roof_recirculation_zone(scaling_length_m):

@@ -824,7 +824,8 @@ def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered
 
 
 def roof_centre_climate(rows, sur: dict, mast_m, climate, air_density_kgm3,
-                        transfer_settings, clearance_only: bool = False, geometry=None):
+                        transfer_settings, clearance_only: bool = False, geometry=None,
+                        main_sector=None):
     """Effective climate of a roof position at each building's centre, one position per row.
 
     The functions :func:`engine.flow.effective_climate` calls for an assessment of that one
@@ -836,11 +837,13 @@ def roof_centre_climate(rows, sur: dict, mast_m, climate, air_density_kgm3,
     -------
     :class:`engine.flow.EffectiveClimate` with P = len(rows); diagnostics (P,):
     ``min_clear_mast_m``, ``in_turbulence_zone``, ``in_recirculation_zone``, ``in_roof_wake``.
-    With ``clearance_only``, just the (P,) ``min_clear_mast_m`` [m] (the roof flow is skipped).
+    With ``clearance_only``, just the (P,) ``min_clear_mast_m`` [m] and the (P, S) main energy
+    sectors it was found with (the roof flow is skipped).
 
     ``rows`` is a DataFrame or a dict of (P,) column arrays; ``geometry`` the
     :func:`roof_centre_geometry` of the same rows (found here when not given), so that the mast
-    search and the final climate share it.
+    search and the final climate share it; ``main_sector`` the (P, S) main energy sectors when
+    already found at another mast (:func:`choose_mast_m` says when they are the same).
     """
     from . import flow, roofzones, transfer
 
@@ -854,7 +857,8 @@ def roof_centre_climate(rows, sur: dict, mast_m, climate, air_density_kgm3,
     freq = np.broadcast_to(np.asarray(climate.frequency, float), (P, S)).copy()
     ti0 = np.broadcast_to(profiles.turbulence_intensity_terrain(hub, z0, d)[:, None],
                           (P, S)).copy()
-    main = roofzones.main_energy_sectors(roofzones.sector_energy_share(freq, k, free_c))
+    main = (roofzones.main_energy_sectors(roofzones.sector_energy_share(freq, k, free_c))
+            if main_sector is None else np.asarray(main_sector, bool))
     zero = np.zeros(P)
     rf = flow.roof_effects(sector_deg, H, np.asarray(rows["length_m"], float),
                            np.asarray(rows["width_m"], float),
@@ -864,7 +868,7 @@ def roof_centre_climate(rows, sur: dict, mast_m, climate, air_density_kgm3,
                            ti0, main, clearance_only=clearance_only, geometry=geometry)
     min_clear = rf["min_clear_mast_m"]
     if clearance_only:
-        return min_clear
+        return min_clear, main
     clear = rf["clearance"]
     s_roof, ti, skew = rf["speed_factor"], rf["turbulence_intensity"], rf["inflow_skew_deg"]
     diag = {"min_clear_mast_m": min_clear,
@@ -890,29 +894,35 @@ def roof_centre_geometry(rows, sector_deg) -> dict:
                               np.asarray(rows["parapet_height_m"], float), zero, zero)
 
 
-def choose_mast_m(rows, sur: dict, climate, air_density_kgm3, ctx, geometry=None) -> np.ndarray:
+def choose_mast_m(rows, sur: dict, climate, air_density_kgm3, ctx, geometry=None,
+                  return_main: bool = False):
     """Mast for each roof centre: clear of the turbulence zone with the largest chosen rotor [m].
 
     The hub at the zone's top plus the largest rotor radius, rounded up to the settings' step,
-    at least the 0.5 m a position allows and at most 60 m.
+    at least the 0.5 m a position allows and at most 60 m. With ``return_main``, also the
+    (P, S) main energy sectors, or None when they depend on the mast.
 
     Notes
     -----
     The main energy sectors are found at a first mast (rotor radius + 1 m). When the Weibull
     shape changes with height they depend on the hub height, so the clearance is found once
     more at the mast the first pass gives; otherwise every sector's scale changes by the same
-    factor with height and the sectors stay the same.
+    factor with height and the sectors stay the same, at this mast and at any other.
     """
     r = ctx.rotor_radius_m
     step = ctx.settings.mast_step_m
     mast = np.full(len(rows["height_m"]), r + 1.0)
     if geometry is None:
         geometry = roof_centre_geometry(rows, np.asarray(climate.sector_deg, float))
-    for _ in range(2 if ctx.transfer.adjust_shape_with_height else 1):
-        need = roof_centre_climate(rows, sur, mast, climate, air_density_kgm3, ctx.transfer,
-                                   clearance_only=True, geometry=geometry) + r
-        mast = np.clip(np.ceil(np.round(need / step, 9)) * step, 0.5, 60.0)
-    return np.round(mast, 6)
+    varies = ctx.transfer.adjust_shape_with_height
+    for _ in range(2 if varies else 1):
+        need, main = roof_centre_climate(rows, sur, mast, climate, air_density_kgm3,
+                                         ctx.transfer, clearance_only=True, geometry=geometry)
+        mast = np.clip(np.ceil(np.round((need + r) / step, 9)) * step, 0.5, 60.0)
+    mast = np.round(mast, 6)
+    if return_main:
+        return mast, (None if varies else main)
+    return mast
 
 
 def turbine_columns(turbines) -> list:
@@ -987,7 +997,11 @@ def suitability(best_cf, mast_m, hub_m, sur: dict, rows, ctx: ScreeningContext):
     combo = cf_code.astype(np.int64)
     for bit, (mask, _) in enumerate(extra):
         combo = combo + (np.asarray(mask, bool).astype(np.int64) << (2 + bit))
-    uniq, inverse = np.unique(combo, return_inverse=True)
+    # The combinations present, by counting (codes < 2^7; no sort of every row's code).
+    uniq = np.flatnonzero(np.bincount(combo, minlength=1))
+    where = np.zeros(int(uniq[-1]) + 1 if len(uniq) else 1, np.int64)
+    where[uniq] = np.arange(len(uniq))
+    inverse = where[combo]
     phrases = np.empty(len(uniq), dtype=object)
     for i, u in enumerate(uniq):
         parts = [by_cf[u & 3]] + [w for bit, (_, w) in enumerate(extra) if u >> (2 + bit) & 1]
@@ -1059,8 +1073,10 @@ def screen_columns(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourho
             r = {k: v[sel] for k, v in rows.items()}
             s = {k: v[sel] for k, v in sur.items()}
             geo = roof_centre_geometry(r, np.asarray(clim.sector_deg, float))
-            mast[sel] = choose_mast_m(r, s, clim, rho, ctx, geometry=geo)
-            eff = roof_centre_climate(r, s, mast[sel], clim, rho, ctx.transfer, geometry=geo)
+            mast[sel], main = choose_mast_m(r, s, clim, rho, ctx, geometry=geo,
+                                            return_main=True)
+            eff = roof_centre_climate(r, s, mast[sel], clim, rho, ctx.transfer, geometry=geo,
+                                      main_sector=main)
             need[sel] = eff.diagnostics["min_clear_mast_m"]
             # The gross energy of engine.energy.yield_arrays (its first step); the screening
             # leaves out the speed sensitivity behind P90, which costs twice as much again.
