@@ -804,23 +804,32 @@ def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered
     lf = np.clip(lf, 1e-6, 0.95)
     z0_m, d_m = transfer.morphometric_roughness(lp, lf, hm, layout)
     d_m = np.clip(d_m, 0.0, NUMERIC_LIMITS["displacement_m"][1])
-    src = np.where(given, "table: area fractions", "neighbours in the table").astype(object)
+    # Where each row's surroundings come from, as an index into SURROUNDINGS_FROM (the rows
+    # share its few str objects).
+    src = np.where(given, 1, 0)
     cat = np.asarray(rows["terrain_category"], object)
     has_cat = cat != ""
     if has_cat.any():
         z_cat = np.array([profiles.EN1991_TERRAIN[c][0] if c else np.nan for c in cat])
         z0_m = np.where(has_cat, z_cat, z0_m)
         d_m = np.where(has_cat, 0.0, d_m)
-        src = np.where(has_cat, "table: terrain category", src)
+        src = np.where(has_cat, 2, src)
     z_g = np.asarray(rows["roughness_m"], float)
     has_z = np.isfinite(z_g)
     if has_z.any():
         d_g = np.asarray(rows["displacement_m"], float)
         z0_m = np.where(has_z, z_g, z0_m)
         d_m = np.where(has_z, np.where(np.isfinite(d_g), d_g, 0.0), d_m)
-        src = np.where(has_z, "table: roughness length", src)
+        src = np.where(has_z, 3, src)
     return {"plan_area_fraction": lp, "frontal_area_fraction": lf, "surroundings_height_m": hm,
-            "roughness_m": z0_m, "displacement_m": d_m, "surroundings_from": src}
+            "roughness_m": z0_m, "displacement_m": d_m,
+            "surroundings_from": SURROUNDINGS_FROM.take(src)}
+
+
+#: Basis of a row's surroundings (:func:`surroundings`), by precedence index.
+SURROUNDINGS_FROM = np.array(["neighbours in the table", "table: area fractions",
+                              "table: terrain category", "table: roughness length"],
+                             dtype=object)
 
 
 def roof_centre_climate(rows, sur: dict, mast_m, climate, air_density_kgm3,
