@@ -76,6 +76,19 @@ class _BeforeSetup:
         return energy_before(*self.args)
 
 
+def peak_rss_mb() -> float:
+    """Peak resident memory of this process [MB]: VmHWM, which starts afresh at exec (a child's
+    ru_maxrss keeps the parent's size at the fork)."""
+    try:
+        with open("/proc/self/status") as fh:
+            for line in fh:
+                if line.startswith("VmHWM:"):
+                    return int(line.split()[1]) / 1024.0
+    except OSError:
+        pass
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+
+
 def child_local(path: str, before: bool = False, library: bool = False) -> None:
     """Run the local engine once in this (fresh) process; print time, size and peak memory.
 
@@ -103,7 +116,7 @@ def child_local(path: str, before: bool = False, library: bool = False) -> None:
     dt = time.perf_counter() - t0
     cpu = time.process_time() - c0
     table_mb = res.table.memory_usage(deep=True).sum() / 1e6
-    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    peak_mb = peak_rss_mb()
     print(json.dumps({"seconds": dt, "cpu_seconds": cpu, "n": res.n_screened,
                       "turbines": len(ctx.turbines), "peak_mb": peak_mb, "table_mb": table_mb}))
 
@@ -201,7 +214,7 @@ def child_beyond(path: str, memory_limit: int, n_workers: int) -> None:
         limits = [w["memory_limit"] for w in client.scheduler_info()["workers"].values()]
     with open(out, "rb") as fh:
         rows = sum(block.count(b"\n") for block in iter(lambda: fh.read(1 << 24), b"")) - 1
-    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    peak_mb = peak_rss_mb()
     print(json.dumps(dict(seconds=dt, rows_written=rows, rows_read=res.n_rows, limits=limits,
                           caller_peak_mb=peak_mb, **watch.summary())))
 
