@@ -1077,8 +1077,11 @@ def screen_columns(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourho
     for zk in sorted(set(zkey)):
         clim = ctx.climates[zk]
         idx_zone = np.flatnonzero(zkey == zk)
+        # One zone's rows in one run (the usual case): chunks are slices, views without copies.
+        run = len(idx_zone) and idx_zone[-1] - idx_zone[0] + 1 == len(idx_zone)
         for a in range(0, len(idx_zone), step):
-            sel = idx_zone[a:a + step]
+            sel = (slice(int(idx_zone[a]), int(idx_zone[min(a + step, len(idx_zone)) - 1]) + 1)
+                   if run else idx_zone[a:a + step])
             r = {k: v[sel] for k, v in rows.items()}
             s = {k: v[sel] for k, v in sur.items()}
             geo = roof_centre_geometry(r, np.asarray(clim.sector_deg, float))

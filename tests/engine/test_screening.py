@@ -254,6 +254,28 @@ def test_zone_without_climate_is_a_bad_row(ctx):
     assert "zone 'south' has no climate" in res.problems[0][1]
 
 
+def test_zone_climates_by_row_in_any_order_and_chunking(ctx):
+    """Rows of two zones, interleaved, screened in chunks of 3: each row equals the run where
+    its zone's climate serves the whole table (chunks taken by index or as slices alike)."""
+    clim = ctx.climates[""]
+    windy = replace(clim, weibull_c_ms=tuple(1.2 * c for c in clim.weibull_c_ms))
+    d = make_district.make_district(40, seed=2)
+    d["zone"] = np.where(np.arange(len(d)) % 3 == 0, "b", "a")
+    c2 = replace(ctx, climates={"a": clim, "b": windy},
+                 settings=replace(ctx.settings, chunk_rows=3))
+    got = screening.screen_local(d, c2).table.set_index("id")
+    assert len(got) == len(d)
+    for zone, cl in (("a", clim), ("b", windy)):
+        one = screening.screen_local(d, replace(ctx, climates={"": cl})).table.set_index("id")
+        ids = d.loc[d["zone"] == zone, "id"]
+        for col in ("best_aep_kwh", "mast_height_m", "mean_speed_ms"):
+            np.testing.assert_allclose(got.loc[ids, col], one.loc[ids, col], rtol=1e-12)
+    # The windier zone's rows gain energy (physics: more wind, more energy).
+    base = screening.screen_local(d, replace(ctx, climates={"": clim})).table.set_index("id")
+    ids_b = d.loc[d["zone"] == "b", "id"]
+    assert np.all(got.loc[ids_b, "best_aep_kwh"] > base.loc[ids_b, "best_aep_kwh"])
+
+
 def test_limits_match_the_building_model():
     """The vectorised row limits are those of engine.model.Building (a value just outside fails)."""
     base = dict(id="a", x_m=0.0, y_m=0.0, length_m=10.0, width_m=10.0, height_m=10.0)
