@@ -27,15 +27,19 @@ def free_port() -> int:
         return s.getsockname()[1]
 
 
-def start_dashboard(port: int, log_path: Path) -> subprocess.Popen:
+def start_dashboard(port: int, log_path: Path, autosave_dir: Path | None = None
+                    ) -> subprocess.Popen:
     """Start ``streamlit run dashboard/app.py`` headless on ``port``; exec so the PID is the
-    server's own."""
+    server's own. With ``autosave_dir`` it autosaves there, not into the user's home."""
     cmd = (f"exec {sys.executable} -m streamlit run dashboard/app.py --server.headless true "
            f"--server.port {port} --server.address 127.0.0.1 "
            f"--browser.gatherUsageStats false --server.fileWatcherType none")
     log = open(log_path, "wb")
+    env = dict(os.environ)
+    if autosave_dir is not None:
+        env["PERCH_AUTOSAVE_DIR"] = str(autosave_dir)
     return subprocess.Popen(["/bin/sh", "-c", cmd], cwd=ROOT, stdout=log,
-                            stderr=subprocess.STDOUT)
+                            stderr=subprocess.STDOUT, env=env)
 
 
 def wait_healthy(port: int, proc: subprocess.Popen, timeout_s: float = 30.0) -> None:
@@ -87,11 +91,13 @@ def browser_required():
 
 
 @pytest.fixture(scope="session")
-def dashboard_url(browser_required):
-    """URL of a freshly started dashboard server; stopped after the session."""
+def dashboard_url(browser_required, tmp_path_factory):
+    """URL of a freshly started dashboard server; stopped after the session. The server is
+    started before any test's own autosave folder exists, so it gets a folder of its own."""
     ARTIFACTS.mkdir(exist_ok=True)
     port = free_port()
-    proc = start_dashboard(port, ARTIFACTS / "dashboard-server.log")
+    proc = start_dashboard(port, ARTIFACTS / "dashboard-server.log",
+                           tmp_path_factory.mktemp("server-autosave"))
     try:
         wait_healthy(port, proc)
         yield f"http://127.0.0.1:{port}"
