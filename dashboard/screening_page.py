@@ -96,7 +96,8 @@ if res is not None:
     table = res.table
     counts = table["suitability"].value_counts()
     cols = st.columns(len(screening.CLASSES) + 1)
-    cols[0].metric("Screened", f"{res.n_screened:,d} of {res.n_rows:,d}")
+    # The number alone as the value (a long "n of m" value is cut off in a narrow column).
+    cols[0].metric(f"Screened, of {res.n_rows:,d} rows", f"{res.n_screened:,d}")
     for c, name in zip(cols[1:], screening.CLASSES):
         c.metric(name.capitalize(), f"{int(counts.get(name, 0)):,d}")
     if res.problems:
@@ -110,18 +111,32 @@ if res is not None:
                           default=[c for c in screening.CLASSES if c != "unsuitable"],
                           key="screening_classes")
     short = table[table["suitability"].isin(show)][SHORTLIST_COLUMNS].head(SHORTLIST_ROWS)
-    st.caption(f"Best {len(short):,d} rows of the chosen classes, ranked; click a column "
-               "header to sort. The download holds every row and every turbine.")
+    st.caption(f"Best {len(short):,d} rows of the chosen classes, ranked; click a column header "
+               "to sort, scroll the table sideways for the roof, surroundings, zone, reasons "
+               "and line. The download holds every row and every turbine.")
+    # Every column labelled with its unit (no raw field names); rank and id stay in view while
+    # the wide table scrolls sideways.
+    num = st.column_config.NumberColumn
+    text = st.column_config.TextColumn
     st.dataframe(short, hide_index=True, key="screening_shortlist",
                  column_config={
-                     "best_aep_kwh": st.column_config.NumberColumn("net AEP [kWh/yr]",
-                                                                   format="%.0f"),
-                     "best_capacity_factor": st.column_config.NumberColumn(
-                         "capacity factor", format="%.3f"),
-                     "mast_height_m": st.column_config.NumberColumn("mast [m]", format="%.1f"),
-                     "hub_height_m": st.column_config.NumberColumn("hub [m]", format="%.1f"),
-                     "mean_speed_ms": st.column_config.NumberColumn("mean speed [m/s]",
-                                                                    format="%.2f"),
+                     "rank": num("rank", format="%d", pinned=True),
+                     "id": text("building", pinned=True),
+                     "suitability": text("class"),
+                     "best_turbine_id": text("best turbine"),
+                     "best_aep_kwh": num("net AEP [kWh/yr]", format="%.0f"),
+                     "best_capacity_factor": num("capacity factor", format="%.3f"),
+                     "mast_height_m": num("mast [m]", format="%.1f"),
+                     "hub_height_m": num("hub [m]", format="%.1f"),
+                     "mean_speed_ms": num("mean speed [m/s]", format="%.2f"),
+                     "height_m": num("building height [m]", format="%.1f"),
+                     "roof_type": text("roof"),
+                     "plan_area_fraction": num("plan area fraction", format="%.2f",
+                                               help="Share of the ground around the building "
+                                                    "that buildings cover"),
+                     "zone": text("zone"),
+                     "reasons": text("reasons", width="large"),
+                     "line": num("line in the table", format="%d"),
                  })
     st.download_button("Download the ranked table (CSV)", safe_csv(table).encode("utf-8"),
                        file_name="screening_ranked.csv", mime="text/csv",
@@ -138,7 +153,13 @@ if res is not None:
             a = screening.assessment_for_building(row, st.session_state["screening_context"])
             st.session_state[screening.SESSION_KEY] = a
             state.replace_draft(sitefile.assessment_to_dict(a), f"screening: building {pick}")
-            st.success(f"Building {pick} is now the working assessment: one roof position at "
+            # Run again, so that the sidebar ("Working on ...") and the steps' marks, drawn
+            # before this page, show the new working copy; the message waits for that run.
+            st.session_state["screening_opened"] = pick
+            st.rerun()
+        opened = st.session_state.pop("screening_opened", None)
+        if opened is not None:
+            st.success(f"Building {opened} is now the working assessment: one roof position at "
                        "its centre on the screening's mast. Go to the steps to refine it.")
     else:
         st.info("No building in the chosen classes.")
