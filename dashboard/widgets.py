@@ -157,6 +157,11 @@ def table(name: str, rows: list, columns: list, *, dynamic: bool = True,
         elif kind == "list":
             vals = [", ".join(map(str, v)) if isinstance(v, (list, tuple)) else (v or "")
                     for v in vals]
+        if not vals:
+            # An empty table's column types from their kinds: with no rows pandas would make
+            # every column a float column, which a text column's editor refuses.
+            vals = pd.Series([], dtype=float if kind in ("speed", "length", "number")
+                             else object)
         data[label] = vals
     frame = pd.DataFrame(data, index=pd.RangeIndex(len(base_rows)))
     config = {}
