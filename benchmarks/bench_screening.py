@@ -35,7 +35,6 @@ import argparse
 import json
 import math
 import os
-import resource
 import subprocess
 import sys
 import tempfile
@@ -60,6 +59,13 @@ SMALL_PART_BYTES = 6 * 1024 * 1024
 BEYOND_PART_BYTES = 2 * 1024 * 1024
 
 
+def peak_rss_mb() -> float:
+    """Peak resident memory of this process [MB]: VmHWM, which starts afresh at exec (a child's
+    ru_maxrss keeps the parent's size at the fork); the climate benchmark's reader."""
+    from bench_climate import peak_rss_mb as read
+    return read()
+
+
 def _context():
     from engine import screening, sitefile
     return screening.context_from_assessment(sitefile.load(ROOT / "demo_sites" / "larkspur_yard.json"))
@@ -74,19 +80,6 @@ class _BeforeSetup:
     def energy_wh(self, scale=1.0):
         assert scale == 1.0
         return energy_before(*self.args)
-
-
-def peak_rss_mb() -> float:
-    """Peak resident memory of this process [MB]: VmHWM, which starts afresh at exec (a child's
-    ru_maxrss keeps the parent's size at the fork)."""
-    try:
-        with open("/proc/self/status") as fh:
-            for line in fh:
-                if line.startswith("VmHWM:"):
-                    return int(line.split()[1]) / 1024.0
-    except OSError:
-        pass
-    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
 
 
 def child_local(path: str, before: bool = False, library: bool = False) -> None:
