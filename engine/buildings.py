@@ -171,6 +171,13 @@ def roof_fetch_m(u_m, v_m, length_m, width_m, orientation_deg, direction_deg):
         flat = a <= 1e-12
         return np.where(flat, np.inf, fwd), np.where(flat, np.inf, back)
 
+    if not (u.any() or v.any()):
+        # Every point at its roof's centre (as in a screening): both ways are the same, h/|d|.
+        with np.errstate(divide="ignore"):
+            t_u = np.where(np.abs(du) <= 1e-12, np.inf, hu / np.abs(du))
+            t_v = np.where(np.abs(dv) <= 1e-12, np.inf, hv / np.abs(dv))
+        up = np.minimum(t_u, t_v)
+        return up, up.copy()
     down_u, up_u = exit_both(u, hu, du)
     down_v, up_v = exit_both(v, hv, dv)
     down = np.minimum(down_u, down_v)

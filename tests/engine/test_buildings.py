@@ -42,6 +42,24 @@ def test_roof_fetch_on_a_rotated_block():
     np.testing.assert_allclose(up2[0], [25.0, 15.0, 7.0], atol=1e-9)
 
 
+def test_roof_fetch_at_the_centre():
+    """At a roof's centre the fetch both ways is the half extent along the wind (by hand), and
+    equals the general path's value a hair off the centre."""
+    # 40 x 14 m block along north: north wind 20 m each way; wind at 45 deg to the length
+    # leaves by the long sides: min(20 / cos 45, 7 / sin 45) = 9.90 m (geometry, by hand).
+    d = [0.0, 45.0, 90.0, 200.0]
+    up, down = geom.roof_fetch_m([0.0], [0.0], [40.0], [14.0], [0.0], d)
+    np.testing.assert_allclose(up[0, :3], [20.0, 7.0 * math.sqrt(2.0), 7.0], rtol=1e-12)
+    np.testing.assert_array_equal(up, down)
+    rng = np.random.default_rng(4)
+    L, W, phi = rng.uniform(5, 80, 30), rng.uniform(5, 40, 30), rng.uniform(0, 360, 30)
+    sectors = np.arange(12) * 30.0 + 7.5
+    c_up, c_down = geom.roof_fetch_m(np.zeros(30), np.zeros(30), L, W, phi, sectors)
+    g_up, g_down = geom.roof_fetch_m(np.full(30, 1e-300), np.zeros(30), L, W, phi, sectors)
+    np.testing.assert_array_equal(c_up, g_up)
+    np.testing.assert_array_equal(c_down, g_down)
+
+
 def test_upwind_offsets_sign_and_lateral():
     """A block north of a point is upwind for north wind, downwind for south wind (geometry)."""
     up, lat = geom.upwind_offsets([0.0], [0.0], [0.0, 10.0], [30.0, 0.0], [0.0, 180.0])
