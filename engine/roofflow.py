@@ -145,7 +145,9 @@ def roof_turbulence_intensity(ambient_ti, speed_factor, height_above_roof_m, x_m
     above = np.maximum(np.asarray(height_above_roof_m, float) - zt, 0.0)
     added = c["added_ti"] * turbulence_weight * np.exp(-above / (c["ti_decay_r"] * r))
     s = np.maximum(np.asarray(speed_factor, float), c["sigma_speed_floor"])
-    return np.hypot(np.asarray(ambient_ti, float) / s, added)
+    distorted = np.asarray(ambient_ti, float) / s
+    # Both terms are intensities of order 0.01-1: the plain root needs no hypot's scaling.
+    return np.sqrt(distorted * distorted + added * added)
 
 
 def roof_inflow_skew_deg(height_above_roof_m, x_m, scaling_length_m, roof_length_m=np.inf,
