@@ -271,18 +271,29 @@ def table_weights_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAULT_EDGES_
     """:func:`bin_weights_w` of :func:`turbulent_curve_table_w`, (T, I, J) [W], read-only.
 
     Kept for the last few argument sets: a screening asks for the same turbines, density and
-    table rows chunk after chunk, and the rows do not depend on the chunk (each is computed
-    from its own turbulence intensity alone), so a kept table is the same numbers.
+    table rows chunk after chunk. Each row is computed from its own turbulence intensity
+    alone, so a grid on the table's steps (:func:`ti_grid_for`) is taken as rows of one
+    whole table from 0 to :data:`TI_MAX`, kept once for all the grids a run meets: the same
+    numbers as a table of those rows alone.
     """
     try:
         key = (tuple(turbines), float(air_density_kgm3),
-               tuple(float(v) for v in np.asarray(ti_grid, float)),
                tuple(float(v) for v in np.asarray(edges_ms, float)), float(reference_ti))
         hash(key)
     except TypeError:  # a turbine that cannot be hashed: compute afresh
         return bin_weights_w(turbulent_curve_table_w(turbines, air_density_kgm3, ti_grid,
                                                      edges_ms, reference_ti))
-    return _table_weights_cached(*key)
+    grid = np.asarray(ti_grid, float)
+    steps = np.rint(grid / TI_TABLE_STEP).astype(np.int64)
+    whole_rows = int(round(TI_MAX / TI_TABLE_STEP)) + 1
+    if (grid.size and np.array_equal(grid, steps * TI_TABLE_STEP) and steps.min() >= 0
+            and steps.max() < whole_rows):
+        whole = _table_weights_cached(key[0], key[1], tuple(
+            float(v) for v in np.arange(whole_rows) * TI_TABLE_STEP), *key[2:])
+        rows = whole[:, steps]
+        rows.flags.writeable = False
+        return rows
+    return _table_weights_cached(key[0], key[1], tuple(float(v) for v in grid), *key[2:])
 
 
 def lookup_turbulent_curve_w(table_w, ti_grid, turbulence_intensity):

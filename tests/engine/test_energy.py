@@ -371,3 +371,18 @@ def test_bins_sum_per_table_row_equals_scipy_method_of_bins(one_shape_per_sector
     up, down = setup.energy_wh(math.exp(h)), setup.energy_wh(math.exp(-h))
     assert e_both == pytest.approx(got, rel=1e-12)
     assert slope == pytest.approx((up - down) / (2 * h), rel=1e-6, abs=1e-6 * got.max())
+
+
+@pytest.mark.parametrize("lo, hi", [(0.04, 0.3), (0.0, 0.8), (0.1, 0.12), (0.5, 0.8)])
+def test_kept_table_rows_equal_a_table_of_those_rows(lo, hi):
+    """Rows taken from the one kept whole table are the numbers of a table of those rows alone
+    (each row depends on its own turbulence intensity only), to the last bit; a grid off the
+    table's steps is computed for itself."""
+    lib = turbines.load_library()
+    grid = energy.ti_grid_for(np.array([lo, hi]))
+    direct = energy.bin_weights_w(energy.turbulent_curve_table_w(lib, 1.2, grid))
+    np.testing.assert_array_equal(energy.table_weights_w(lib, 1.2, grid), direct)
+    odd = np.array([0.013, 0.05, 0.31])
+    np.testing.assert_array_equal(
+        energy.table_weights_w(lib, 1.2, odd),
+        energy.bin_weights_w(energy.turbulent_curve_table_w(lib, 1.2, odd)))
