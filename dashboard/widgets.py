@@ -109,8 +109,42 @@ def toggle(label: str, path: str, help: str | None = None, scope: str = ""):
 
 # ---------------------------------------------------------------- tables
 
+def _speed_list_text(values) -> str:
+    """A list of speeds [m/s] as comma-separated text in the display speed unit."""
+    if not isinstance(values, (list, tuple)):
+        return "" if values is None else str(values)
+    out = []
+    for v in values:
+        if isinstance(v, (int, float)) and not isinstance(v, bool):
+            out.append(f"{state.to_display(float(v), 'speed'):.5g}")
+        else:
+            out.append(str(v))  # an unreadable entry stays as typed, for its message
+    return ", ".join(out)
+
+
+def _speed_list(value) -> list:
+    """Comma-separated speeds in the display unit read back as a list in m/s; an entry that is
+    not a number is kept as typed so the site file's check names it."""
+    out = []
+    for s in str(value).replace(";", ",").split(","):
+        s = s.strip()
+        if not s:
+            continue
+        try:
+            out.append(state.to_si(float(s), "speed"))
+        except ValueError:
+            out.append(s)
+    return out
+
+
 def _cell(value, kind: str):
     """A table cell read back: None for empty; SI for speeds and lengths."""
+    if kind == "bool":
+        # an unticked or new row's box (None/NaN) is false, the site file's default
+        return bool(value) if isinstance(value, (bool, np.bool_)) else False
+    if kind == "speedlist" and (value is None
+                                or (isinstance(value, float) and math.isnan(value))):
+        return []
     if value is None:
         return None
     if isinstance(value, float) and math.isnan(value):
@@ -124,6 +158,8 @@ def _cell(value, kind: str):
             return value
     if kind == "number":
         return float(value) if isinstance(value, (int, float)) else value
+    if kind == "speedlist":
+        return _speed_list(value)
     if kind == "list":
         return [s.strip() for s in str(value).replace(";", ",").split(",") if s.strip()]
     if kind == "text":
@@ -136,10 +172,12 @@ def table(name: str, rows: list, columns: list, *, dynamic: bool = True,
     """An editable table of site-file rows; returns the edited rows (SI).
 
     ``columns`` lists ``(field, label, kind, config)`` with kind speed, length, number, text,
-    list or choice; ``config`` is an optional ``st.column_config`` object. Fields of a row
-    that the table does not show are kept. The editor's own state lives under a key tied to
-    the draft's generation and the units, so a page change, an error or a unit change never
-    throws edits away: the table restarts from the draft, which holds every edit.
+    list, choice, speedlist (a list of speeds [m/s] shown as comma-separated text in the
+    display speed unit; a cell left as shown keeps its stored values exactly) or bool (a
+    checkbox; empty reads as false); ``config`` is an optional ``st.column_config`` object.
+    Fields of a row that the table does not show are kept. The editor's own state lives under
+    a key tied to the draft's generation and the units, so a page change, an error or a unit
+    change never throws edits away: the table restarts from the draft, which holds every edit.
     """
     ss = st.session_state
     s_unit, l_unit = state.units_now()
@@ -149,9 +187,15 @@ def table(name: str, rows: list, columns: list, *, dynamic: bool = True,
         ss[base_key] = [dict(r) for r in rows]
     base_rows = ss[base_key]
     data = {}
+    shown = {}
     for field, label, kind, _ in columns:
         vals = [r.get(field) for r in base_rows]
-        if kind in ("speed", "length"):
+        if kind == "speedlist":
+            vals = [_speed_list_text(v) for v in vals]
+            shown[label] = list(vals)
+        elif kind == "bool":
+            vals = [v is True for v in vals]
+        elif kind in ("speed", "length"):
             vals = [state.to_display(v, kind) if isinstance(v, (int, float)) else None
                     for v in vals]
         elif kind == "list":
@@ -161,7 +205,7 @@ def table(name: str, rows: list, columns: list, *, dynamic: bool = True,
             # An empty table's column types from their kinds: with no rows pandas would make
             # every column a float column, which a text column's editor refuses.
             vals = pd.Series([], dtype=float if kind in ("speed", "length", "number")
-                             else object)
+                             else bool if kind == "bool" else object)
         data[label] = vals
     frame = pd.DataFrame(data, index=pd.RangeIndex(len(base_rows)))
     config = {}
@@ -177,6 +221,9 @@ def table(name: str, rows: list, columns: list, *, dynamic: bool = True,
         i = int(idx) if isinstance(idx, (int, np.integer)) else -1
         row = dict(base_rows[i]) if 0 <= i < len(base_rows) else {}
         for field, label, kind, _ in columns:
+            if (kind == "speedlist" and 0 <= i < len(base_rows)
+                    and rec.get(label) == shown[label][i]):
+                continue  # left as shown: keep the stored values, not a rounded copy
             row[field] = _cell(rec.get(label), kind)
         out.append(row)
     return out

@@ -73,6 +73,48 @@ with st.expander("Places where noise matters (windows, gardens)", expanded=False
     changed |= rrow != draft.get("receptors", [])
     draft["receptors"] = rrow
 
+S = state.unit_of("speed")
+position_ids = [str(r.get("id")) for r in prow if r.get("id")]
+SP_COLS = [
+    ("position_id", "position", "choice",
+     st.column_config.SelectboxColumn(options=position_ids, required=True)),
+    ("direction_deg", "wind from (°)", "number",
+     num(format="%.0f", help="Direction the wind came from during the readings, degrees "
+                             "clockwise from north")),
+    ("position_speed_ms", f"position readings ({S})", "speedlist",
+     st.column_config.TextColumn(help="Handheld readings at the position's hub height, "
+                                      "comma-separated, in the order taken")),
+    ("reference_speed_ms", f"reference readings ({S})", "speedlist",
+     st.column_config.TextColumn(help="The reference's readings at the same moments, one per "
+                                      "position reading, in the same order")),
+    ("reference_height_m", f"ref. height ({L})", "length",
+     num(format="%.1f", help="Height of the reference reading above the ground")),
+    ("use_for_calibration", "use for calibration", "bool",
+     st.column_config.CheckboxColumn(help="Put the measured speed-up in place of the model's "
+                                          "for this position and the sector of the reading")),
+    ("note", "note", "text", None),
+]
+SP_LABELS = {f: lab for f, lab, _, _ in SP_COLS}
+with st.expander("Spot readings (handheld beside a reference)", expanded=False):
+    st.caption("Short paired readings: a handheld anemometer at a candidate position, taken "
+               "at its hub height, and at the same moments the reference the climate "
+               "describes (its station, or a sensor standing in for it). The results set the "
+               "measured speed-up beside the model's for the sector the wind came from; a row "
+               "marked for calibration replaces the model's speed-up there. At least 3 pairs "
+               "a row, one reference reading per position reading, in the order taken. A few "
+               "minutes of one weather situation are indicative only: the interval states "
+               "sampling error, not how representative the minutes were.")
+    st.caption("Reading on a roof is work at height: see the safety cautions.")
+    srow = widgets.table("spot_readings", draft.get("spot_readings", []), SP_COLS,
+                         disabled=not edit)
+    for r in srow:
+        if r.get("position_id") is None:
+            r["position_id"] = ""
+        if r.get("note") is None:
+            r["note"] = ""
+    changed |= srow != draft.get("spot_readings", [])
+    draft["spot_readings"] = srow
+
 if changed:
     before = state.complete("layout")
     state.validate()
@@ -82,6 +124,7 @@ if changed:
 widgets.row_messages("buildings", rows, B_LABELS)
 widgets.row_messages("positions", prow, P_LABELS)
 widgets.row_messages("receptors", rrow, {f: lab for f, lab, _, _ in R_COLS})
+widgets.row_messages("spot_readings", srow, SP_LABELS, id_field="position_id")
 
 if not state.step_problems("layout"):
     st.vega_lite_chart(cache.chart_spec("plan", state.draft_text(), state.unit_of("speed"), L),
