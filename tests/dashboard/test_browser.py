@@ -158,3 +158,27 @@ def test_screen_the_demo_district_and_open_the_top_building(page, dashboard_url)
     expect(page.get_by_test_id("stSidebar")).to_contain_text(f"screening: building {top}")
     page.mouse.move(0, 0)  # no hover toolbar in the picture
     shot(page, "browser-7b-screening-opened")
+
+
+def test_spot_readings_editor_on_the_layout_step(page, dashboard_url):
+    """The layout step's spot readings open in an expander: caption, caution and the table."""
+    from playwright.sync_api import expect
+
+    page.goto(dashboard_url)
+    idle(page)
+    page.get_by_role("link", name=re.compile(r"^3\. Buildings & positions")).click()
+    idle(page)
+    expect(page.get_by_role("heading", name="3. Buildings & positions")).to_be_visible()
+    page.get_by_text("Spot readings (handheld beside a reference)").click()
+    idle(page)
+    panel = page.get_by_test_id("stExpander").filter(has_text="Spot readings")
+    expect(panel.get_by_text("indicative only", exact=False)).to_be_visible()
+    expect(panel.get_by_text("work at height", exact=False)).to_be_visible()
+    grid = panel.get_by_test_id("stDataFrame")
+    expect(grid).to_be_visible()
+    box = grid.bounding_box()
+    assert box and box["width"] > 600 and box["height"] > 60  # a table with its row, not a stub
+    expect(page.get_by_text("All steps complete.")).to_be_visible()
+    panel.scroll_into_view_if_needed()
+    page.mouse.move(0, 0)
+    shot(page, "browser-9-spot-readings")
