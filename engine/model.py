@@ -434,6 +434,11 @@ class SpotReading:
         for name in ("position_speed_ms", "reference_speed_ms"):
             for i, v in enumerate(getattr(self, name)):
                 check_range(p, f"{name}[{i}]", v, 0, 60, "m/s")
+        if self.reference_speed_ms and not any(
+                isinstance(v, (int, float)) and v > 0 for v in self.reference_speed_ms):
+            # The speed-up is a ratio to the reference: no reference wind, nothing to set.
+            p.add("reference_speed_ms",
+                  "all reference readings are 0 m/s; record readings while the wind blows")
         _raise(p)
 
 

@@ -116,6 +116,7 @@ def test_added_reading_in_mph_and_feet_is_stored_in_si():
     ("5, 6", "4, 5", "position readings (m/s)", "at least 3 paired readings"),
     ("5, 6, 7", "4, 5", "reference readings (m/s)", "one reference reading per"),
     ("5, x, 7", "4, 5, 6", "position readings (m/s)", "must be a number"),
+    ("5, 6, 7", "0, 0, 0", "reference readings (m/s)", "while the wind blows"),
 ])
 def test_bad_reading_is_named_by_row_and_column(pos, ref, column, words):
     """Two pairs, lists of unequal length or an unreadable entry: the message names the row

@@ -48,6 +48,14 @@ def test_calm_reference_is_an_input_error():
     with pytest.raises(InputError) as e:
         spot.speed_ratio_through_origin([1.0, 2.0, 1.5], [0.0, 0.0, 0.0])
     assert "reference_speed_ms" in str(e.value) and "wind blows" in str(e.value)
+    # A site file's reading is refused as it is read, naming the field, before any evaluation.
+    from engine import model
+    with pytest.raises(InputError) as e:
+        model.SpotReading(position_id="p", direction_deg=90.0,
+                          position_speed_ms=(1.0, 2.0, 1.5), reference_speed_ms=(0.0, 0.0, 0.0))
+    assert "reference_speed_ms" in str(e.value) and "wind blows" in str(e.value)
+    model.SpotReading(position_id="p", direction_deg=90.0, position_speed_ms=(1.0, 2.0, 1.5),
+                      reference_speed_ms=(0.0, 0.5, 1.0))  # some wind: accepted
 
 
 def test_sector_index_wraps_north():
