@@ -67,9 +67,11 @@ with st.sidebar:
     if found:
         st.info(f"Work from an earlier session was autosaved on "
                 f"{found[1]:%Y-%m-%d %H:%M} UTC.")
-        c1, c2 = st.columns(2)
-        c1.button("Restore it", key="autosave_restore", on_click=state.restore_autosave)
-        c2.button("Keep the demo", key="autosave_dismiss", on_click=state.dismiss_autosave)
+        # One above the other: side by side the sidebar cut the second label short.
+        st.button("Restore it", key="autosave_restore", on_click=state.restore_autosave,
+                  width="stretch")
+        st.button("Keep the demo", key="autosave_dismiss", on_click=state.dismiss_autosave,
+                  width="stretch")
     if st.session_state.get("autosave_error"):
         st.warning(st.session_state["autosave_error"])
     n_bad = sum(1 for k, _, _ in state.STEPS if not state.complete(k))
