@@ -285,7 +285,7 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
                             alt.Color("place:Q", title="position order",
                                       scale=alt.Scale(range=RANK_SCHEME, domain=[1, n_rank]),
                                       legend=alt.Legend(format="d"))),
-        shape=alt.Shape("kind:N", title="position",
+        shape=alt.Shape("kind:N", title="kind of position",
                         scale=alt.Scale(domain=["roof", "gap", "mast"],
                                         range=["circle", "diamond", "triangle-up"]))
     ).add_params(alt.selection_point(name=PICK, fields=["position_id"], on="click",

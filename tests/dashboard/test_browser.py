@@ -182,3 +182,27 @@ def test_spot_readings_editor_on_the_layout_step(page, dashboard_url):
     panel.scroll_into_view_if_needed()
     page.mouse.move(0, 0)
     shot(page, "browser-9-spot-readings")
+
+
+def test_clicking_a_position_on_the_plan_shows_its_detail(page, dashboard_url):
+    """A click on a position's mark in the results plan makes it the position in detail."""
+    from playwright.sync_api import expect
+
+    page.goto(dashboard_url)
+    idle(page)
+    page.get_by_role("link", name=re.compile("^5. Results")).click()
+    idle(page)
+    # Two selectors are labelled Position: the what-if's (first) and the detail's (second).
+    detail = page.get_by_role("combobox", name="Position", exact=True).nth(1)
+    expect(detail).to_be_visible()
+    start = detail.input_value()
+    assert start and start != "yard-mast"  # the detail starts on the best position
+    plan = page.locator('[data-testid="stVegaLiteChart"]').first
+    # The demo's yard mast stands at x = -45 m, y = -30 m (its site file); vega labels each
+    # mark with its fields, the minus as U+2212.
+    mark = plan.locator('path[aria-label^="x: \u221245; y: \u221230;"]').first
+    expect(mark).to_be_attached()
+    mark.click(force=True)
+    idle(page)
+    expect(detail).to_have_value("yard-mast")
+    shot(page, "browser-10-plan-click")
