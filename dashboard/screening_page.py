@@ -56,7 +56,10 @@ st.caption("A first pass over many buildings: roughness of each building's surro
            "the table itself, a mast at the roof's centre that clears the roof's turbulence "
            "zone, yield of each chosen turbine with the same engine as the detailed "
            "assessment, and a class with its reasons. It says which roofs are worth a visit, "
-           "not which are safe or consented.")
+           "not which are safe or consented. The yields assume the mast shown for each "
+           "building, tall enough to clear the roof's turbulence zone: a turbine on a short "
+           "bracket sits inside that zone and gives far less, as most did in the published "
+           "field trials.")
 widgets.cautions()
 
 valid = st.session_state["valid"]
