@@ -382,9 +382,7 @@ def duplicate_problems(ids: pd.Series, lines: pd.Series) -> pd.DataFrame:
     if len(set(values.tolist())) == len(values):  # the usual case, by a set of Python str
         return pd.DataFrame({"line": np.array([], np.int64), "id": [], "problem": []})
     ids = pd.Series(values, dtype=object)
-    hit = ids.duplicated(keep=False).to_numpy()
-    if not hit.any():
-        return pd.DataFrame({"line": np.array([], np.int64), "id": [], "problem": []})
+    hit = ids.duplicated(keep=False).to_numpy()  # some id repeats (the set was shorter)
     dup = pd.DataFrame({"id": ids[hit].reset_index(drop=True),
                         "line": np.asarray(lines, np.int64)[hit]})
     lines_of = dup.groupby("id")["line"].apply(lambda s: sorted(s.tolist()))
@@ -1254,7 +1252,7 @@ def _ranked_frame(results: list, ctx: ScreeningContext) -> pd.DataFrame:
     """Parts' result arrays joined, put in ranking order and made one frame (as
     :func:`rank_results` of the parts' frames, without sorting a frame). The parts' dicts
     are emptied on the way."""
-    from .screening_merge import ranking_order
+    from .screening_merge import descending_aep_key, ranking_order
 
     if not results:
         return rank_results(_empty_result(ctx))
@@ -1264,10 +1262,8 @@ def _ranked_frame(results: list, ctx: ScreeningContext) -> pd.DataFrame:
     for c in result_columns(ctx.turbines):
         cols[c] = (np.concatenate([r.pop(c) for r in results]) if len(results) > 1
                    else results[0].pop(c))
-    aep = cols["best_aep_kwh"]
-    order = ranking_order(cols["suitability_code"], np.where(np.isnan(aep), np.inf, -aep),
+    order = ranking_order(cols["suitability_code"], descending_aep_key(cols["best_aep_kwh"]),
                           cols["id"])
-    del aep
     for c in list(cols):
         cols[c] = cols[c].take(order)
     cols["rank"] = np.arange(1, len(order) + 1, dtype=np.int64)

@@ -168,6 +168,13 @@ def block_rows_for(n_files: int, buffer_rows: int = MERGE_BUFFER_ROWS) -> int:
     return int(min(MAX_BLOCK_ROWS, max(MIN_BLOCK_ROWS, buffer_rows // max(n_files, 1))))
 
 
+def descending_aep_key(aep) -> np.ndarray:
+    """−AEP, with a missing AEP as +∞: ascending order of it is the ranking's AEP order
+    (pandas' ``sort_values`` puts NaN last in either direction)."""
+    aep = np.asarray(aep, float)
+    return np.where(np.isnan(aep), np.inf, -aep)
+
+
 def rank_key_arrays(frame: pd.DataFrame):
     """The ranking key as arrays: class code, negated AEP (NaN last) and id.
 
@@ -178,8 +185,7 @@ def rank_key_arrays(frame: pd.DataFrame):
     free place for it).
     """
     code = frame["suitability_code"].to_numpy(np.int64)
-    aep = frame["best_aep_kwh"].to_numpy(float)
-    neg = np.where(np.isnan(aep), np.inf, -aep)
+    neg = descending_aep_key(frame["best_aep_kwh"].to_numpy(float))
     ids = frame["id"].to_numpy(object)
     return code, neg, ids
 
