@@ -2,12 +2,12 @@
 
 Measured side by side in one run:
 
-1. the whole chain (read the file, :func:`engine.timeseries.read_record`,
-   :func:`engine.qc.run_qc`, :func:`engine.climate.climate_from_record`) on an invented
+1. the whole chain (read the file, :func:`engine.io.records.read_record`,
+   :func:`engine.climate.qc.run_qc`, :func:`engine.climate.fit.climate_from_record`) on an invented
    10-year, 525,600-row record made on the fly (seeded, ``demo_sites/make_records.py``),
    in a fresh child process so its peak resident memory is the chain's own;
 2. the vectorised sector binning (counts, sums of V and V³ per sector,
-   :func:`engine.climate.sector_sums`, blocked so its scratch arrays stay in cache) against a
+   :func:`engine.climate.fit.sector_sums`, blocked so its scratch arrays stay in cache) against a
    straightforward per-row Python loop doing the same binning on the same arrays; the two
    must agree. Beside it: the same call keeping each record's sector (as the chain does) and
    the previous whole-array formulation, for the record.
@@ -55,7 +55,9 @@ def child(path: str) -> None:
     first_peak_mb = 0.0
     if hasattr(os, "sched_setaffinity"):
         os.sched_setaffinity(0, {min(os.sched_getaffinity(0))})  # "on one core"
-    from engine import climate, qc, timeseries
+    from engine.climate import fit as climate
+    from engine.climate import qc
+    from engine.io import records as timeseries
     base_mb = peak_rss_mb()
     runs = []
     for _ in range(3):
@@ -82,20 +84,20 @@ def child(path: str) -> None:
 
 
 def bin_vectorised(v, d, n):
-    """The engine's binning, :func:`engine.climate.sector_sums` (what the chain calls)."""
-    from engine.climate import sector_sums
+    """The engine's binning, :func:`engine.climate.fit.sector_sums` (what the chain calls)."""
+    from engine.climate.fit import sector_sums
     return sector_sums(v, d, n)
 
 
 def bin_vectorised_with_index(v, d, n):
     """The same, also keeping each record's sector (the chain needs it for the fits)."""
-    from engine.climate import sector_sums
+    from engine.climate.fit import sector_sums
     return sector_sums(v, d, n, index_out=np.empty(v.size, np.intp))
 
 
 def bin_whole_arrays(v, d, n):
     """The previous formulation: whole-record temporaries and three bincounts."""
-    from engine.climate import sector_index
+    from engine.climate.fit import sector_index
     s = sector_index(d, n)
     return (np.bincount(s, minlength=n), np.bincount(s, v, minlength=n),
             np.bincount(s, v * v * v, minlength=n))
@@ -127,7 +129,7 @@ def main() -> int:
                              text=True, check=True, env={**os.environ, "OMP_NUM_THREADS": "1",
                                                          "OPENBLAS_NUM_THREADS": "1"})
     res = json.loads(out.stdout)
-    from engine import timeseries
+    from engine.io import records as timeseries
     rec = timeseries.read_record(data, "ten_years_10min.csv")
     v, d = rec.si("speed"), rec.si("direction")
     # Interleave the two, best of several, so both see the same machine load.

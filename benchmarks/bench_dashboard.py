@@ -41,7 +41,8 @@ def rss_mb(pid: int) -> float:
 
 
 def chain_ms(repeats: int = 20) -> float:
-    from engine import pipeline, sitefile
+    from engine.chain import pipeline
+    from engine.io import sitefile
     a = sitefile.load(ROOT / "demo_sites" / "larkspur_yard.json")
     pipeline.evaluate(a)
     t = []

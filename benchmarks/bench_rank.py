@@ -16,7 +16,11 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from engine import air, energy, flow, pipeline, sitefile  # noqa: E402
+from engine.climate import air  # noqa: E402
+from engine.energy import aep as energy  # noqa: E402
+from engine.flow import effective as flow  # noqa: E402
+from engine.chain import pipeline  # noqa: E402
+from engine.io import sitefile  # noqa: E402
 
 
 def nested_loop_aep_wh(eff, turbines, edges):

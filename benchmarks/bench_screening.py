@@ -9,7 +9,7 @@ Prints, from one run, side by side:
 * building-turbine evaluations per second per core (target >= 200,000 locally);
 * the peak memory of the local engine for the largest size (target < 2 GB), measured as the
   maximum resident set size of a fresh child process;
-* the yield stage alone (``engine.energy.prepare_bins`` and ``energy_wh``) against the previous
+* the yield stage alone (``engine.energy.aep.prepare_bins`` and ``energy_wh``) against the previous
   formulation kept here (the curve gathered for every building, turbine and sector, the
   Weibull powers taken per turbine), on the same arrays, interleaved, best of 3, in chunks of
   the screening's ``chunk_rows`` (``--energy-only`` runs just this);
@@ -67,12 +67,13 @@ def peak_rss_mb() -> float:
 
 
 def _context():
-    from engine import screening, sitefile
+    from engine.screening import core as screening
+    from engine.io import sitefile
     return screening.context_from_assessment(sitefile.load(ROOT / "demo_sites" / "larkspur_yard.json"))
 
 
 class _BeforeSetup:
-    """Stands in for engine.energy.BinsSetup with the previous formulation (energy only)."""
+    """Stands in for engine.energy.aep.BinsSetup with the previous formulation (energy only)."""
 
     def __init__(self, *args):
         self.args = args
@@ -91,7 +92,8 @@ def child_local(path: str, before: bool = False, library: bool = False) -> None:
     """
     import pandas as pd
 
-    from engine import energy, screening
+    from engine.energy import aep as energy
+    from engine.screening import core as screening
     if before:
         energy.prepare_bins = lambda f, k, c, ti, skew, turbs, rho: _BeforeSetup(
             f, k, c, ti, skew, turbs, rho)
@@ -99,7 +101,7 @@ def child_local(path: str, before: bool = False, library: bool = False) -> None:
     if library:
         from dataclasses import replace
 
-        from engine import turbines
+        from engine.energy import turbines
         ctx = replace(ctx, turbines=tuple(turbines.load_library()))
     # Warm-up on a few rows: lazy imports and first calls are not the screening's cost.
     screening.screen_local(pd.read_csv(path, nrows=50), ctx)
@@ -166,7 +168,7 @@ def run_dask(paths: dict) -> dict:
     (results gathered to this process, partition by partition)."""
     from distributed import Client
 
-    from engine import screening
+    from engine.screening import core as screening
     ctx = _context()
     results = {}
     with _cluster() as cluster, Client(cluster) as client:
@@ -195,7 +197,7 @@ def child_beyond(path: str, memory_limit: int, n_workers: int) -> None:
     partitions; this (fresh) process merges them into the ranked CSV. Prints one JSON line."""
     from distributed import Client
 
-    from engine import screening
+    from engine.screening import core as screening
     ctx1 = _one_turbine_context()
     out = Path(path).with_suffix(".out.csv")
     with _cluster(memory_limit, n_workers) as cluster, Client(cluster) as client:
@@ -218,7 +220,7 @@ def run_beyond(n: int, tmp: Path, memory_limit=BEYOND_WORKER_LIMIT, n_workers=2)
     import pandas as pd
 
     import make_district
-    from engine import screening
+    from engine.screening import core as screening
     ctx1 = _one_turbine_context()
     path = make_district.write_district(n, tmp / f"district_{n}.csv")
     sample_rows = pd.read_csv(path, nrows=20_000)
@@ -253,7 +255,7 @@ def energy_before(f, k, c, ti, skew, turbs, rho):
     """Net-free energy [Wh] by the previous formulation: (P, T, S, J) curves gathered per row."""
     import numpy as np
 
-    from engine import energy
+    from engine.energy import aep as energy
     edges = energy.DEFAULT_EDGES_MS
     skew_f = np.stack([energy.skew_speed_factor(skew, t.axis) for t in turbs], axis=1)
     grid = energy.ti_grid_for(ti)
@@ -267,7 +269,7 @@ def energy_before(f, k, c, ti, skew, turbs, rho):
 
 def energy_after(f, k, c, ti, skew, turbs, rho):
     """Energy [Wh] as the engine now computes it (the detailed assessment's function)."""
-    from engine import energy
+    from engine.energy import aep as energy
     return energy.prepare_bins(f, k, c, ti, skew, turbs, rho).energy_wh(1.0)
 
 

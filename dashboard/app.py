@@ -1,7 +1,7 @@
 """Perch dashboard: a guided small-wind siting assessment.
 
 Run with ``streamlit run dashboard/app.py`` from the repository root. The pages read widgets,
-build the engine's dataclasses, call :func:`engine.pipeline.evaluate` and draw the results;
+build the engine's dataclasses, call :func:`engine.chain.pipeline.evaluate` and draw the results;
 no model lives here.
 """
 from __future__ import annotations
@@ -16,7 +16,7 @@ if str(ROOT) not in sys.path:
 import streamlit as st  # noqa: E402
 
 from dashboard import state, widgets  # noqa: E402
-from engine import units  # noqa: E402
+from engine.core import units  # noqa: E402
 
 st.set_page_config(page_title="Perch: small wind siting", page_icon=":material/air:", layout="wide")
 

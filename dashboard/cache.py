@@ -10,7 +10,8 @@ from pathlib import Path
 
 import streamlit as st
 
-from engine import pipeline, sitefile
+from engine.chain import pipeline
+from engine.io import sitefile
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO_SITE = ROOT / "demo_sites" / "larkspur_yard.json"
@@ -32,7 +33,7 @@ def evaluate_text(text: str):
 def turbine_library() -> tuple:
     """The invented generic turbines shipped with the engine (empty if none are shipped)."""
     try:
-        from engine import turbines
+        from engine.energy import turbines
     except ImportError:
         return ()
     return turbines.load_library()
@@ -44,7 +45,8 @@ def climate_from_upload(data: bytes, file_name: str, height_m: float, roughness_
                         altitude_m: float):
     """Measured record -> (climate dict, quality-control text, import notes), cached on the
     file's bytes and the settings."""
-    from engine import climate, sitefile
+    from engine.climate import fit as climate
+    from engine.io import sitefile
     clim, report, diag = climate.climate_from_csv_bytes(
         data, file_name, height_m=height_m, roughness_m=roughness_m,
         displacement_m=displacement_m, n_sectors=n_sectors, speed_unit=speed_unit,
@@ -62,7 +64,7 @@ def chart_spec(kind: str, text: str, speed_unit: str, length_unit: str,
     """
     from altair.utils.schemapi import debug_mode
 
-    from engine import charts
+    from engine.report import charts
     ev = evaluate_text(text)
     a = ev.assessment
     with debug_mode(False):
@@ -76,7 +78,7 @@ def chart_spec(kind: str, text: str, speed_unit: str, length_unit: str,
             chart = charts.speed_distribution(ev, position_id, speed_unit)
         elif kind == "profile":
             try:
-                from engine.report_charts import roof_zone_bands
+                from engine.report.static_charts import roof_zone_bands
                 zones = roof_zone_bands(ev, position_id)
             except (ImportError, ValueError, KeyError):
                 zones = []

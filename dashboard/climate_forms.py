@@ -7,16 +7,17 @@ import json
 import pandas as pd
 import streamlit as st
 
-from engine import charts, units
-from engine.errors import InputError
-from engine.weibull import mixture_mean_ms
+from engine.report import charts
+from engine.core import units
+from engine.core.errors import InputError
+from engine.climate.weibull import mixture_mean_ms
 
 from . import cache, state, widgets
 
 
 def _engine_climate():
     try:
-        from engine import climate
+        from engine.climate import fit as climate
     except ImportError:
         return None
     return climate
@@ -150,7 +151,7 @@ def _mean_form() -> None:
             height_m=float(clim.get("height_m") or 10.0),
             roughness_m=float(clim.get("roughness_m") or 0.03),
             displacement_m=float(clim.get("displacement_m") or 0.0))
-        from engine import sitefile
+        from engine.io import sitefile
         new = sitefile.assessment_to_dict(built)
         if new != clim:
             state.set_path("climate", new)

@@ -4,8 +4,10 @@ from __future__ import annotations
 import json
 import re
 
-from engine import cli, exports, sitefile
-from engine.errors import InputError
+from engine.chain import documents
+from engine.io import exports
+from engine.io import sitefile
+from engine.core.errors import InputError
 
 
 def file_stem(assessment) -> str:
@@ -19,7 +21,7 @@ def content_sha(assessment) -> str:
 
 
 def site_file_bytes(assessment) -> bytes:
-    """The site file, exactly as :func:`engine.sitefile.dumps` writes it."""
+    """The site file, exactly as :func:`engine.io.sitefile.dumps` writes it."""
     return sitefile.dumps(assessment).encode("utf-8")
 
 
@@ -30,14 +32,14 @@ def rank_csv_bytes(evaluation) -> bytes:
 
 def rank_json_bytes(evaluation) -> bytes:
     """The same document as ``python -m engine rank --format json``."""
-    return (json.dumps(cli.rank_document(evaluation), indent=2, ensure_ascii=False)
+    return (json.dumps(documents.rank_document(evaluation), indent=2, ensure_ascii=False)
             + "\n").encode("utf-8")
 
 
 def report_builders():
     """The siting summary's builders when the engine has them, else None."""
     try:
-        from engine import report
+        from engine.report import summary as report
     except ImportError:
         return None
     if all(hasattr(report, n) for n in ("build_summary", "render_html", "render_pdf")):

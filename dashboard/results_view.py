@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from engine import units
+from engine.core import units
 
 #: Columns shown in the ranked table, in this order, when the chain provides them.
 SHOWN = ("rank", "position_id", "turbine_id", "kind", "hub_height_m", "mean_speed_ms",

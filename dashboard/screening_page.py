@@ -1,12 +1,12 @@
 """District screening page: which roofs of a whole portfolio are worth a visit?
 
 Upload a buildings table (or take the invented demo district), screen it with the current
-assessment's climate, site and turbines (:func:`engine.screening.screen_local`), then look at
+assessment's climate, site and turbines (:func:`engine.screening.core.screen_local`), then look at
 the plan, sort the shortlist and open one building in the detailed assessment. The page only
-arranges and calls: every number comes from :mod:`engine.screening`.
+arranges and calls: every number comes from :mod:`engine.screening.core`.
 
-"Open in detailed assessment" leaves the building's :class:`engine.model.Assessment` in
-``st.session_state[engine.screening.SESSION_KEY]`` (``"screening_assessment"``) and makes it
+"Open in detailed assessment" leaves the building's :class:`engine.core.model.Assessment` in
+``st.session_state[engine.screening.core.SESSION_KEY]`` (``"screening_assessment"``) and makes it
 the working copy of the detailed steps.
 """
 from __future__ import annotations
@@ -17,9 +17,10 @@ from pathlib import Path
 import streamlit as st
 
 from dashboard import state, widgets
-from engine import screening, sitefile
-from engine.errors import InputError
-from engine.exports import safe_csv
+from engine.screening import core as screening
+from engine.io import sitefile
+from engine.core.errors import InputError
+from engine.io.exports import safe_csv
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO_DISTRICT = ROOT / "demo_sites" / "district_1000.csv"

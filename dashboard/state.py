@@ -3,7 +3,7 @@
 The working copy (``draft``) is a site-file dict: exactly what a site file holds, in SI, and
 it may be invalid while someone is typing. Every widget writes into it, so nothing typed is
 lost on a rerun, an error or a page change. ``valid`` is the last
-:class:`~engine.model.Assessment` built from it without problems; the results always come
+:class:`~engine.core.model.Assessment` built from it without problems; the results always come
 from that one, and a step whose inputs have problems says so.
 """
 from __future__ import annotations
@@ -13,8 +13,10 @@ import json
 
 import streamlit as st
 
-from engine import autosave, sitefile, units
-from engine.errors import InputError
+from engine.io import autosave
+from engine.io import sitefile
+from engine.core import units
+from engine.core.errors import InputError
 
 from . import cache
 

@@ -14,7 +14,8 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-from engine import model, sitefile  # noqa: E402
+from engine.core import model  # noqa: E402
+from engine.io import sitefile  # noqa: E402
 
 SEED = 20261201
 OUT = Path(__file__).with_name("larkspur_yard.json")

@@ -3,4 +3,4 @@
 The engine never imports the dashboard framework; the dashboard, the command line and the
 siting summary all call the same functions here.
 """
-__version__ = "0.1.0"
+from engine.core import __version__

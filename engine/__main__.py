@@ -1,6 +1,6 @@
 """``python -m engine``: the command line."""
 import sys
 
-from .cli import main
+from engine.cli import main
 
 sys.exit(main())

@@ -2,7 +2,7 @@
 import streamlit as st
 
 from dashboard import cache, state, widgets
-from engine import model
+from engine.core import model
 
 widgets.step_banner("layout", "3. Buildings & positions")
 st.caption("Local plan coordinates: x east, y north, from any fixed point on the site. "

@@ -3,7 +3,7 @@ import numpy as np
 import streamlit as st
 
 from dashboard import cache, results_view, state, widgets
-from engine import units
+from engine.core import units
 
 ss = st.session_state
 widgets.step_banner("results", "5. Results")

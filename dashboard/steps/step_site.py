@@ -4,8 +4,8 @@ import json
 import streamlit as st
 
 from dashboard import state, widgets
-from engine import sitefile
-from engine.errors import InputError
+from engine.io import sitefile
+from engine.core.errors import InputError
 
 widgets.step_banner("site", "1. Site")
 st.caption("Where the site is and what surrounds it. Heights and roughness set how the "

@@ -2,8 +2,10 @@
 import streamlit as st
 
 from dashboard import cache, state, widgets
-from engine import charts, model, sitefile
-from engine.errors import InputError
+from engine.report import charts
+from engine.core import model
+from engine.io import sitefile
+from engine.core.errors import InputError
 
 widgets.step_banner("turbines", "4. Turbines & costs")
 st.caption("The turbines to try at every position. Power curves are entered as published "
@@ -36,7 +38,7 @@ T_LABELS.update(curve_speed_ms="power curve speeds", curve_power_w="power curve 
 
 def _use_curve_file(i: int, upload_key: str) -> None:
     """Replace turbine ``i``'s curve by an uploaded table (read and checked by the engine)."""
-    from engine import turbines
+    from engine.energy import turbines
     up = ss.get(upload_key)
     ss["curve_problems"], ss["curve_note"] = [], ""
     if up is None:

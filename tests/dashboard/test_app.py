@@ -11,7 +11,10 @@ import pytest
 from streamlit.testing.v1 import AppTest
 
 from dashboard import exports, results_view
-from engine import cli, pipeline, sitefile
+from engine import cli
+from engine.chain import documents
+from engine.chain import pipeline
+from engine.io import sitefile
 
 ROOT = Path(__file__).resolve().parents[2]
 APP = str(ROOT / "dashboard" / "app.py")
@@ -215,7 +218,7 @@ def test_exports_are_the_engine_documents(demo_eval):
     assert list(csv["position_id"]) == list(demo_eval.table["position_id"])
     assert "hub_height_m" in csv.columns and "aep_kwh" in csv.columns
     doc = json.loads(exports.rank_json_bytes(demo_eval))
-    assert doc == json.loads(json.dumps(cli.rank_document(demo_eval)))
+    assert doc == json.loads(json.dumps(documents.rank_document(demo_eval)))
     assert exports.file_stem(demo_eval.assessment) == "larkspur-yard-invented-demo-estate"
 
 

@@ -4,7 +4,7 @@ from pathlib import Path
 
 from streamlit.testing.v1 import AppTest
 
-from engine import autosave
+from engine.io import autosave
 
 APP = str(Path(__file__).resolve().parents[2] / "dashboard" / "app.py")
 

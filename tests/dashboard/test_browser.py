@@ -6,7 +6,8 @@ import re
 import pytest
 
 from conftest import ARTIFACTS, ROOT
-from engine import screening, sitefile
+from engine.screening import core as screening
+from engine.io import sitefile
 
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 

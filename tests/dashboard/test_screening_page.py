@@ -16,7 +16,9 @@ import pyarrow as pa
 import pytest
 from streamlit.testing.v1 import AppTest
 
-from engine import pipeline, screening, sitefile
+from engine.chain import pipeline
+from engine.screening import core as screening
+from engine.io import sitefile
 
 ROOT = Path(__file__).resolve().parents[2]
 APP = str(ROOT / "dashboard" / "app.py")

@@ -13,7 +13,8 @@ import numpy as np
 import pytest
 
 from dashboard import exports
-from engine import pipeline, sitefile
+from engine.chain import pipeline
+from engine.io import sitefile
 
 from test_app import DEMO, _app, _go
 

@@ -3,7 +3,8 @@ from pathlib import Path
 
 import pytest
 
-from engine import screening, sitefile
+from engine.screening import core as screening
+from engine.io import sitefile
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"

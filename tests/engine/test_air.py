@@ -1,9 +1,9 @@
-"""Air density (engine.air): ISA barometric formula and measured pressure/temperature."""
+"""Air density (engine.climate.air): ISA barometric formula and measured pressure/temperature."""
 import numpy as np
 import pytest
 
-from engine import air
-from engine.model import Site
+from engine.climate import air
+from engine.core.model import Site
 
 
 def test_isa_sea_level_15c():

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pytest
 
-from engine import sitefile
+from engine.io import sitefile
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
@@ -39,7 +39,7 @@ def _big(a, n_positions=300):
 CHILD = textwrap.dedent("""
     import os, sys, time
     sys.path.insert(0, {root!r})
-    from engine import sitefile
+    from engine.io import sitefile
     a = sitefile.loads(open({src!r}, "rb").read())
     stop_at = {stop_at!r}
     real_replace, real_fsync = os.replace, os.fsync

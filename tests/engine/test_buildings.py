@@ -4,8 +4,8 @@ import math
 import numpy as np
 import pytest
 
-from engine import buildings as geom
-from engine import model
+from engine.flow import buildings as geom
+from engine.core import model
 
 
 def test_projections_of_a_block_along_and_across_its_length():

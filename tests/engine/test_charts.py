@@ -8,7 +8,10 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from engine import charts, model, pipeline, sitefile
+from engine.report import charts
+from engine.core import model
+from engine.chain import pipeline
+from engine.io import sitefile
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
 

@@ -1,4 +1,4 @@
-"""Climate from data, from a table and from a mean speed (engine.climate)."""
+"""Climate from data, from a table and from a mean speed (engine.climate.fit)."""
 import hashlib
 import math
 
@@ -7,9 +7,9 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from engine import climate
-from engine.errors import InputError
-from engine.weibull import mixture_mean_ms
+from engine.climate import fit as climate
+from engine.core.errors import InputError
+from engine.climate.weibull import mixture_mean_ms
 
 
 def test_mle_matches_scipy_fit():
@@ -59,7 +59,7 @@ def test_grouped_fit_equals_separate_fits():
 
 
 def test_sector_index_convention():
-    """Sector i is centred on i·360/n; 345..15 deg is sector 0 of 12 (engine.model convention)."""
+    """Sector i is centred on i·360/n; 345..15 deg is sector 0 of 12 (engine.core.model convention)."""
     d = np.array([0.0, 14.99, 15.0, 344.99, 345.0, 360.0, 359.9, 180.0])
     assert climate.sector_index(d, 12).tolist() == [0, 0, 1, 11, 0, 0, 0, 6]
 

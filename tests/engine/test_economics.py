@@ -2,7 +2,8 @@
 import numpy as np
 import pytest
 
-from engine import economics, model
+from engine.energy import economics
+from engine.core import model
 
 
 def test_capital_recovery_factor_tables():

@@ -7,8 +7,13 @@ from hypothesis import given, settings, strategies as st
 from scipy import integrate, stats
 from scipy.special import gamma
 
-from engine import energy, model, pipeline, sitefile, turbines, uncertainty
-from engine.energy import HOURS_PER_YEAR
+from engine.energy import aep as energy
+from engine.core import model
+from engine.chain import pipeline
+from engine.io import sitefile
+from engine.energy import turbines
+from engine.energy import uncertainty
+from engine.energy.aep import HOURS_PER_YEAR
 
 # REFERENCES.md (IEC 61400-12-1 method of bins, derived): a 1 m/s curve, W at 0..20 m/s.
 REF_CURVE_W = [0, 0, 0, 20, 60, 120, 210, 330, 490, 680, 850, 950] + [1000] * 9

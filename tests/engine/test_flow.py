@@ -6,8 +6,11 @@ import pandas as pd
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from engine import flow, model, pipeline, roofzones
-from engine.errors import InputError
+from engine.flow import effective as flow
+from engine.core import model
+from engine.chain import pipeline
+from engine.flow import roofzones
+from engine.core.errors import InputError
 
 
 def _turbine(rated_w=1000.0, diameter_m=2.0, cp=0.3):

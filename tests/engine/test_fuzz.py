@@ -12,8 +12,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine import exports, sitefile
-from engine.errors import InputError
+from engine.io import exports
+from engine.io import sitefile
+from engine.core.errors import InputError
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
@@ -65,22 +66,22 @@ def parse_site(data: bytes, tmp_path):
 
 
 def parse_curve(data: bytes, tmp_path):
-    turbines = pytest.importorskip("engine.turbines")
+    turbines = pytest.importorskip("engine.energy.turbines")
     return turbines.read_power_curve_csv(data)
 
 
 def parse_record(data: bytes, tmp_path):
-    timeseries = pytest.importorskip("engine.timeseries")
+    timeseries = pytest.importorskip("engine.io.records")
     return timeseries.read_record(data, "fuzz.csv")
 
 
 def parse_climate(data: bytes, tmp_path):
-    climate = pytest.importorskip("engine.climate")
+    climate = pytest.importorskip("engine.climate.fit")
     return climate.climate_from_csv_bytes(data, "fuzz.csv", height_m=10.0)
 
 
 def parse_buildings(data: bytes, tmp_path):
-    screening = pytest.importorskip("engine.screening")
+    screening = pytest.importorskip("engine.screening.core")
     path = tmp_path / "buildings.csv"
     path.write_bytes(data)
     ctx = screening.context_from_assessment(sitefile.load(DEMO))
@@ -247,14 +248,14 @@ def test_site_file_size_limit_is_checked_before_parsing(tmp_path):
 
 def test_record_size_limit_is_checked_before_parsing(tmp_path):
     """A measured record over its byte limit is refused at once with the limit."""
-    timeseries = pytest.importorskip("engine.timeseries")
+    timeseries = pytest.importorskip("engine.io.records")
     with pytest.raises(InputError, match="limit"):
         timeseries.read_record(b"x" * 2_000_001, "big.csv", max_bytes=2_000_000)
 
 
 def test_curve_size_limit_is_checked_before_parsing():
     """A power-curve table over its byte limit is refused with the limit in MB."""
-    turbines = pytest.importorskip("engine.turbines")
+    turbines = pytest.importorskip("engine.energy.turbines")
     with pytest.raises(InputError, match="MB"):
         turbines.read_power_curve_csv(b"1,1\n" * (turbines.MAX_CURVE_FILE_BYTES // 4 + 1))
 
@@ -268,7 +269,7 @@ def test_formula_text_in_site_file_is_kept_and_exported_inert():
     data["site"]["name"] = "+SUM(A1:A9)"
     a = sitefile.loads(json.dumps(data))
     assert a.positions[i].id == FORMULA
-    from engine import pipeline
+    from engine.chain import pipeline
     text = exports.safe_csv(pipeline.evaluate(a).table)
     cells = [c for row in pd.read_csv(io.StringIO(text), dtype=str).to_numpy() for c in row
              if isinstance(c, str)]

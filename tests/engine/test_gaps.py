@@ -5,8 +5,9 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from engine import buildings as geom
-from engine import gaps, model
+from engine.flow import buildings as geom
+from engine.flow import gaps
+from engine.core import model
 
 
 def _pair(face_width_m, gap_m, passage_length_m, height_m, height_b_m=None):

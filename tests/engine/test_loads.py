@@ -4,8 +4,10 @@ import math
 import numpy as np
 import pytest
 
-from engine import loads, model, turbines
-from engine.errors import InputError
+from engine.energy import loads
+from engine.core import model
+from engine.energy import turbines
+from engine.core.errors import InputError
 
 
 def test_thrust_worked_case():

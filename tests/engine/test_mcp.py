@@ -1,10 +1,12 @@
-"""Long-term correction (engine.mcp) on synthetic pairs whose truth is known."""
+"""Long-term correction (engine.climate.mcp) on synthetic pairs whose truth is known."""
 import numpy as np
 import pytest
 from scipy import stats
 
-from engine import mcp, qc, timeseries as ts
-from engine.errors import InputError
+from engine.climate import mcp
+from engine.climate import qc
+from engine.io import records as ts
+from engine.core.errors import InputError
 
 H = 3600 * 10 ** 9
 T0 = np.datetime64("2020-01-01", "ns").astype(np.int64)

@@ -7,9 +7,10 @@ from pathlib import Path
 
 import pytest
 
-from engine import migrate, sitefile
-from engine.errors import InputError
-from engine.model import FORMAT_VERSION
+from engine.io import migrate
+from engine.io import sitefile
+from engine.core.errors import InputError
+from engine.core.model import FORMAT_VERSION
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
 

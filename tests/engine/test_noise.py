@@ -4,7 +4,8 @@ import math
 import numpy as np
 import pytest
 
-from engine import model, noise
+from engine.core import model
+from engine.energy import noise
 
 
 def test_hand_value_at_50_m():

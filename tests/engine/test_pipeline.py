@@ -6,8 +6,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from engine import model, pipeline, sitefile
-from engine.energy import HOURS_PER_YEAR
+from engine.core import model
+from engine.chain import pipeline
+from engine.io import sitefile
+from engine.energy.aep import HOURS_PER_YEAR
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
 

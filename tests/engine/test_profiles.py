@@ -1,10 +1,10 @@
-"""EN 1991-1-4 terrain factor, roughness factor, log and power laws (engine.profiles)."""
+"""EN 1991-1-4 terrain factor, roughness factor, log and power laws (engine.flow.profiles)."""
 import math
 
 import numpy as np
 import pytest
 
-from engine import profiles
+from engine.flow import profiles
 
 
 def test_table_4_1_roughness_and_minimum_heights():

@@ -13,9 +13,11 @@ from hypothesis import HealthCheck, assume, event, given, settings
 from hypothesis import strategies as st
 from scipy import stats
 
-from engine import model, pipeline, sitefile
-from engine.energy import DEFAULT_EDGES_MS, HOURS_PER_YEAR
-from engine.errors import InputError
+from engine.core import model
+from engine.chain import pipeline
+from engine.io import sitefile
+from engine.energy.aep import DEFAULT_EDGES_MS, HOURS_PER_YEAR
+from engine.core.errors import InputError
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
 

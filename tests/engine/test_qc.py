@@ -1,10 +1,11 @@
-"""Quality control (engine.qc): each injected fault counted exactly, nothing else flagged."""
+"""Quality control (engine.climate.qc): each injected fault counted exactly, nothing else flagged."""
 import numpy as np
 import pandas as pd
 import pytest
 
-from engine import qc, timeseries as ts
-from engine.errors import InputError
+from engine.climate import qc
+from engine.io import records as ts
+from engine.core.errors import InputError
 
 
 def _clean_frame(n=2000, seed=5):

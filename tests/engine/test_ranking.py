@@ -3,7 +3,10 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine import model, pipeline, ranking, sitefile
+from engine.core import model
+from engine.chain import pipeline
+from engine.chain import ranking
+from engine.io import sitefile
 from pathlib import Path
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"

@@ -20,8 +20,12 @@ import pandas as pd
 import pytest
 from scipy.special import gamma
 
-from engine import __version__, cli, pipeline, report, sitefile
-from engine.energy import HOURS_PER_YEAR
+from engine.core import __version__
+from engine import cli
+from engine.chain import pipeline
+from engine.report import summary as report
+from engine.io import sitefile
+from engine.energy.aep import HOURS_PER_YEAR
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
@@ -468,7 +472,7 @@ def test_markup_in_position_id_escaped_in_charts(demo):
 
 def test_roof_zone_bands_agree_with_zone_flags(demo):
     """A hub the building model puts inside a roof zone lies below that zone's band top, and vice versa."""
-    from engine import report_charts
+    from engine.report import static_charts as report_charts
 
     ev = demo["ev"]
     eff = ev.climate
@@ -493,7 +497,7 @@ def test_roof_zone_bands_agree_with_zone_flags(demo):
 
 def test_chart_that_cannot_be_drawn_says_why(demo, tmp_path):
     """A figure without a spec is shown as a caution with its reason, in HTML and PDF."""
-    from engine.report_charts import Figure
+    from engine.report.static_charts import Figure
 
     s = report.build_summary(demo["ev"], generated_at=STAMP, with_charts=False)
     fig = Figure("profile", "Vertical profile", "caption", None, "hub_height_m: below the roof")

@@ -2,8 +2,8 @@
 import numpy as np
 import pytest
 
-from engine import roofflow as rf
-from engine import roofzones as rz
+from engine.flow import roofflow as rf
+from engine.flow import roofzones as rz
 
 R = 15.0
 

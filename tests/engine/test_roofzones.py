@@ -4,7 +4,7 @@ import pytest
 from hypothesis import given, settings, strategies as st
 from scipy import stats
 
-from engine import roofzones as rz
+from engine.flow import roofzones as rz
 
 
 def test_scaling_length_worked_block():

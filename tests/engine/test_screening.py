@@ -11,8 +11,12 @@ import pandas as pd
 import pytest
 from scipy import integrate
 
-from engine import cli, model, pipeline, screening, sitefile
-from engine.errors import InputError
+from engine import cli
+from engine.core import model
+from engine.chain import pipeline
+from engine.screening import core as screening
+from engine.io import sitefile
+from engine.core.errors import InputError
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
@@ -277,7 +281,7 @@ def test_zone_climates_by_row_in_any_order_and_chunking(ctx):
 
 
 def test_limits_match_the_building_model():
-    """The vectorised row limits are those of engine.model.Building (a value just outside fails)."""
+    """The vectorised row limits are those of engine.core.model.Building (a value just outside fails)."""
     base = dict(id="a", x_m=0.0, y_m=0.0, length_m=10.0, width_m=10.0, height_m=10.0)
     for name in ("x_m", "y_m", "length_m", "width_m", "height_m", "orientation_deg",
                  "roof_pitch_deg", "parapet_height_m"):
@@ -405,7 +409,7 @@ def test_malformed_csv_line_reported_on_its_line(ctx, tmp_path):
 
 def test_per_row_terrain_transfer_uses_each_rows_ashrae_terrain(ctx):
     """One roughness per row picks that row's ASHRAE terrain in the power-law transfer."""
-    from engine import transfer
+    from engine.flow import transfer
 
     clim = ctx.climates[""]
     # ASHRAE Handbook-Fundamentals, "Airflow Around Buildings", Table 1 (a, delta [m]):

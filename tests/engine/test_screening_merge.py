@@ -8,8 +8,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine import cli, screening
-from engine import screening_merge as sm
+from engine import cli
+from engine.screening import core as screening
+from engine.screening import merge as sm
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
@@ -96,8 +97,8 @@ def test_merge_keeps_part_order_between_equal_keys(tmp_path, block):
 
 
 def test_formula_text_defused_as_shared_export(tmp_path):
-    """Every formula-like or carriage-return cell is written as engine.exports.safe_csv does."""
-    from engine.exports import safe_csv
+    """Every formula-like or carriage-return cell is written as engine.io.exports.safe_csv does."""
+    from engine.io.exports import safe_csv
 
     table = ties_table(120, seed=6)
     odd = ["=1+1", "+cmd", "-2", "@SUM(A1)", "\ttab", "\r=x", "a\rb", "plain", "", "x=1"]

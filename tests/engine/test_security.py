@@ -11,7 +11,9 @@ from pathlib import Path
 import pandas as pd
 import pytest
 
-from engine import exports, pipeline, sitefile
+from engine.io import exports
+from engine.chain import pipeline
+from engine.io import sitefile
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
@@ -123,10 +125,10 @@ def _hostile_assessment():
 def test_rank_exports_neutralise_a_formula_position_id():
     """The ranking CSV of the command line, dashboard and summary keeps a formula id inert."""
     ev = pipeline.evaluate(_hostile_assessment())
-    outputs = {"engine.exports.safe_csv": exports.safe_csv(ev.table)}
+    outputs = {"engine.io.exports.safe_csv": exports.safe_csv(ev.table)}
     try:
-        from engine import report
-        outputs["engine.report.ranking_csv"] = report.ranking_csv(ev).decode("utf-8")
+        from engine.report import summary as report
+        outputs["engine.report.summary.ranking_csv"] = report.ranking_csv(ev).decode("utf-8")
     except ImportError:
         pass
     for name, text in outputs.items():
@@ -139,7 +141,7 @@ def test_rank_exports_neutralise_a_formula_position_id():
 @pytest.mark.slow
 def test_summary_html_escapes_user_text():
     """Site name, notes, ids and assessor text appear escaped in the HTML summary, never as tags."""
-    report = pytest.importorskip("engine.report")
+    report = pytest.importorskip("engine.report.summary")
     ev = pipeline.evaluate(_hostile_assessment())
     html = report.summary_html_bytes(ev, assessor="<b onmouseover=alert(2)>me</b>",
                                      notes="<iframe src=//x>").decode("utf-8")
@@ -152,7 +154,7 @@ def test_summary_html_escapes_user_text():
 @pytest.mark.slow
 def test_summary_html_loads_nothing_from_outside():
     """The HTML summary is self-contained: no script, image or style fetched from a URL."""
-    report = pytest.importorskip("engine.report")
+    report = pytest.importorskip("engine.report.summary")
     html = report.summary_html_bytes(pipeline.evaluate(sitefile.load(DEMO))).decode("utf-8")
     for needle in ('src="http', "src='http", 'src="//', 'href="http', "@import", "url(http"):
         assert needle not in html, needle

@@ -3,8 +3,9 @@ import numpy as np
 import pytest
 from hypothesis import given, settings, strategies as st
 
-from engine import buildings as geom
-from engine import model, shelter
+from engine.flow import buildings as geom
+from engine.core import model
+from engine.flow import shelter
 
 
 def test_wake_reach_and_calibration():

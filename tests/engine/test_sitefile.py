@@ -5,8 +5,9 @@ from pathlib import Path
 
 import pytest
 
-from engine import model, sitefile
-from engine.errors import InputError
+from engine.core import model
+from engine.io import sitefile
+from engine.core.errors import InputError
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
 

@@ -2,8 +2,8 @@
 import numpy as np
 import pytest
 
-from engine import spot
-from engine.errors import InputError
+from engine.flow import spot
+from engine.core.errors import InputError
 
 
 def test_ratio_and_interval_match_least_squares_through_origin():
@@ -49,7 +49,7 @@ def test_calm_reference_is_an_input_error():
         spot.speed_ratio_through_origin([1.0, 2.0, 1.5], [0.0, 0.0, 0.0])
     assert "reference_speed_ms" in str(e.value) and "wind blows" in str(e.value)
     # A site file's reading is refused as it is read, naming the field, before any evaluation.
-    from engine import model
+    from engine.core import model
     with pytest.raises(InputError) as e:
         model.SpotReading(position_id="p", direction_deg=90.0,
                           position_speed_ms=(1.0, 2.0, 1.5), reference_speed_ms=(0.0, 0.0, 0.0))

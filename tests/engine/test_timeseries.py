@@ -1,12 +1,12 @@
-"""Record import (engine.timeseries): columns, units, time zones and bad files."""
+"""Record import (engine.io.records): columns, units, time zones and bad files."""
 import hashlib
 import time
 
 import numpy as np
 import pytest
 
-from engine import timeseries as ts
-from engine.errors import InputError
+from engine.io import records as ts
+from engine.core.errors import InputError
 
 
 def _csv(header, rows, sep=","):

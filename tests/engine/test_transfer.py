@@ -1,13 +1,15 @@
-"""Station-to-site transfer (engine.transfer) and its settings on the assessment."""
+"""Station-to-site transfer (engine.flow.transfer) and its settings on the assessment."""
 import dataclasses
 import math
 
 import numpy as np
 import pytest
 
-from engine import flow, sitefile, transfer
-from engine.errors import InputError
-from engine.model import Site, TransferSettings, WindClimate
+from engine.flow import effective as flow
+from engine.io import sitefile
+from engine.flow import transfer
+from engine.core.errors import InputError
+from engine.core.model import Site, TransferSettings, WindClimate
 
 DEMO = "demo_sites/larkspur_yard.json"
 

@@ -6,8 +6,9 @@ import numpy as np
 import pytest
 from scipy.optimize import minimize_scalar
 
-from engine import model, turbines
-from engine.errors import InputError
+from engine.core import model
+from engine.energy import turbines
+from engine.core.errors import InputError
 
 
 def test_actuator_disc_betz_optimum():

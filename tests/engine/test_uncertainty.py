@@ -5,7 +5,10 @@ import numpy as np
 import pytest
 from scipy.stats import norm
 
-from engine import energy, model, turbines, uncertainty
+from engine.energy import aep as energy
+from engine.core import model
+from engine.energy import turbines
+from engine.energy import uncertainty
 
 
 def setup_one(c=6.0, k=2.0, ti=0.15):

@@ -3,8 +3,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from engine import units
-from engine.errors import InputError
+from engine.core import units
+from engine.core.errors import InputError
 
 
 def test_speed_factors_match_nist():

@@ -1,11 +1,11 @@
-"""Weibull closed forms (engine.weibull) against the Gamma-function forms and scipy.stats."""
+"""Weibull closed forms (engine.climate.weibull) against the Gamma-function forms and scipy.stats."""
 import math
 
 import numpy as np
 import pytest
 from scipy import stats
 
-from engine import weibull
+from engine.climate import weibull
 
 
 def test_mean_and_power_density_closed_forms():

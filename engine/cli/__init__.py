@@ -1,0 +1,39 @@
+"""Command line: ``python -m engine <command> ...``.
+
+The top of the chain: each command is a module of this package with a ``register_<name>``
+function that adds its sub-parser; :data:`COMMANDS` lists them in the order ``--help`` shows.
+Exit codes: 0 success, 2 input problem (a readable list of every problem on stderr).
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+
+from engine.cli.climate import register_climate
+from engine.cli.rank import register_rank, register_schema
+from engine.cli.report import register_report
+from engine.cli.screen import register_screen
+from engine.core import __version__
+from engine.core.errors import InputError
+
+COMMANDS = [register_rank, register_schema, register_report, register_screen, register_climate]
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(prog="python -m engine",
+                                     description="Perch: siting small wind turbines on and "
+                                                 "between buildings.")
+    parser.add_argument("--version", action="version", version=f"perch {__version__}")
+    sub = parser.add_subparsers(dest="command", required=True)
+    for register in COMMANDS:
+        register(sub)
+    return parser
+
+
+def main(argv=None) -> int:
+    args = build_parser().parse_args(argv)
+    try:
+        return args.func(args)
+    except InputError as e:
+        print(f"perch {args.command}: {e.render()}", file=sys.stderr)
+        return 2

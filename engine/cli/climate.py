@@ -1,0 +1,89 @@
+"""``python -m engine climate DATA.csv``: quality-control summary and per-sector climate of a record.
+
+JSON shape (``--format json``)::
+
+    {"qc": {...}, "sectors": [{"sector_deg", "frequency", "weibull_k", "weibull_c_ms",
+     "mean_speed_ms", ...}, ...], "all": {...}}
+"""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pandas as pd
+
+from engine.climate import fit as climate
+from engine.io import records as timeseries
+from engine.core.errors import InputError
+
+#: Per-sector keys of the JSON output that never change name (later keys are appended).
+SECTOR_FIELDS = ("sector_deg", "frequency", "weibull_k", "weibull_c_ms", "mean_speed_ms")
+
+
+def climate_document(summary, report) -> dict:
+    """The ``climate`` JSON document: quality control, per-sector table, all-sector figures."""
+    from engine.chain.documents import jsonable as _jsonable
+    table = summary.sectors
+    cols = list(SECTOR_FIELDS) + [c for c in table.columns if c not in SECTOR_FIELDS]
+    sectors = [{c: _jsonable(row[c]) for c in cols} for row in table[cols].to_dict("records")]
+    allsec = summary.all_sectors()
+    c = summary.climate
+    allsec.update({"height_m": c.height_m, "roughness_m": c.roughness_m,
+                   "record_file": c.record_file, "record_sha256": c.record_sha256,
+                   "notes": list(summary.notes)})
+    return {"qc": _jsonable(report.to_dict()), "sectors": sectors, "all": _jsonable(allsec)}
+
+
+def _table_text(summary, report) -> str:
+    show = summary.sectors[["sector_deg", "records", "frequency", "weibull_k", "weibull_c_ms",
+                            "mean_speed_ms", "power_density_wm2", "fit"]]
+    a = summary.all_sectors()
+    with pd.option_context("display.width", 200, "display.max_columns", 20):
+        table = show.to_string(index=False, float_format=lambda x: f"{x:.3f}")
+    lines = [report.to_text(), "", f"Climate at {summary.climate.height_m:g} m "
+             f"({summary.n_records} records, {summary.fit_method} fit):", table,
+             f"all sectors: k {a['weibull_k']:.3f}, c {a['weibull_c_ms']:.3f} m/s, mean "
+             f"{a['mean_speed_ms']:.3f} m/s, power density {a['power_density_wm2']:.1f} W/m² "
+             f"(air density {a['air_density_kgm3']:.3f} kg/m³)"]
+    lines += [f"note: {n}" for n in summary.notes]
+    return "\n".join(lines)
+
+
+def cmd_climate(args) -> int:
+    path = Path(args.data)
+    if not path.is_file():
+        raise InputError([(str(path), "no such file; give the path of a CSV/TSV record")])
+    with open(path, "rb") as fh:
+        data = fh.read(timeseries.MAX_RECORD_BYTES + 1)
+    _, report, diag = climate.climate_from_csv_bytes(
+        data, path.name, height_m=args.height_m, roughness_m=args.roughness_m,
+        n_sectors=args.sectors, method=args.method, speed_unit=args.speed_unit,
+        utc_offset_h=args.utc_offset_h, altitude_m=args.altitude_m)
+    summary = diag["summary"]
+    if args.format == "json":
+        print(json.dumps(climate_document(summary, report), indent=2, ensure_ascii=False))
+    else:
+        print(_table_text(summary, report))
+    return 0
+
+
+def register_climate(sub):
+    p = sub.add_parser("climate", help="quality-control a measured record and fit its "
+                                       "per-sector Weibull climate")
+    p.add_argument("data", help="CSV/TSV record: timestamp, speed, direction (+ optional gust, "
+                                "temperature, pressure)")
+    p.add_argument("--height-m", type=float, default=10.0, dest="height_m",
+                   help="measurement height above ground [m] (default 10)")
+    p.add_argument("--sectors", type=int, default=12, help="direction sectors (default 12)")
+    p.add_argument("--format", choices=("table", "json"), default="table")
+    p.add_argument("--method", choices=climate.FIT_METHODS, default="mle",
+                   help="Weibull fit: maximum likelihood or moments")
+    p.add_argument("--roughness-m", type=float, default=0.05, dest="roughness_m",
+                   help="roughness length around the mast [m] (default 0.05, open terrain)")
+    p.add_argument("--speed-unit", choices=tuple(timeseries.SPEED_UNITS), default=None,
+                   dest="speed_unit", help="speed unit when the header does not say")
+    p.add_argument("--utc-offset-h", type=float, default=0.0, dest="utc_offset_h",
+                   help="offset from UTC of timestamps written without one [h]")
+    p.add_argument("--altitude-m", type=float, default=0.0, dest="altitude_m",
+                   help="site altitude for ISA pressure when the record has no pressure [m]")
+    p.set_defaults(func=cmd_climate)

@@ -1,0 +1,466 @@
+"""The joint between the climate and building models and the energy model.
+
+:class:`EffectiveClimate` is the one structure the energy model sees: for every candidate
+position and every sector, a Weibull climate at hub height *including* the building effects,
+a turbulence intensity and an inflow skew, plus per-position flags and diagnostics. Either side
+can change alone as long as this structure keeps its meaning.
+
+Array shapes: P positions, S sectors.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from engine.flow import buildings
+from engine.flow import gaps
+from engine.flow import profiles
+from engine.flow import roofflow
+from engine.flow import roofzones
+from engine.flow import shelter
+from engine.flow import spot
+from engine.core.errors import InputError
+
+
+@dataclass(frozen=True)
+class EffectiveClimate:
+    """Per position and sector wind at hub height, after building effects.
+
+    Attributes
+    ----------
+    position_ids : (P,) position ids, in the assessment's order
+    sector_deg : (S,) sector centres [deg from north, wind from]
+    hub_height_m : (P,) hub height above ground [m]
+    frequency : (P, S) sector frequency [-], each row sums to 1
+    weibull_k : (P, S) Weibull shape at hub height [-]
+    free_c_ms : (P, S) Weibull scale of the undisturbed flow at hub height [m/s]
+    speed_factor : (P, S) building effect on the mean speed (speed-up > 1, shelter < 1) [-]
+    turbulence_intensity : (P, S) longitudinal turbulence intensity at hub height [-]
+    inflow_skew_deg : (P, S) angle of the mean flow to the horizontal at the rotor [deg]
+    air_density_kgm3 : site air density [kg/m³]
+    flags : per position, a tuple of short reasons (``"in roof recirculation zone"``)
+    diagnostics : named per-position arrays from the building models, shape (P,) or (P, S)
+        (``in_recirculation_zone``, ``min_clear_mast_m``, ``spilled_fraction``, ...)
+    """
+
+    position_ids: tuple
+    sector_deg: np.ndarray
+    hub_height_m: np.ndarray
+    frequency: np.ndarray
+    weibull_k: np.ndarray
+    free_c_ms: np.ndarray
+    speed_factor: np.ndarray
+    turbulence_intensity: np.ndarray
+    inflow_skew_deg: np.ndarray
+    air_density_kgm3: float
+    flags: tuple = ()
+    diagnostics: dict = field(default_factory=dict)
+
+    @property
+    def weibull_c_ms(self) -> np.ndarray:
+        """Weibull scale at the rotor, building effects included [m/s], (P, S)."""
+        return self.free_c_ms * self.speed_factor
+
+    @property
+    def n_positions(self) -> int:
+        return len(self.position_ids)
+
+
+def free_stream_at_hub(assessment, hub_height_m):
+    """Undisturbed per-sector Weibull at each hub height: (k, c) arrays of shape (P, S).
+
+    The climate is carried from its height and roughness to the site's terrain as the
+    assessment's :class:`~engine.core.model.TransferSettings` say (EN 1991-1-4 terrain factor and
+    log law by default): see :func:`engine.flow.transfer.free_stream_weibull`.
+    """
+    from engine.core.model import TransferSettings
+    from engine.flow.transfer import free_stream_weibull
+    settings = getattr(assessment, "transfer", None) or TransferSettings()
+    return free_stream_weibull(assessment.climate, assessment.site, hub_height_m, settings)
+
+
+def effective_climate(assessment, air_density_kgm3: float,
+                      calibrate_with_spot_readings: bool = True) -> EffectiveClimate:
+    """Effective climate of every position: free stream at hub height, then building effects.
+
+    Parameters
+    ----------
+    assessment : :class:`engine.core.model.Assessment`
+    air_density_kgm3 : site air density [kg/m³]
+    calibrate_with_spot_readings : put measured speed-ups in place of the model's for the
+        spot readings marked ``use_for_calibration`` (others are only compared)
+
+    Returns
+    -------
+    EffectiveClimate
+
+    Notes
+    -----
+    speed_factor = S_roof · S_gap · S_shelter per position and sector, each 1 where it does not
+    apply: roof positions get the roof-flow model (:mod:`engine.flow.roofflow`) on the ASHRAE zones
+    of their own block (:mod:`engine.flow.roofzones`); gap positions the passage concentrator with
+    spillage (:mod:`engine.flow.gaps`); every position the wake of the other upwind blocks
+    (:mod:`engine.flow.shelter`; a position's own roof and its passage's walls are left out).
+    Turbulence: roof and passage keep the ambient σ_u through modest speed changes; each model
+    adds its own turbulence in quadrature (see the modules).
+
+    **Main energy sectors** (:func:`engine.flow.roofzones.main_energy_sectors`): per position, the
+    fewest sectors, largest first, carrying 80 % of the undisturbed wind energy at hub height
+    (f c³ Γ(1 + 3/k)). Zone flags and the minimum mast height use these sectors only.
+
+    Diagnostics of shape (P,) (the pipeline makes them rank-table columns):
+
+    * ``in_recirculation_zone`` — hub inside the roof recirculation bubble of its block, or in a
+      block's wake cavity, in a main energy sector;
+    * ``in_turbulence_zone`` — hub inside the roof's high-turbulence zone (under max(Z1, Z2))
+      in a main energy sector. Evaluated **at the hub**: a rotor of radius r clears the zone
+      when ``mast_height_m − r ≥ min_clear_mast_m``; :func:`rotor_in_turbulence_zone` gives
+      that per turbine;
+    * ``min_clear_mast_m`` — lowest mast height above the roof surface putting the hub at the
+      top of the high-turbulence zone in every main sector [m] (NaN off roofs);
+    * ``in_roof_wake`` — hub under the roof-wake boundary Z3 in a main sector (a caution);
+    * ``spilled_fraction`` — passage positions: share of the capture flow that spills round,
+      weighted by sector energy share (the model's spill does not depend on direction);
+      NaN elsewhere;
+    * ``governing_limit`` — passage positions: "pressure" or "continuity", the limit governing
+      in the sector carrying most energy; "" elsewhere;
+    * ``shelter_factor`` — energy-weighted mean of the upwind-wake speed factor [-].
+
+    Diagnostics of shape (P, S): ``energy_share``, ``main_sector``, ``zone_top_m`` (height
+    above the roof surface of the high-turbulence zone's top at the position), clearances
+    ``clearance_recirculation_m``, ``clearance_turbulence_m``, ``clearance_wake_m``,
+    ``roof_scaling_length_m``, ``shelter_speed_factor``, ``gap_wall_force_per_q_m2``,
+    ``spot_calibrated``. With spot readings, ``spot_readings`` holds the comparison of
+    :func:`engine.flow.spot.spot_comparison` as a dict of columns, and (P,) ``spot_measured_speedup``,
+    ``spot_speedup_ci_low``, ``spot_speedup_ci_high``, ``spot_model_speedup``.
+    """
+    positions = assessment.positions
+    hub = np.array([assessment.hub_height_m(p) for p in positions], dtype=float)
+    k, free_c = free_stream_at_hub(assessment, hub)
+    P, S = free_c.shape
+    freq = np.broadcast_to(np.asarray(assessment.climate.frequency, float), (P, S)).copy()
+    site = assessment.site
+    ti0 = np.broadcast_to(profiles.turbulence_intensity_terrain(
+        hub, site.terrain_roughness_m, site.displacement_m)[:, None], (P, S)).copy()
+    sector_deg = np.asarray(assessment.climate.sector_deg, float)
+    fx = _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0)
+    eff = EffectiveClimate(
+        position_ids=tuple(p.id for p in positions), sector_deg=sector_deg,
+        hub_height_m=hub, frequency=freq, weibull_k=k, free_c_ms=free_c,
+        speed_factor=fx["speed_factor"], turbulence_intensity=fx["turbulence_intensity"],
+        inflow_skew_deg=fx["inflow_skew_deg"], air_density_kgm3=float(air_density_kgm3),
+        flags=fx["flags"], diagnostics=fx["diagnostics"])
+    if assessment.spot_readings:
+        eff = _with_spot_readings(assessment, eff, calibrate_with_spot_readings)
+    _check_physics(eff)
+    return eff
+
+
+def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_m):
+    """Whether each rotor disc dips into the roof's high-turbulence zone: (P, T) bool.
+
+    Parameters
+    ----------
+    eff : effective climate (its ``min_clear_mast_m`` diagnostic)
+    mast_height_m : (P,) mast heights above the roof [m]
+    rotor_radius_m : (T,) half the rotor's vertical extent [m]
+
+    Notes
+    -----
+    In the zone when mast − r < min_clear_mast_m; positions off roofs (NaN) are never in it.
+    """
+    need = np.asarray(eff.diagnostics.get("min_clear_mast_m", np.full(eff.n_positions, np.nan)))
+    low = (np.asarray(mast_height_m, float)[:, None] - np.asarray(rotor_radius_m, float)[None, :])
+    return np.where(np.isfinite(need)[:, None], low < need[:, None] - 1e-9, False)
+
+
+def roof_effects(sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m,
+                 pitched, u_m, v_m, mast_height_m, ambient_ti, main_sector,
+                 clearance_only: bool = False, geometry=None) -> dict:
+    """Roof zones and roof flow at roof positions, vectorised over positions: (P, S) arrays.
+
+    Parameters
+    ----------
+    sector_deg : (S,) sector centres [deg from north, wind from]
+    height_m, length_m, width_m, orientation_deg, parapet_height_m : (P,) the block under each
+        position: eaves height [m], plan size [m], bearing of the length side [deg], parapet [m]
+    pitched : (P,) bool, pitched roof (ridge along the length)
+    u_m, v_m : (P,) position in the block's own axes, from its centre [m]
+    mast_height_m : (P,) mast above the roof surface [m]
+    ambient_ti : (P, S) turbulence intensity of the undisturbed flow at the hub [-]
+    main_sector : (P, S) bool, the main energy sectors
+        (:func:`engine.flow.roofzones.main_energy_sectors`)
+    clearance_only : return only the zone geometry and ``min_clear_mast_m`` (no roof flow)
+    geometry : :func:`roof_geometry` of the same positions when already found (it does not
+        depend on the mast, so a mast search can find it once)
+
+    Returns
+    -------
+    dict: ``roof_scaling_length_m`` R, ``zone_top_m`` (high-turbulence zone's top above the roof
+    surface, parapet included) (P, S) [m], ``min_clear_mast_m`` (P,) [m]; unless
+    ``clearance_only``: ``speed_factor``, ``turbulence_intensity``, ``inflow_skew_deg`` (P, S)
+    and ``clearance`` (dict of (P, S) clearances to the recirculation, turbulence and wake
+    zones [m]).
+
+    Notes
+    -----
+    R = B_s^(2/3) B_L^(1/3) of the windward face (:func:`engine.flow.roofzones.scaling_length_m`,
+    ASHRAE), the roof fetch X from the windward edge to the position
+    (:func:`engine.flow.buildings.roof_fetch_m`), heights above the roof surface z = mast − parapet;
+    the speed-up, turbulence and skew of :mod:`engine.flow.roofflow` with the direction weights of
+    the angle γ between the wind and the ridge's normal (0..90°). Used by
+    :func:`effective_climate` and by the portfolio screening, so both give the same numbers.
+    """
+    geo = geometry if geometry is not None else roof_geometry(
+        sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m, u_m, v_m)
+    out = {"roof_scaling_length_m": geo["roof_scaling_length_m"],
+           "zone_top_m": geo["zone_top_m"],
+           "min_clear_mast_m": roofzones.min_clear_mast_m(geo["zone_top_m"], main_sector)}
+    if clearance_only:
+        return out
+    out.update(roof_flow(geo, sector_deg, orientation_deg, parapet_height_m, pitched,
+                         mast_height_m, ambient_ti))
+    return out
+
+
+def roof_geometry(sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m,
+                  u_m, v_m) -> dict:
+    """The mast-independent part of :func:`roof_effects`: scaling length, fetch, zone top.
+
+    Parameters
+    ----------
+    as :func:`roof_effects`
+
+    Returns
+    -------
+    dict of (P, S) arrays [m]: ``roof_scaling_length_m`` R, ``fetch_m`` X (windward edge to
+    the position), ``roof_length_m`` X + X_d (along the wind across the roof), ``zone_top_m``
+    (the high-turbulence zone's top above the roof surface, parapet included), and above the
+    parapet's top ``recirculation_top_m`` and ``zone_top_above_parapet_m``
+
+    Notes
+    -----
+    R = B_s^(2/3) B_L^(1/3) of the windward face (ASHRAE), with the block's eaves height plus
+    parapet as its height; the zone top of :func:`engine.flow.roofzones.turbulence_zone_top_m`.
+    """
+    sector_deg = np.asarray(sector_deg, float)
+    para = np.asarray(parapet_height_m, float)
+    phi = np.asarray(orientation_deg, float)
+    L = np.asarray(length_m, float)
+    W = np.asarray(width_m, float)
+    cross = buildings.crosswind_width_m(L, W, phi, sector_deg)
+    R = roofzones.scaling_length_m((np.asarray(height_m, float) + para)[:, None], cross)
+    X, Xd = buildings.roof_fetch_m(u_m, v_m, L, W, phi, sector_deg)
+    roof_len = X + Xd
+    z1 = roofzones.recirculation_boundary_m(X, R, roof_len)
+    top = np.maximum(z1, roofzones.turbulence_boundary_m(X, R))  # turbulence_zone_top_m
+    return {"roof_scaling_length_m": R, "fetch_m": X, "roof_length_m": roof_len,
+            "zone_top_m": top + para[:, None], "recirculation_top_m": z1,
+            "zone_top_above_parapet_m": top}
+
+
+def roof_flow(geometry: dict, sector_deg, orientation_deg, parapet_height_m, pitched,
+              mast_height_m, ambient_ti) -> dict:
+    """The mast-dependent part of :func:`roof_effects`: speed-up, turbulence, skew, clearances.
+
+    Parameters
+    ----------
+    geometry : :func:`roof_geometry` of the same positions
+    others : as :func:`roof_effects`
+
+    Returns
+    -------
+    dict: ``speed_factor``, ``turbulence_intensity``, ``inflow_skew_deg`` (P, S) and
+    ``clearance`` (dict of (P, S) clearances to the recirculation, turbulence and wake zones [m])
+    """
+    sector_deg = np.asarray(sector_deg, float)
+    phi = np.asarray(orientation_deg, float)
+    X, R, roof_len = geometry["fetch_m"], geometry["roof_scaling_length_m"], \
+        geometry["roof_length_m"]
+    z = (np.asarray(mast_height_m, float) - np.asarray(parapet_height_m, float))[:, None]
+    # Angle between the wind and the ridge's normal (ridge along the length), 0..90 deg.
+    gamma = np.abs(np.mod(sector_deg[None, :] - phi[:, None], 180.0) - 90.0)
+    ds, dt = roofflow.direction_weights(np.asarray(pitched, bool)[:, None], gamma)
+    z1, top = geometry["recirculation_top_m"], geometry["zone_top_above_parapet_m"]
+    s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds, recirculation_top_m=z1)
+    return {
+        "speed_factor": s_roof,
+        "turbulence_intensity": roofflow.roof_turbulence_intensity(
+            np.asarray(ambient_ti, float), s_roof, z, X, R, roof_len, dt, zone_top_m=top),
+        "inflow_skew_deg": roofflow.roof_inflow_skew_deg(z, X, R, roof_len,
+                                                         recirculation_top_m=z1),
+        "clearance": roofzones.zone_clearances_m(z, X, R, roof_len, recirculation_top_m=z1,
+                                                 zone_top_m=top)}
+
+
+def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
+    """Roof, passage and wake models for every position and sector (see effective_climate)."""
+    positions = assessment.positions
+    P, S = free_c.shape
+    bldg = buildings.building_arrays(assessment.buildings)
+    ids = {b: i for i, b in enumerate(bldg.ids)}
+    kind = np.array([p.kind for p in positions])
+    px = np.array([float(p.x_m) for p in positions])
+    py = np.array([float(p.y_m) for p in positions])
+    mast = np.array([float(p.mast_height_m) for p in positions])
+    own = np.array([ids.get(p.building_id, -1) if p.kind == "roof" else -1 for p in positions])
+    ga = np.array([ids[p.gap_buildings[0]] if p.kind == "gap" else -1 for p in positions])
+    gb = np.array([ids[p.gap_buildings[1]] if p.kind == "gap" else -1 for p in positions])
+    exclude = np.zeros((P, bldg.n), bool)
+    for col in (own, ga, gb):
+        rows = np.flatnonzero(col >= 0)
+        exclude[rows, col[rows]] = True
+
+    share = roofzones.sector_energy_share(freq, k, free_c)
+    main = roofzones.main_energy_sectors(share)
+    top = np.argmax(share, axis=1)
+
+    speed = np.ones((P, S))
+    ti = ti0.copy()
+    skew = np.zeros((P, S))
+    nan_ps = np.full((P, S), np.nan)
+    diag = {
+        "energy_share": share, "main_sector": main, "zone_top_m": nan_ps.copy(),
+        "clearance_recirculation_m": nan_ps.copy(), "clearance_turbulence_m": nan_ps.copy(),
+        "clearance_wake_m": nan_ps.copy(), "roof_scaling_length_m": nan_ps.copy(),
+        "gap_wall_force_per_q_m2": nan_ps.copy(),
+    }
+    in_rec_ps = np.zeros((P, S), bool)
+    in_turb_ps = np.zeros((P, S), bool)
+    in_wake_ps = np.zeros((P, S), bool)
+    min_clear = np.full(P, np.nan)
+    spilled = np.full(P, np.nan)
+    governing = np.full(P, "", dtype=object)
+
+    roof = np.flatnonzero(kind == "roof")
+    if len(roof):
+        ib = own[roof]
+        para = bldg.parapet_height_m[ib]
+        u, v = buildings.to_local(px[roof], py[roof], bldg.x_m[ib], bldg.y_m[ib],
+                                  bldg.orientation_deg[ib])
+        off = np.flatnonzero((np.abs(u) > 0.5 * bldg.length_m[ib] + 0.5)
+                             | (np.abs(v) > 0.5 * bldg.width_m[ib] + 0.5))
+        if len(off):
+            raise InputError([
+                (f"positions[{roof[i]}].x_m",
+                 f"({px[roof[i]]:g}, {py[roof[i]]:g}) m lies off the roof of "
+                 f"{bldg.ids[ib[i]]!r}; move the position onto that roof or make it a mast "
+                 "position") for i in off])
+        rf = roof_effects(sector_deg, bldg.height_m[ib], bldg.length_m[ib], bldg.width_m[ib],
+                          bldg.orientation_deg[ib], para, bldg.pitched[ib], u, v, mast[roof],
+                          ti0[roof], main[roof])
+        ti[roof] = rf["turbulence_intensity"]
+        skew[roof] = rf["inflow_skew_deg"]
+        speed[roof] *= rf["speed_factor"]
+        diag["zone_top_m"][roof] = rf["zone_top_m"]
+        diag["roof_scaling_length_m"][roof] = rf["roof_scaling_length_m"]
+        for name in ("recirculation", "turbulence", "wake"):
+            diag[f"clearance_{name}_m"][roof] = rf["clearance"][name]
+        in_rec_ps[roof] = rf["clearance"]["recirculation"] < 0
+        in_turb_ps[roof] = rf["clearance"]["turbulence"] < 0
+        in_wake_ps[roof] = rf["clearance"]["wake"] < 0
+        min_clear[roof] = rf["min_clear_mast_m"]
+
+    gap = np.flatnonzero(kind == "gap")
+    if len(gap):
+        geo = gaps.passage_geometry(bldg, ga[gap], gb[gap])
+        narrow = geo.width_m < 0.5
+        if narrow.any():
+            raise InputError([
+                (f"positions[{gap[i]}].gap_buildings",
+                 f"buildings {bldg.ids[ga[gap[i]]]!r} and {bldg.ids[gb[gap[i]]]!r} touch or "
+                 f"overlap (gap {geo.width_m[i]:.2f} m, need at least 0.5 m); move the "
+                 "buildings apart or make this a roof or mast position")
+                for i in np.flatnonzero(narrow)])
+        gf = gaps.gap_flow(geo, sector_deg, hub[gap])
+        sg = gf["speed_factor"]
+        ti[gap] = np.hypot(ti[gap] / np.maximum(sg, roofflow.ROOF_FLOW["sigma_speed_floor"]),
+                           gf["added_ti"])
+        speed[gap] *= sg
+        spilled[gap] = np.sum(share[gap] * gf["spilled_fraction"], axis=1)
+        governing[gap] = gf["governing"][np.arange(len(gap)), top[gap]]
+        diag["gap_wall_force_per_q_m2"][gap] = gf["wall_force_per_q_m2"]
+
+    sh = shelter.shelter(px, py, hub, bldg, sector_deg, exclude)
+    ti = np.hypot(ti, sh["added_ti"])
+    speed = speed * sh["speed_factor"]
+    diag["shelter_speed_factor"] = sh["speed_factor"]
+    in_cavity_ps = sh["in_wake_recirculation"]
+
+    in_rec = ((in_rec_ps | in_cavity_ps) & main).any(axis=1)
+    in_turb = (in_turb_ps & main).any(axis=1)
+    in_wake = (in_wake_ps & main).any(axis=1)
+    shelter_mean = np.sum(share * sh["speed_factor"], axis=1)
+    diag.update({"in_recirculation_zone": in_rec, "in_turbulence_zone": in_turb,
+                 "in_roof_wake": in_wake, "min_clear_mast_m": min_clear,
+                 "spilled_fraction": spilled, "governing_limit": governing.astype(str),
+                 "shelter_factor": shelter_mean})
+    flags = tuple(_position_flags(i, kind[i], in_rec_ps[i] & main[i], in_cavity_ps[i] & main[i],
+                                  in_turb[i], in_wake[i], min_clear[i], shelter_mean[i],
+                                  sh["sheltering_building"][i, top[i]], bldg.ids)
+                  for i in range(P))
+    return {"speed_factor": speed, "turbulence_intensity": ti, "inflow_skew_deg": skew,
+            "flags": flags, "diagnostics": diag}
+
+
+def _position_flags(i, kind, rec, cavity, turb, wake, min_clear, shelter_mean, strongest, ids):
+    """Short reasons and cautions for one position (a handful of strings, not a data path)."""
+    out = []
+    if rec.any():
+        out.append("in roof recirculation zone")
+    if cavity.any():
+        out.append("in the wake recirculation behind a building")
+    if turb:
+        out.append(f"a mast of {min_clear:.1f} m puts the hub above the roof's "
+                   "high-turbulence zone")
+    elif wake:
+        out.append("hub below the roof-wake boundary: gusty, skewed inflow")
+    if shelter_mean < 0.9 and strongest >= 0:
+        out.append(f"sheltered by {ids[strongest]} ({(1 - shelter_mean) * 100:.0f} % slower)")
+    if kind == "roof":
+        out.append("roof mount: structural engineer to check roof and mast; licensed "
+                   "installers for work at height")
+    if kind == "gap":
+        out.append("passage: channelled wind load on walls and mounts; structural engineer "
+                   "to check")
+    return tuple(out)
+
+
+def _with_spot_readings(assessment, eff, calibrate):
+    """Add the spot-reading comparison (and, if asked, the calibration) to the climate."""
+    table = spot.spot_comparison(assessment, eff)
+    P, S = eff.speed_factor.shape
+    idx = {p: i for i, p in enumerate(eff.position_ids)}
+    pi = np.array([idx[p] for p in table["position_id"]])
+    diag = dict(eff.diagnostics)
+    for name, col in (("spot_measured_speedup", "measured_speedup"),
+                      ("spot_speedup_ci_low", "speedup_ci_low"),
+                      ("spot_speedup_ci_high", "speedup_ci_high")):
+        arr = np.full(P, np.nan)
+        # The last reading set of a position is shown; the full table is in spot_readings.
+        arr[pi] = table[col].to_numpy(float)
+        diag[name] = arr
+    model_su = np.full(P, np.nan)
+    model_su[pi] = table["model_speedup"].to_numpy(float)
+    diag["spot_model_speedup"] = model_su
+    # A dict of columns (not a DataFrame): np.asarray of it is 0-d, so no consumer that turns
+    # (P,) or (P, S) diagnostics into columns can mistake it for one.
+    diag["spot_readings"] = table.to_dict("list")
+    sf, done = eff.speed_factor, np.zeros((P, S), bool)
+    flags = list(eff.flags)
+    if calibrate:
+        sf, done = spot.calibrated_speed_factor(eff.speed_factor, table, eff.position_ids)
+        for i in np.flatnonzero(done.any(axis=1)):
+            flags[i] = tuple(flags[i]) + ("speed-up calibrated by spot readings in "
+                                          f"{int(done[i].sum())} sector(s)",)
+    diag["spot_calibrated"] = done
+    return replace(eff, speed_factor=sf, flags=tuple(flags), diagnostics=diag)
+
+
+def _check_physics(eff: EffectiveClimate) -> None:
+    """Speeds and turbulence must be finite and non-negative; a breach is a model bug."""
+    for name in ("speed_factor", "turbulence_intensity"):
+        arr = getattr(eff, name)
+        if not (np.all(np.isfinite(arr)) and np.all(arr >= 0)):
+            raise AssertionError(f"effective climate: {name} has negative or non-finite values")
