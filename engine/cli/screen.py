@@ -43,7 +43,7 @@ def load_climate_or_site(path):
     if isinstance(data, dict) and "climate" in data and isinstance(data["climate"], dict):
         data = data["climate"]
     p = Problems()
-    clim = sitefile._build(model.WindClimate, data, str(path), p)
+    clim = sitefile.build_dataclass(model.WindClimate, data, str(path), p)
     p.raise_if_any()
     return clim
 

@@ -331,9 +331,9 @@ def with_power_curve(turbine: Turbine, curve: PowerCurve, **changes) -> Turbine:
 
 def turbine_from_dict(data, where: str = "") -> Turbine:
     """Build a Turbine from a JSON object with the site file's rules (every problem at once)."""
-    from engine.io.sitefile import _build  # the site file's converter; one set of rules for both
+    from engine.io.sitefile import build_dataclass  # the site file's converter; one set of rules for both
     p = Problems()
-    t = _build(Turbine, data, where, p)
+    t = build_dataclass(Turbine, data, where, p)
     p.raise_if_any()
     return t
 
@@ -353,11 +353,11 @@ def load_library(path=LIBRARY_FILE) -> tuple:
     items = doc.get("turbines") if isinstance(doc, dict) else None
     if not isinstance(items, list):
         raise InputError([(str(path), "must be an object with a 'turbines' list")])
-    from engine.io.sitefile import _build
+    from engine.io.sitefile import build_dataclass
     p = Problems()
     out = []
     for i, item in enumerate(items):
-        t = _build(Turbine, item, f"turbines[{i}]", p)
+        t = build_dataclass(Turbine, item, f"turbines[{i}]", p)
         if t is not None:
             out.append(t)
     p.raise_if_any()

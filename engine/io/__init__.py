@@ -1,1 +1,14 @@
-"""PLACEHOLDER"""
+"""Files in and out: the site file (JSON, its schema, migration of older versions, atomic
+save), measured-record readers, the dashboard's autosave and formula-safe CSV.
+
+Second in the chain, above :mod:`engine.core`: it turns bytes into validated dataclasses and
+arrays and back, and holds no physics.
+"""
+from engine.io import autosave, exports, migrate, records, sitefile
+from engine.io.exports import safe_csv
+from engine.io.records import Record, read_record
+from engine.io.sitefile import atomic_write_bytes, content_hash, json_schema, load, loads, save
+
+__all__ = ["autosave", "exports", "migrate", "records", "sitefile", "safe_csv", "Record",
+           "read_record", "atomic_write_bytes", "content_hash", "json_schema", "load", "loads",
+           "save"]

@@ -68,7 +68,7 @@ def _convert(value, tp, where: str, problems: Problems):
         problems.add(where, f"must be {_type_name(tp)}, got null")
         return None
     if dataclasses.is_dataclass(tp):
-        return _build(tp, value, where, problems)
+        return build_dataclass(tp, value, where, problems)
     if typing.get_origin(tp) is tuple:
         inner = typing.get_args(tp)[0]
         if not isinstance(value, list):
@@ -106,7 +106,7 @@ def _convert(value, tp, where: str, problems: Problems):
     raise TypeError(f"unsupported field type {tp!r}")  # a programming error, not user input
 
 
-def _build(cls, data, where: str, problems: Problems):
+def build_dataclass(cls, data, where: str, problems: Problems):
     """Build dataclass ``cls`` from a dict, collecting every problem under ``where``."""
     prefix = f"{where}." if where else ""
     if not isinstance(data, dict):
@@ -146,7 +146,7 @@ def _build(cls, data, where: str, problems: Problems):
 def assessment_from_dict(data) -> model.Assessment:
     """Build and validate an assessment from parsed JSON; raise InputError with every problem."""
     problems = Problems()
-    obj = _build(model.Assessment, data, "", problems)
+    obj = build_dataclass(model.Assessment, data, "", problems)
     problems.raise_if_any()
     return obj
 

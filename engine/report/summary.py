@@ -34,6 +34,7 @@ import numpy as np
 
 from engine.core import __version__
 from engine.io import exports
+from engine.flow import sector_table
 from engine.io import sitefile
 from engine.chain.documents import rank_document
 from engine.core.model import BETZ_CP
@@ -472,7 +473,7 @@ def site_file_bytes(evaluation) -> bytes:
 
 def effective_climate_csv(evaluation) -> bytes:
     """Per-sector effective climate of every position as CSV (one row per position x sector)."""
-    return exports.safe_csv(exports.effective_climate_table(evaluation.climate)).encode("utf-8")
+    return exports.safe_csv(sector_table.effective_climate_table(evaluation.climate)).encode("utf-8")
 
 
 def export_files(evaluation) -> dict:

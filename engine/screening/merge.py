@@ -225,13 +225,13 @@ def _csv_text(frame: pd.DataFrame, header: bool) -> str:
     found with vectorised string tests; every other cell is left as it is, so the text equals
     ``safe_csv`` of the block.
     """
-    from engine.io.exports import _FORMULA_START, neutralise_cell
+    from engine.io.exports import FORMULA_START, neutralise_cell
 
     out = frame.copy()
     for c in out.columns:
         if out[c].dtype == object or str(out[c].dtype).startswith("str"):
             col = out[c].astype(object)
-            starts = col.str.startswith(_FORMULA_START)  # missing for a cell that is not text
+            starts = col.str.startswith(FORMULA_START)  # missing for a cell that is not text
             has_cr = col.str.contains("\r", regex=False)
             hit = (starts.isna() | starts.fillna(False).astype(bool)
                    | has_cr.fillna(False).astype(bool)).to_numpy(bool)
