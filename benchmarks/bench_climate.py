@@ -7,7 +7,7 @@ Measured side by side in one run:
    10-year, 525,600-row record made on the fly (seeded, ``demo_sites/make_records.py``),
    in a fresh child process so its peak resident memory is the chain's own;
 2. the vectorised sector binning (counts, sums of V and V³ per sector,
-   :func:`engine.climate.fit.sector_sums`, blocked so its scratch arrays stay in cache) against a
+   :func:`engine.climate.sectors.sector_sums`, blocked so its scratch arrays stay in cache) against a
    straightforward per-row Python loop doing the same binning on the same arrays; the two
    must agree. Beside it: the same call keeping each record's sector (as the chain does) and
    the previous whole-array formulation, for the record.
@@ -84,20 +84,20 @@ def child(path: str) -> None:
 
 
 def bin_vectorised(v, d, n):
-    """The engine's binning, :func:`engine.climate.fit.sector_sums` (what the chain calls)."""
-    from engine.climate.fit import sector_sums
+    """The engine's binning, :func:`engine.climate.sectors.sector_sums` (what the chain calls)."""
+    from engine.climate.sectors import sector_sums
     return sector_sums(v, d, n)
 
 
 def bin_vectorised_with_index(v, d, n):
     """The same, also keeping each record's sector (the chain needs it for the fits)."""
-    from engine.climate.fit import sector_sums
+    from engine.climate.sectors import sector_sums
     return sector_sums(v, d, n, index_out=np.empty(v.size, np.intp))
 
 
 def bin_whole_arrays(v, d, n):
     """The previous formulation: whole-record temporaries and three bincounts."""
-    from engine.climate.fit import sector_index
+    from engine.climate.sectors import sector_index
     s = sector_index(d, n)
     return (np.bincount(s, minlength=n), np.bincount(s, v, minlength=n),
             np.bincount(s, v * v * v, minlength=n))

@@ -29,6 +29,7 @@ from engine.climate import qc
 from engine.io import records as timeseries
 from engine.core.errors import InputError, Problems, check_range
 from engine.core.model import WindClimate
+from engine.climate.sectors import sector_index, sector_sums
 from engine.climate.weibull import weibull_mean_ms, weibull_power_density_wm2, weibull_scale_from_mean
 
 FIT_METHODS = ("mle", "moments")
@@ -38,132 +39,6 @@ ROSE_EDGES_MS = (0.0, 2.0, 4.0, 6.0, 8.0, 10.0, 12.0, 15.0, np.inf)
 MIN_SECTOR_RECORDS = 30
 LOWER_CONFIDENCE_LABEL = ("screening estimate: mean speed only, Rayleigh (k = 2) assumed in "
                           "every sector; lower confidence than a measured climate")
-
-
-def sector_index(direction_deg, n_sectors: int) -> np.ndarray:
-    """Sector of each direction, sector ``i`` centred on ``i * 360 / n`` degrees [-].
-
-    Notes
-    -----
-    i = floor((θ mod 360) / w + 1/2) mod n, w = 360/n; 360° is north (sector 0). Taken as
-    i = (h + 1) // 2 with the half-sector h = floor(θ · 2n / 360), which is the same number
-    without the rounding of adding 1/2 in floating point.
-    """
-    d = np.asarray(direction_deg, float)
-    if d.size and (d.min() < 0.0 or d.max() > 360.0):
-        d = np.mod(d, 360.0)
-    # int32: half the cast's cost of intp; sector counts are far below its range.
-    half = (d * (2 * n_sectors / 360.0)).astype(np.int32)
-    half += 1
-    half >>= 1
-    np.putmask(half, half >= n_sectors, 0)
-    return half
-
-
-#: Rows per block of :func:`sector_sums`: its scratch arrays (about 32k rows x 8 bytes) stay in
-#: the processor's cache, where whole-record temporaries would each be fresh memory.
-SECTOR_BLOCK_ROWS = 32768
-#: Sub-sector bins per sector in :func:`sector_sums` (a power of two, at least 2). Consecutive
-#: records of a real record mostly fall in the same sector, and one running sum per sector
-#: makes each addition wait for the previous one; narrower bins spread neighbouring records over
-#: several sums, which then overlap. The sub-bins are added up per sector at the end.
-SECTOR_SUBBINS = 16
-
-
-def sector_sums(speed_ms, direction_deg, n_sectors: int, index_out=None):
-    """Records, sum of V and sum of V³ per direction sector, in one blocked pass.
-
-    Parameters
-    ----------
-    speed_ms : (N,) speeds [m/s]
-    direction_deg : (N,) directions the wind comes from [deg]; values outside 0–360 are
-        taken modulo 360
-    n_sectors : number of sectors, sector ``i`` centred on ``i * 360 / n`` degrees
-    index_out : optional (N,) intp array that receives each record's sector, as
-        :func:`sector_index` gives it
-
-    Returns
-    -------
-    counts : (n,) int64 records per sector [-]
-    sum_v : (n,) float sum of speeds per sector [m/s]
-    sum_v3 : (n,) float sum of cubed speeds per sector [m³/s³]
-
-    Raises
-    ------
-    InputError
-        when a direction is NaN or infinite (the quality control excludes those records)
-
-    Notes
-    -----
-    Same sectors as :func:`sector_index`. With L = :data:`SECTOR_SUBBINS` a power of two, the
-    records are counted in sub-bins j = floor(θ · nL / 360) = floor((L/2) h'), h' = θ · 2n / 360
-    (the scaling by L/2 is exact in floating point), and sub-bin j belongs to sector
-    floor((j + L/2) / L) = floor((h' + 1) / 2), the sector of :func:`sector_index`. For
-    0 ≤ θ ≤ 360, j runs from 0 to nL; sector n (the half-sector below 360°) is folded into sector
-    0 at the end. The record is taken in blocks of :data:`SECTOR_BLOCK_ROWS` with preallocated
-    scratch arrays that stay in cache; the totals are those of ``np.bincount`` over the whole
-    record up to the order of the additions.
-    """
-    v = np.asarray(speed_ms, float)
-    d = np.asarray(direction_deg, float)
-    if v.shape != d.shape or v.ndim != 1:
-        raise ValueError(f"speed_ms and direction_deg must be 1-D of one length, got "
-                         f"{v.shape} and {d.shape}")
-    n = int(n_sectors)
-    sub = SECTOR_SUBBINS
-    shift = sub.bit_length() - 1
-    if sub < 2 or sub != 1 << shift:
-        raise ValueError(f"SECTOR_SUBBINS must be a power of two of at least 2, got {sub}")
-    half = sub // 2
-    top = n * sub  # the sub-bin of 360 deg; a larger one means a direction beyond 360
-    width = top + half  # sub-bins 0 .. top + half - 1 (top + half is the next sector's start)
-    total = v.size
-    counts = np.zeros(width, np.int64)
-    sum_v = np.zeros(width)
-    sum_v3 = np.zeros(width)
-    block = max(1, min(SECTOR_BLOCK_ROWS, total))
-    q_buf = np.empty(block)
-    i_buf = np.empty(block, np.intp)
-    c_buf = np.empty(block)
-    scale = n * sub / 360.0  # exactly L/2 times 2n/360
-    for a in range(0, total, block):
-        m = min(block, total - a)
-        vb, db = v[a:a + m], d[a:a + m]
-        q, idx, cube = q_buf[:m], i_buf[:m], c_buf[:m]
-        np.multiply(db, scale, out=q)
-        cnt = None
-        if q.max() < width:  # False for NaN too; keeps the cast and the counts small
-            idx[...] = q  # float to integer truncates toward zero
-            try:
-                cnt = np.bincount(idx, minlength=width)
-            except ValueError:  # a negative sub-bin: a direction below -w/L
-                cnt = None
-        if cnt is None or cnt[top + 1:].any():
-            if not np.all(np.isfinite(db)):
-                raise InputError([("direction_deg", f"has a missing or infinite value in rows "
-                                                    f"{a + 1}-{a + m}; remove those records "
-                                                    "or run the quality control first")])
-            np.multiply(np.mod(db, 360.0), scale, out=q)
-            idx[...] = q
-            cnt = np.bincount(idx, minlength=width)
-        counts += cnt
-        sum_v += np.bincount(idx, vb, minlength=width)
-        np.multiply(vb, vb, out=cube)
-        cube *= vb
-        sum_v3 += np.bincount(idx, cube, minlength=width)
-        if index_out is not None:
-            out = index_out[a:a + m]
-            np.add(idx, half, out=out)
-            out >>= shift
-    if index_out is not None and total:
-        np.putmask(index_out, index_out >= n, 0)
-
-    def fold(x):
-        per = np.concatenate([np.zeros(half, x.dtype), x]).reshape(n + 1, sub).sum(axis=1)
-        per[0] += per[n]
-        return per[:n]
-
-    return fold(counts), fold(sum_v), fold(sum_v3)
 
 
 def weibull_fit_moments(speed_ms, groups=None, n_groups: int = 1):
@@ -371,17 +246,7 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
     -------
     ClimateSummary
     """
-    p = Problems()
-    _check_common(p, height_m, roughness_m, n_sectors, method)
-    v = np.asarray(speed_ms, float)
-    d = np.asarray(direction_deg, float)
-    if v.shape != d.shape:
-        p.add("direction_deg", f"must have one value per speed ({v.size}), got {d.size}")
-    p.raise_if_any()
-    if v.size < 10 or np.count_nonzero(v > 0) < 10:
-        raise InputError([("record", f"has {np.count_nonzero(v > 0)} valid non-zero speeds; at "
-                                     "least 10 are needed for a Weibull fit (check the quality-"
-                                     "control report for what was excluded)")])
+    v, d = _checked_series(speed_ms, direction_deg, height_m, roughness_m, n_sectors, method)
     fit = weibull_fit_mle if method == "mle" else weibull_fit_moments
     sec = np.empty(v.size, np.intp)
     counts, sum_v, sum_v3 = sector_sums(v, d, n_sectors, index_out=sec)
@@ -397,12 +262,7 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
         mean_s = sum_v / counts
         pd_s = 0.5 * air_density_kgm3 * sum_v3 / counts
     own = (n_fit >= min_sector_records) & np.isfinite(k_s)
-    k_out = np.where(own, k_s, k_all)
-    # A thin sector keeps its own mean speed with the all-sector shape.
-    c_thin = np.where(np.isfinite(mean_s) & (mean_s > 0),
-                      weibull_scale_from_mean(np.where(np.isfinite(mean_s), mean_s, 1.0), k_all),
-                      c_all)
-    c_out = np.where(own, c_s, c_thin)
+    k_out, c_out = _thin_sectors_all_shape(own, k_s, c_s, mean_s, k_all, c_all)
     notes = []
     thin = np.flatnonzero(~own)
     if thin.size:
@@ -413,27 +273,12 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
     if calm > 0:
         notes.append(f"{100 * calm:.1f} % calms (0 m/s) are counted in the frequencies but left "
                      "out of the Weibull fits")
-    monthly = np.full(12, np.nan)
-    diurnal = np.full(24, np.nan)
-    if time_ns is not None:
-        t = np.asarray(time_ns, np.int64)
-        month = t.astype("datetime64[ns]").astype("datetime64[M]").astype(np.int64) % 12
-        hour = (t // 3_600_000_000_000) % 24
-        with np.errstate(invalid="ignore", divide="ignore"):
-            monthly = np.bincount(month, v, 12) / np.bincount(month, minlength=12)
-            diurnal = np.bincount(hour, v, 24) / np.bincount(hour, minlength=24)
+    monthly, diurnal = _monthly_diurnal_means(v, time_ns)
     monthly_ok = bool(np.all(np.isfinite(monthly)))
     if time_ns is not None and not monthly_ok:
         notes.append(f"{int(np.sum(~np.isfinite(monthly)))} calendar month(s) without data: "
                      "no monthly means kept with the climate")
-    edges = np.asarray(ROSE_EDGES_MS)
-    b = np.clip(np.searchsorted(edges, v, side="right") - 1, 0, len(edges) - 2)
-    rose_counts = np.bincount(sec * (len(edges) - 1) + b,
-                              minlength=n_sectors * (len(edges) - 1)).reshape(n_sectors, -1)
-    bin_names = [f"{edges[i]:g}-{edges[i + 1]:g}" if np.isfinite(edges[i + 1])
-                 else f">{edges[i]:g}" for i in range(len(edges) - 1)]
-    rose = pd.DataFrame(rose_counts / v.size, columns=bin_names)
-    rose.insert(0, "sector_deg", np.arange(n_sectors) * 360.0 / n_sectors)
+    rose = _rose_table(v, sec, n_sectors)
     clim = WindClimate(height_m=float(height_m), roughness_m=float(roughness_m),
                        frequency=tuple(float(f) for f in freq),
                        weibull_k=tuple(float(k) for k in k_out),
@@ -442,12 +287,7 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
                        label=label or f"{source} record, {v.size} records, {method} fit",
                        monthly_mean_ms=tuple(float(m) for m in monthly) if monthly_ok else (),
                        record_file=record_file, record_sha256=record_sha256)
-    table = pd.DataFrame({
-        "sector_deg": np.arange(n_sectors) * 360.0 / n_sectors,
-        "records": counts, "frequency": freq, "weibull_k": k_out, "weibull_c_ms": c_out,
-        "mean_speed_ms": mean_s, "weibull_mean_speed_ms": weibull_mean_ms(k_out, c_out),
-        "power_density_wm2": pd_s,
-        "fit": np.where(own, "own", "all-sector shape")})
+    table = _sector_table(counts, freq, k_out, c_out, mean_s, pd_s, own)
     return ClimateSummary(
         climate=clim, sectors=table, all_k=k_all, all_c_ms=c_all,
         mean_speed_ms=float(v.mean()),
@@ -457,6 +297,70 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
         calm_fraction=calm, air_density_kgm3=float(air_density_kgm3), rose=rose,
         monthly_mean_ms=monthly, diurnal_mean_ms=diurnal, n_records=int(v.size),
         fit_method=method, notes=tuple(notes))
+
+
+def _checked_series(speed_ms, direction_deg, height_m, roughness_m, n_sectors, method):
+    """Speed and direction as float arrays, after every check of the arguments at once."""
+    p = Problems()
+    _check_common(p, height_m, roughness_m, n_sectors, method)
+    v = np.asarray(speed_ms, float)
+    d = np.asarray(direction_deg, float)
+    if v.shape != d.shape:
+        p.add("direction_deg", f"must have one value per speed ({v.size}), got {d.size}")
+    p.raise_if_any()
+    if v.size < 10 or np.count_nonzero(v > 0) < 10:
+        raise InputError([("record", f"has {np.count_nonzero(v > 0)} valid non-zero speeds; at "
+                                     "least 10 are needed for a Weibull fit (check the quality-"
+                                     "control report for what was excluded)")])
+    return v, d
+
+
+def _sector_table(counts, freq, k_out, c_out, mean_s, pd_s, own):
+    """The per-sector table of a fitted climate, one row per sector."""
+    n_sectors = len(counts)
+    return pd.DataFrame({
+        "sector_deg": np.arange(n_sectors) * 360.0 / n_sectors,
+        "records": counts, "frequency": freq, "weibull_k": k_out, "weibull_c_ms": c_out,
+        "mean_speed_ms": mean_s, "weibull_mean_speed_ms": weibull_mean_ms(k_out, c_out),
+        "power_density_wm2": pd_s,
+        "fit": np.where(own, "own", "all-sector shape")})
+
+
+def _thin_sectors_all_shape(own, k_s, c_s, mean_s, k_all, c_all):
+    """Per-sector k and c: a sector's own fit where ``own``, else the all-sector shape with the
+    sector's own mean speed (or the all-sector scale when it has no speed at all)."""
+    k_out = np.where(own, k_s, k_all)
+    c_thin = np.where(np.isfinite(mean_s) & (mean_s > 0),
+                      weibull_scale_from_mean(np.where(np.isfinite(mean_s), mean_s, 1.0), k_all),
+                      c_all)
+    return k_out, np.where(own, c_s, c_thin)
+
+
+def _monthly_diurnal_means(v, time_ns):
+    """Mean speed per calendar month (12,) and per UTC hour (24,) [m/s]; NaN where empty."""
+    monthly = np.full(12, np.nan)
+    diurnal = np.full(24, np.nan)
+    if time_ns is not None:
+        t = np.asarray(time_ns, np.int64)
+        month = t.astype("datetime64[ns]").astype("datetime64[M]").astype(np.int64) % 12
+        hour = (t // 3_600_000_000_000) % 24
+        with np.errstate(invalid="ignore", divide="ignore"):
+            monthly = np.bincount(month, v, 12) / np.bincount(month, minlength=12)
+            diurnal = np.bincount(hour, v, 24) / np.bincount(hour, minlength=24)
+    return monthly, diurnal
+
+
+def _rose_table(v, sec, n_sectors):
+    """Share of records per sector and speed class of :data:`ROSE_EDGES_MS` (a wind rose)."""
+    edges = np.asarray(ROSE_EDGES_MS)
+    b = np.clip(np.searchsorted(edges, v, side="right") - 1, 0, len(edges) - 2)
+    rose_counts = np.bincount(sec * (len(edges) - 1) + b,
+                              minlength=n_sectors * (len(edges) - 1)).reshape(n_sectors, -1)
+    bin_names = [f"{edges[i]:g}-{edges[i + 1]:g}" if np.isfinite(edges[i + 1])
+                 else f">{edges[i]:g}" for i in range(len(edges) - 1)]
+    rose = pd.DataFrame(rose_counts / v.size, columns=bin_names)
+    rose.insert(0, "sector_deg", np.arange(n_sectors) * 360.0 / n_sectors)
+    return rose
 
 
 def record_air_density_kgm3(record, report, altitude_m: float = 0.0,

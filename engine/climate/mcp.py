@@ -24,7 +24,8 @@ from dataclasses import dataclass
 import numpy as np
 import pandas as pd
 
-from engine.climate.fit import ClimateSummary, climate_from_series, sector_index
+from engine.climate.fit import ClimateSummary, climate_from_series
+from engine.climate.sectors import sector_index
 from engine.core.errors import InputError, Problems
 
 MCP_METHODS = ("linear", "variance_ratio")
@@ -135,6 +136,50 @@ def _line(n, sx, sy, sxx, syy, sxy, method):
     return m, b, r
 
 
+def _check_mcp_inputs(method, n_sectors, rt, tt):
+    """Every problem with the method, the sector count and the two records' lengths at once."""
+    p = Problems()
+    if method not in MCP_METHODS:
+        p.add("method", f"must be one of {', '.join(MCP_METHODS)}, got {method!r}")
+    if not isinstance(n_sectors, (int, np.integer)) or not 1 <= n_sectors <= 72:
+        p.add("n_sectors", f"must be a whole number 1..72, got {n_sectors!r}")
+    if rt.size < 2:
+        p.add("reference", "needs at least two valid rows")
+    if tt.size < 2:
+        p.add("target", "needs at least two valid rows")
+    p.raise_if_any()
+
+
+def _sector_veer_deg(xd, yd, sec, n_sectors, own):
+    """Mean turning of the target's direction from the reference's per sector [deg] (circular
+    mean), the all-sector mean where a sector has too few pairs."""
+    veer = np.deg2rad(np.mod(yd - xd + 180.0, 360.0) - 180.0)
+    vs = np.bincount(sec, np.sin(veer), n_sectors)
+    vc = np.bincount(sec, np.cos(veer), n_sectors)
+    veer_all = float(np.rad2deg(np.arctan2(np.sin(veer).sum(), np.cos(veer).sum())))
+    return np.where(own, np.rad2deg(np.arctan2(vs, vc)), veer_all)
+
+
+def _mcp_warnings(overlap_days, r_a, own, n_sectors, warn_overlap_days, warn_correlation,
+                  min_sector_pairs):
+    """Plain-language warnings on a short overlap, a weak correlation and thin sectors."""
+    warnings = []
+    if overlap_days < warn_overlap_days:
+        warnings.append(f"concurrent period is {overlap_days:.0f} days, shorter than "
+                        f"{warn_overlap_days:.0f}: seasonal differences between the sites are "
+                        "not all sampled, so the long-term estimate is less certain")
+    if not np.isfinite(r_a) or r_a < warn_correlation:
+        warnings.append(f"correlation of concurrent speeds r = {r_a:.2f} is below "
+                        f"{warn_correlation:.2f}: the reference explains little of the site's "
+                        "variation; treat the long-term correction with caution")
+    thin = np.flatnonzero(~own)
+    if thin.size:
+        warnings.append(f"{thin.size} sector(s) with fewer than {min_sector_pairs} concurrent "
+                        "pairs use the all-sector line: "
+                        + ", ".join(f"{i * 360 / n_sectors:g} deg" for i in thin))
+    return warnings
+
+
 def mcp_long_term(target_time_ns, target_speed_ms, target_direction_deg, ref_time_ns,
                   ref_speed_ms, ref_direction_deg, *, method: str = "variance_ratio",
                   n_sectors: int = 12, ref_step_s=None, min_sector_pairs: int = MIN_SECTOR_PAIRS,
@@ -160,18 +205,9 @@ def mcp_long_term(target_time_ns, target_speed_ms, target_direction_deg, ref_tim
     -----
     Per sector s: y = m_s x + b_s, predictions clipped at 0 m/s; direction θ_ref + veer_s.
     """
-    p = Problems()
-    if method not in MCP_METHODS:
-        p.add("method", f"must be one of {', '.join(MCP_METHODS)}, got {method!r}")
-    if not isinstance(n_sectors, (int, np.integer)) or not 1 <= n_sectors <= 72:
-        p.add("n_sectors", f"must be a whole number 1..72, got {n_sectors!r}")
     rt = np.asarray(ref_time_ns, np.int64)
     tt = np.asarray(target_time_ns, np.int64)
-    if rt.size < 2:
-        p.add("reference", "needs at least two valid rows")
-    if tt.size < 2:
-        p.add("target", "needs at least two valid rows")
-    p.raise_if_any()
+    _check_mcp_inputs(method, n_sectors, rt, tt)
     rv = np.asarray(ref_speed_ms, float)
     rd = np.asarray(ref_direction_deg, float)
     step_s = float(np.median(np.diff(rt))) / 1e9 if ref_step_s is None else float(ref_step_s)
@@ -194,11 +230,7 @@ def mcp_long_term(target_time_ns, target_speed_ms, target_direction_deg, ref_tim
     m_a, b_a, r_a = (float(v[0]) for v in _line(*sums(np.zeros(x.size, np.intp), 1), method))
     own = (n_s >= min_sector_pairs) & np.isfinite(m_s) & np.isfinite(b_s)
     m_s, b_s = np.where(own, m_s, m_a), np.where(own, b_s, b_a)
-    veer = np.deg2rad(np.mod(yd - xd + 180.0, 360.0) - 180.0)
-    vs = np.bincount(sec, np.sin(veer), n_sectors)
-    vc = np.bincount(sec, np.cos(veer), n_sectors)
-    veer_all = float(np.rad2deg(np.arctan2(np.sin(veer).sum(), np.cos(veer).sum())))
-    veer_s = np.where(own, np.rad2deg(np.arctan2(vs, vc)), veer_all)
+    veer_s = _sector_veer_deg(xd, yd, sec, n_sectors, own)
 
     sec_all = sector_index(rd, n_sectors)
     pred = np.maximum(m_s[sec_all] * rv + b_s[sec_all], 0.0)
@@ -206,20 +238,8 @@ def mcp_long_term(target_time_ns, target_speed_ms, target_direction_deg, ref_tim
     pred_conc = np.maximum(m_s[sec] * x + b_s[sec], 0.0)
     overlap_days = float(rt[ok][-1] - rt[ok][0]) / 86400e9 + step_s / 86400.0
 
-    warnings = []
-    if overlap_days < warn_overlap_days:
-        warnings.append(f"concurrent period is {overlap_days:.0f} days, shorter than "
-                        f"{warn_overlap_days:.0f}: seasonal differences between the sites are "
-                        "not all sampled, so the long-term estimate is less certain")
-    if not np.isfinite(r_a) or r_a < warn_correlation:
-        warnings.append(f"correlation of concurrent speeds r = {r_a:.2f} is below "
-                        f"{warn_correlation:.2f}: the reference explains little of the site's "
-                        "variation; treat the long-term correction with caution")
-    thin = np.flatnonzero(~own)
-    if thin.size:
-        warnings.append(f"{thin.size} sector(s) with fewer than {min_sector_pairs} concurrent "
-                        "pairs use the all-sector line: "
-                        + ", ".join(f"{i * 360 / n_sectors:g} deg" for i in thin))
+    warnings = _mcp_warnings(overlap_days, r_a, own, n_sectors, warn_overlap_days,
+                             warn_correlation, min_sector_pairs)
     table = pd.DataFrame({"sector_deg": np.arange(n_sectors) * 360.0 / n_sectors,
                           "pairs": n_s, "slope": m_s, "offset_ms": b_s, "correlation": r_s,
                           "veer_deg": veer_s, "line": np.where(own, "own", "all-sector")})

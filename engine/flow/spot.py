@@ -34,6 +34,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
+from engine.climate.sectors import sector_index
 from engine.flow import profiles
 from engine.core.errors import InputError, Problems
 
@@ -77,12 +78,6 @@ def speed_ratio_through_origin(position_ms, reference_ms, group=None, confidence
     t = stats.t.ppf(0.5 * (1.0 + confidence), n - 1)
     return {"ratio": r, "ci_low": np.maximum(r - t * se, 0.0), "ci_high": r + t * se,
             "standard_error": se, "n": n}
-
-
-def sector_index(direction_deg, n_sectors):
-    """Index of the sector (centred on i·360/n) holding each direction."""
-    w = 360.0 / n_sectors
-    return np.mod(np.rint(np.asarray(direction_deg, float) / w).astype(int), n_sectors)
 
 
 def spot_comparison(assessment, eff) -> pd.DataFrame:

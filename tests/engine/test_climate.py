@@ -8,6 +8,7 @@ import pytest
 from scipy import stats
 
 from engine.climate import fit as climate
+from engine.climate import sectors
 from engine.core.errors import InputError
 from engine.climate.weibull import mixture_mean_ms
 
@@ -61,18 +62,18 @@ def test_grouped_fit_equals_separate_fits():
 def test_sector_index_convention():
     """Sector i is centred on i·360/n; 345..15 deg is sector 0 of 12 (engine.core.model convention)."""
     d = np.array([0.0, 14.99, 15.0, 344.99, 345.0, 360.0, 359.9, 180.0])
-    assert climate.sector_index(d, 12).tolist() == [0, 0, 1, 11, 0, 0, 0, 6]
+    assert sectors.sector_index(d, 12).tolist() == [0, 0, 1, 11, 0, 0, 0, 6]
 
 
 def test_sector_sums_match_scipy_binned_statistic():
     """Blocked per-sector count, ΣV and ΣV³ equal scipy.stats.binned_statistic on shifted angles."""
     rng = np.random.default_rng(5)
-    n_rows = 3 * climate.SECTOR_BLOCK_ROWS + 1234  # several blocks and a short last one
+    n_rows = 3 * sectors.SECTOR_BLOCK_ROWS + 1234  # several blocks and a short last one
     v = 6.0 * rng.weibull(2.0, n_rows)
     d = rng.uniform(0.0, 360.0, n_rows)
     d[:4] = (0.0, 15.0, 345.0, 360.0)  # sector edges and both ends of the circle
     idx = np.empty(n_rows, np.intp)
-    counts, s1, s3 = climate.sector_sums(v, d, 12, index_out=idx)
+    counts, s1, s3 = sectors.sector_sums(v, d, 12, index_out=idx)
     # Independent reference: scipy's binning of θ + w/2 (mod 360) into 12 equal bins of 30°.
     shifted = np.mod(d + 15.0, 360.0)
     edges = np.linspace(0.0, 360.0, 13)
@@ -82,18 +83,18 @@ def test_sector_sums_match_scipy_binned_statistic():
     assert counts.tolist() == ref_n.astype(int).tolist()
     np.testing.assert_allclose(s1, ref_1, rtol=1e-12)
     np.testing.assert_allclose(s3, ref_3, rtol=1e-12)
-    assert np.array_equal(idx, climate.sector_index(d, 12))
+    assert np.array_equal(idx, sectors.sector_index(d, 12))
     assert counts.sum() == n_rows and np.all(s1 >= 0) and np.all(s3 >= 0)
 
 
 def test_sector_sums_wrap_and_reject_missing_direction():
     """Directions outside 0-360 wrap like sector_index; a NaN direction is named, not binned."""
     d = np.array([-20.0, 370.0, 725.0, 180.0])
-    counts, s1, _ = climate.sector_sums(np.ones(4), d, 12)
+    counts, s1, _ = sectors.sector_sums(np.ones(4), d, 12)
     # -20 deg = 340 deg (sector 11), 370 = 10 deg and 725 = 5 deg (sector 0), 180 (sector 6).
     assert counts.tolist() == [2, 0, 0, 0, 0, 0, 1, 0, 0, 0, 0, 1]
     with pytest.raises(InputError, match="direction_deg"):
-        climate.sector_sums(np.ones(3), np.array([10.0, np.nan, 20.0]), 12)
+        sectors.sector_sums(np.ones(3), np.array([10.0, np.nan, 20.0]), 12)
 
 
 def _series(seed=21, n=20000):
@@ -111,7 +112,7 @@ def test_climate_from_series_tables():
     """Per-sector frequency, fits, mean speed, power density, rose, monthly and diurnal means."""
     v, d, t = _series()
     s = climate.climate_from_series(v, d, t, height_m=10.0, n_sectors=4)
-    sec = climate.sector_index(d, 4)
+    sec = sectors.sector_index(d, 4)
     np.testing.assert_allclose(s.climate.frequency, np.bincount(sec, minlength=4) / v.size)
     for i in range(4):
         k_ref, _, c_ref = stats.weibull_min.fit(v[sec == i], floc=0)  # scipy reference
@@ -205,8 +206,8 @@ def test_sector_sums_agree_with_sector_index_on_awkward_directions():
         d = np.concatenate([edges, np.nextafter(edges, -np.inf), np.nextafter(edges, np.inf),
                             rng.uniform(-720.0, 1080.0, 5000), [0.0, 360.0, 1e6, -1e6]])
         idx = np.empty(d.size, np.intp)
-        counts, _, _ = climate.sector_sums(np.ones(d.size), d, n, index_out=idx)
-        ref = climate.sector_index(d, n)
+        counts, _, _ = sectors.sector_sums(np.ones(d.size), d, n, index_out=idx)
+        ref = sectors.sector_index(d, n)
         assert np.array_equal(idx, ref), n
         # Independent of both: the definition i = floor((θ mod 360)/w + 1/2) mod n, counted by
         # numpy's histogram (common practice: sectors centred on multiples of 360/n).
