@@ -10,13 +10,15 @@ import argparse
 import sys
 
 from engine.cli.climate import register_climate
+from engine.cli.geodata import register_footprints, register_geojson
 from engine.cli.rank import register_rank, register_schema
 from engine.cli.report import register_report
 from engine.cli.screen import register_screen
 from engine.core import __version__
 from engine.core.errors import InputError
 
-COMMANDS = [register_rank, register_schema, register_report, register_screen, register_climate]
+COMMANDS = [register_rank, register_schema, register_report, register_screen, register_climate,
+            register_footprints, register_geojson]
 
 
 def build_parser() -> argparse.ArgumentParser:

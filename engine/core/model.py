@@ -73,6 +73,12 @@ class Site:
     air_pressure_pa: Optional[float] = None
     assessor: str = ""
     notes: str = ""
+    #: Where the local plan's origin (x 0, y 0) is on Earth [deg], when the site came from GIS
+    #: data; the plan is a transverse Mercator about it (engine.io.footprints).
+    origin_lat_deg: Optional[float] = None
+    origin_lon_deg: Optional[float] = None
+    #: The coordinate reference system the buildings were given in ("EPSG:27700"), for exports.
+    crs: str = ""
 
     def __post_init__(self):
         p = Problems()
@@ -90,6 +96,14 @@ class Site:
             check_range(p, "mean_building_height_m", self.mean_building_height_m, 0, 300, "m", True)
         if self.air_pressure_pa is not None:
             check_range(p, "air_pressure_pa", self.air_pressure_pa, 50000, 110000, "Pa")
+        if (self.origin_lat_deg is None) != (self.origin_lon_deg is None):
+            p.add("origin_lat_deg", "and origin_lon_deg must be given together, or neither")
+        if self.origin_lat_deg is not None:
+            check_range(p, "origin_lat_deg", self.origin_lat_deg, -85, 85, "deg")
+        if self.origin_lon_deg is not None:
+            check_range(p, "origin_lon_deg", self.origin_lon_deg, -180, 180, "deg")
+        if not isinstance(self.crs, str) or len(self.crs) > 2000:
+            p.add("crs", "must be a text of at most 2000 characters (e.g. 'EPSG:27700')")
         _raise(p)
 
 
@@ -173,6 +187,9 @@ class Building:
     roof_type: str = "flat"
     roof_pitch_deg: float = 0.0
     parapet_height_m: float = 0.0
+    #: The true footprint on the plan when it came from GIS data, as x0, y0, x1, y1, ... [m]
+    #: (the block above is its oriented minimum rectangle); empty for a drawn block.
+    outline_xy_m: tuple[float, ...] = ()
 
     def __post_init__(self):
         p = Problems()
@@ -186,7 +203,25 @@ class Building:
         _choice(p, "roof_type", self.roof_type, ROOF_TYPES)
         check_range(p, "roof_pitch_deg", self.roof_pitch_deg, 0, 60, "deg")
         check_range(p, "parapet_height_m", self.parapet_height_m, 0, 5, "m")
+        _check_outline(p, self.outline_xy_m)
         _raise(p)
+
+
+#: Most vertices kept for one footprint outline.
+MAX_OUTLINE_VERTICES = 2000
+
+
+def _check_outline(p: Problems, xy) -> None:
+    n = len(xy)
+    if n == 0:
+        return
+    if n % 2 or n < 6:
+        p.add("outline_xy_m", f"must be x, y pairs of at least 3 vertices, got {n} numbers")
+    elif n > 2 * MAX_OUTLINE_VERTICES:
+        p.add("outline_xy_m", f"must have at most {MAX_OUTLINE_VERTICES} vertices, got {n // 2}"
+                              "; simplify the outline in the GIS")
+    elif not all(math.isfinite(v) and abs(v) <= 1e5 for v in xy):
+        p.add("outline_xy_m", "must hold finite coordinates within ±100 km of the origin [m]")
 
 
 @dataclass(frozen=True)

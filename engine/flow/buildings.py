@@ -12,6 +12,8 @@ directions in degrees clockwise from north, the direction the wind comes *from*;
 """
 from __future__ import annotations
 
+import math
+
 from dataclasses import dataclass
 
 import numpy as np
@@ -210,3 +212,26 @@ def half_extent_m(length_m, width_m, orientation_deg, bearing_deg):
     g = np.radians(np.asarray(bearing_deg, float) - np.asarray(orientation_deg, float))
     return 0.5 * (np.asarray(length_m, float) * np.abs(np.cos(g))
                   + np.asarray(width_m, float) * np.abs(np.sin(g)))
+
+
+def building_corners_m(building) -> np.ndarray:
+    """Plan corners (4, 2) of a rectangular block [m], east and north.
+
+    Notes
+    -----
+    The ``length_m`` side runs along the bearing θ = ``orientation_deg`` (clockwise from
+    north): unit vector (sin θ, cos θ); the ``width_m`` side along (cos θ, -sin θ).
+    """
+    t = math.radians(float(building.orientation_deg))
+    a = np.array([math.sin(t), math.cos(t)]) * building.length_m / 2.0
+    b = np.array([math.cos(t), -math.sin(t)]) * building.width_m / 2.0
+    c = np.array([building.x_m, building.y_m], float)
+    return np.stack([c + a + b, c + a - b, c - a - b, c - a + b])
+
+
+def building_outline_m(building) -> np.ndarray:
+    """Plan outline (N, 2) of a building [m]: its true footprint where it came from GIS data
+    (``outline_xy_m``), else the four corners of its block."""
+    if building.outline_xy_m:
+        return np.asarray(building.outline_xy_m, float).reshape(-1, 2)
+    return building_corners_m(building)

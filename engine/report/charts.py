@@ -19,6 +19,7 @@ import pandas as pd
 from engine.energy import aep as energy
 from engine.flow import effective as flow
 from engine.core import units
+from engine.flow.buildings import building_outline_m
 from engine.climate.weibull import mixture_mean_ms, weibull_cdf, weibull_pdf, weibull_power_density_wm2
 
 BUILDING_FILL = "#d9c9a3"
@@ -41,21 +42,6 @@ def compass_name(direction_deg: float) -> str:
 
 
 # ---------------------------------------------------------------- data for the charts
-
-def building_corners_m(building) -> np.ndarray:
-    """Plan corners (4, 2) of a rectangular block [m], east and north.
-
-    Notes
-    -----
-    The ``length_m`` side runs along the bearing θ = ``orientation_deg`` (clockwise from
-    north): unit vector (sin θ, cos θ); the ``width_m`` side along (cos θ, -sin θ).
-    """
-    t = math.radians(float(building.orientation_deg))
-    a = np.array([math.sin(t), math.cos(t)]) * building.length_m / 2.0
-    b = np.array([math.cos(t), -math.sin(t)]) * building.width_m / 2.0
-    c = np.array([building.x_m, building.y_m], float)
-    return np.stack([c + a + b, c + a - b, c - a - b, c - a + b])
-
 
 def best_per_position(table: pd.DataFrame) -> pd.DataFrame:
     """One row per position: its best-ranked turbine row (the table is already ranked)."""
@@ -199,7 +185,7 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
     lu = length_unit
     feats = []
     for b in a.buildings:
-        ring = L(building_corners_m(b)).tolist()
+        ring = L(building_outline_m(b)).tolist()
         ring.append(ring[0])
         feats.append(_feature("Polygon", [ring], id=b.id,
                               label=f"{b.id} {L(b.height_m):.0f} {lu}",

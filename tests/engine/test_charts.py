@@ -8,6 +8,7 @@ import pandas as pd
 import pytest
 from scipy import stats
 
+from engine.flow import buildings
 from engine.report import charts
 from engine.core import model
 from engine.chain import pipeline
@@ -25,7 +26,7 @@ def test_building_corners_keep_area_and_bearing():
     """A block's corners enclose length × width (shoelace formula) along its bearing."""
     b = model.Building(id="b", x_m=10.0, y_m=-5.0, length_m=40.0, width_m=14.0, height_m=10.0,
                        orientation_deg=30.0)
-    c = charts.building_corners_m(b)
+    c = buildings.building_corners_m(b)
     x, y = c[:, 0], c[:, 1]
     area = 0.5 * abs(np.dot(x, np.roll(y, -1)) - np.dot(y, np.roll(x, -1)))
     assert area == pytest.approx(40.0 * 14.0)  # shoelace formula (plane geometry)

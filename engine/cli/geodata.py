@@ -1,0 +1,123 @@
+"""``python -m engine footprints`` and ``python -m engine geojson``: sites from GIS footprints,
+and the ranked answer back to GIS.
+
+``footprints FOOTPRINTS.geojson --height-field NAME --site BASE.json --out SITE.json`` reads
+building polygons with heights (any CRS pyproj knows; longitude/latitude by default), puts them
+on a local plan about their centre, and writes a site file with the base site's climate,
+turbines and settings, these buildings, and candidate roof positions (the centre of each roof,
+or a grid with ``--grid-spacing-m``). Features that cannot be read are listed on stderr, and
+the others are still written; a file with none readable exits 2.
+
+``geojson SITE.json --out ranked.geojson [--lon-lat]`` writes the ranked positions (best turbine
+each) and the buildings as GeoJSON in the site's CRS, or longitude/latitude.
+"""
+from __future__ import annotations
+
+import dataclasses
+import sys
+from pathlib import Path
+
+from engine.chain import pipeline
+from engine.core.errors import InputError
+from engine.core.model import Position
+from engine.flow.roof_candidates import DEFAULT_SETBACK_M, roof_candidate_points
+from engine.io import footprints, sitefile
+from engine.io.sitefile import atomic_write_bytes
+from engine.report.geodata import ranked_geojson_bytes
+
+
+def _read_bytes(path: str, what: str, limit: int) -> bytes:
+    p = Path(path)
+    if not p.is_file():
+        raise InputError([(what, f"{path!r} is not a readable file")])
+    with open(p, "rb") as f:
+        data = f.read(limit + 1)
+    if len(data) > limit:
+        raise InputError([(what, f"is over the {limit // 2**20} MiB limit")])
+    return data
+
+
+def _positions(buildings, spacing_m, setback_m, mast_height_m):
+    out = []
+    for b in buildings:
+        pts = roof_candidate_points(b, spacing_m, setback_m)
+        for k, (x, y) in enumerate(pts):
+            pid = f"{b.id}-roof" if k == 0 else f"{b.id}-roof-{k}"
+            out.append(Position(id=pid, kind="roof", x_m=round(float(x), 3),
+                                y_m=round(float(y), 3), mast_height_m=mast_height_m,
+                                building_id=b.id))
+    return tuple(out)
+
+
+def cmd_footprints(args) -> int:
+    base = sitefile.load(args.site)
+    data = _read_bytes(args.footprints, "footprints", footprints.MAX_FOOTPRINT_BYTES)
+    fs = footprints.read_footprints(data, height_field=args.height_field,
+                                    id_field=args.id_field, crs=args.crs,
+                                    eaves_field=args.eaves_field, ridge_field=args.ridge_field)
+    if not fs.buildings:
+        raise InputError(list(fs.problems) + [("footprints", "no footprint could be used")])
+    for where, message in fs.problems:
+        print(f"perch footprints: skipped {where}: {message}", file=sys.stderr)
+    site = dataclasses.replace(base.site, origin_lat_deg=fs.plan.origin_lat_deg,
+                               origin_lon_deg=fs.plan.origin_lon_deg, crs=fs.crs)
+    positions = _positions(fs.buildings, args.grid_spacing_m, args.setback_m,
+                           args.mast_height_m)
+    assessment = dataclasses.replace(base, site=site, buildings=fs.buildings,
+                                     positions=positions, spot_readings=(), receptors=())
+    atomic_write_bytes(Path(args.out), sitefile.dumps(assessment).encode("utf-8"),
+                       keep_previous=False)
+    worst = min(fs.area_ratio)
+    print(f"wrote {args.out}: {len(fs.buildings)} buildings, {len(positions)} roof positions; "
+          f"footprint/rectangle area ratio {worst:.2f} at worst")
+    return 0
+
+
+def cmd_geojson(args) -> int:
+    ev = pipeline.evaluate(sitefile.load(args.site))
+    atomic_write_bytes(Path(args.out), ranked_geojson_bytes(ev, lon_lat=args.lon_lat),
+                       keep_previous=False)
+    return 0
+
+
+def _positive(text: str) -> float:
+    import argparse
+    try:
+        v = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"must be a number of metres, got {text!r}") from None
+    if not v > 0 or v != v or v == float("inf"):
+        raise argparse.ArgumentTypeError(f"must be a positive number of metres, got {text!r}")
+    return v
+
+
+def register_footprints(sub):
+    p = sub.add_parser("footprints", help="make a site file from GeoJSON building footprints")
+    p.add_argument("footprints", help="GeoJSON FeatureCollection of building polygons")
+    p.add_argument("--height-field", required=True, help="property holding each height [m]")
+    p.add_argument("--id-field", help="property holding each building's id")
+    p.add_argument("--crs", help="the coordinates' CRS (e.g. EPSG:27700); default: the file's "
+                                 "crs member, else longitude/latitude")
+    p.add_argument("--eaves-field", help="property with the eaves height [m] (pitched roofs)")
+    p.add_argument("--ridge-field", help="property with the ridge height [m] (pitched roofs)")
+    p.add_argument("--site", required=True,
+                   help="base site file: its climate, turbines and settings are kept")
+    p.add_argument("--out", required=True, help="site file to write (JSON)")
+    p.add_argument("--grid-spacing-m", type=_positive,
+                   help="also place candidates on a grid of this spacing on each roof [m]")
+    p.add_argument("--setback-m", type=_positive, default=DEFAULT_SETBACK_M,
+                   help=f"grid candidates keep this far from roof edges [m] "
+                        f"(default {DEFAULT_SETBACK_M})")
+    p.add_argument("--mast-height-m", type=_positive, default=6.0,
+                   help="mast height of every candidate [m] (default 6); the ranking reports "
+                        "the mast that clears the roof's turbulence")
+    p.set_defaults(func=cmd_footprints)
+
+
+def register_geojson(sub):
+    p = sub.add_parser("geojson", help="write ranked positions and buildings as GeoJSON")
+    p.add_argument("site", help="site file (JSON) with a geographic origin")
+    p.add_argument("--out", required=True, help="GeoJSON file to write")
+    p.add_argument("--lon-lat", action="store_true",
+                   help="longitude/latitude (EPSG:4326) instead of the site's own CRS")
+    p.set_defaults(func=cmd_geojson)
