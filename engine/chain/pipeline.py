@@ -58,8 +58,10 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     hub_xyz = np.column_stack([[p.x_m for p in pos], [p.y_m for p in pos], eff.hub_height_m])
     levels, exceeds, margin, worst = noise.receptor_levels_db(
         hub_xyz, assessment.receptors, [t.sound_power_db for t in turbines])
-    money = economics.economics_arrays(net_kwh, [t.installed_cost for t in turbines],
-                                       assessment.economics)
+    k_mean = np.sum(eff.frequency * eff.weibull_k, axis=-1)  # (P,) shape of hourly speeds
+    money = economics.position_money(net_kwh, mean_ms, k_mean, [p.kind for p in pos], mast,
+                                     turbines, assessment.economics,
+                                     assessment.climate.monthly_mean_ms)
     rows = {
         "position_id": np.repeat([p.id for p in pos], T),
         "turbine_id": np.tile([t.id for t in turbines], P),
