@@ -17,6 +17,7 @@ from engine.flow import effective as flow
 from engine.energy import loads
 from engine.energy import noise
 from engine.chain import ranking
+from engine.chain import verdict
 from engine.energy import uncertainty
 from engine.climate.weibull import mixture_mean_ms
 
@@ -121,5 +122,5 @@ def evaluate(assessment) -> Evaluation:
     rho = air.site_air_density_kgm3(assessment.site)
     eff = flow.effective_climate(assessment, rho)
     table = energy_table(assessment, eff)
-    table = ranking.rank(table, assessment.ranking)
+    table = verdict.add_verdicts(ranking.rank(table, assessment.ranking), assessment.economics)
     return Evaluation(assessment=assessment, climate=eff, table=table)
