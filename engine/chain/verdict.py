@@ -56,12 +56,14 @@ def _money_reason(row, cls, e) -> str:
         return (f"the energy is worth {_money(saving, cur)} a year after upkeep and standby "
                 f"use, so it never repays its {float(row['installed_cost']):,.0f} {cur}; "
                 f"NPV {_money(npv, cur)}")
+    cost = float(row["installed_cost"])
     if np.isfinite(pb) and pb <= e.lifetime_years:
         return (f"cash payback {pb:.1f} years, but discounted at {e.discount_rate:.1%} it does "
-                f"not repay within its {life}; NPV {_money(npv, cur)}")
+                f"not repay its {cost:,.0f} {cur} within its {life}; NPV {_money(npv, cur)}")
     when = (f"payback {pb:.1f} years against a {life}" if np.isfinite(pb) else
             f"no payback within {PAYBACK_HORIZON_YEARS} years (against a {life})")
-    return f"{when}; NPV {_money(npv, cur)}"
+    return (f"saves {saving:,.0f} {cur} a year after upkeep and standby use against "
+            f"{cost:,.0f} {cur} installed: {when}; NPV {_money(npv, cur)}")
 
 
 def add_verdicts(table: pd.DataFrame, economics) -> pd.DataFrame:
@@ -96,6 +98,14 @@ def _name(row) -> str:
     return f"{row['turbine_id']} at {row['position_id']}"
 
 
+def _break_even(row, e) -> str:
+    be = float(row.get("break_even_import_price", np.nan))
+    if not np.isfinite(be):
+        return ""
+    return (f" It would break even at an import price of {be:.2f} {e.currency}/kWh "
+            f"(now {e.tariff_per_kwh:.2f}).")
+
+
 def headline(table: pd.DataFrame, economics) -> str:
     """The site's answer in one or two sentences, the verdict first (never "recommended").
 
@@ -125,12 +135,14 @@ def headline(table: pd.DataFrame, economics) -> str:
     if not ok["verdict"].isin(VERDICTS[:2]).any():
         least = ok.iloc[int(np.argmax(ok["npv"].to_numpy(dtype=float)))] if "npv" in ok else lead
         text = (f"None of the options pays back at these prices; the least bad is "
-                f"{_name(least)}: {least['verdict_reason']}.")
+                f"{_name(least)}: {least['verdict_reason']}.") + _break_even(least, economics)
         if least is not lead and _name(least) != _name(lead):
             text += (f" The leading option, {_name(lead)}, {lead['verdict']}: "
                      f"{lead['verdict_reason']}.")
         return text
     text = f"{_name(lead)} {verdict}: {lead['verdict_reason']}."
+    if verdict != VERDICTS[0]:
+        text += _break_even(lead, economics)
     if verdict != VERDICTS[0] and len(pays):
         best = pays.iloc[0]
         text += f" {_name(best)} {VERDICTS[0]}: {best['verdict_reason']}."
