@@ -28,7 +28,7 @@ from engine.core import model  # noqa: E402
 from engine.chain import pipeline  # noqa: E402
 from engine.chain import ranking  # noqa: E402
 from engine.io import sitefile  # noqa: E402
-                    turbines, uncertainty)
+from engine.energy import turbines, uncertainty  # noqa: E402
 
 SEED = 20261205
 N_POSITIONS = 50

@@ -87,3 +87,22 @@ def test_self_consumed_share_bounds_and_load_effect():
     assert np.all(shares[2] >= shares[1]) and np.all(shares[1] > 0)
     # Used on site never exceeds the load: share × E <= annual load.
     assert np.all(shares[1] * net <= 2000.0 + 1e-9)
+
+
+def test_fast_path_equals_the_reference_composition():
+    """The chain's in-place path gives the shares of generation_shares + self_consumed_kwh
+    (the definitions above) to 1e-4: the curve table at 0.01 m/s steps and single precision
+    move only the last digits."""
+    tur = model.Turbine(id="t", name="t", axis="horizontal", rated_power_w=3000.0,
+                        curve_speed_ms=(2.5, 4.0, 8.0, 11.0, 20.0),
+                        curve_power_w=(0.0, 150.0, 1500.0, 3000.0, 3000.0),
+                        cut_in_ms=2.5, rated_speed_ms=11.0, cut_out_ms=20.0,
+                        rotor_diameter_m=4.0)
+    mean, k = np.array([3.0, 5.5, 7.0]), np.array([1.6, 2.0, 2.6])
+    net = np.array([[800.0], [3000.0], [6000.0]])
+    e = model.Economics(load_profile="office", annual_load_kwh=5000.0)
+    fast = selfuse.self_consumed_share(mean, k, net, [tur], e, block_rows=2)
+    unit = selfuse.unit_speed_series(k)
+    gen = selfuse.generation_shares(mean, unit, tur.curve_speed_ms, tur.curve_power_w) * net
+    ref = selfuse.self_consumed_kwh(gen, selfuse.typical_load_kwh("office", 5000.0)) / net[:, 0]
+    assert fast[:, 0] == pytest.approx(ref, abs=1e-4)
