@@ -176,3 +176,59 @@ def test_economics_arrays_shapes_and_bounds():
     assert np.all((out["self_consumed_share"] >= 0) & (out["self_consumed_share"] <= 1))
     assert np.all(out["self_consumed_kwh"] <= net + 1e-12)
     assert np.all(out["exported_kwh"] >= 0)
+
+
+def test_bad_money_input_names_the_field():
+    """Out-of-range or inconsistent money inputs are all reported, each naming its field."""
+    from engine.core.errors import InputError
+    with pytest.raises(InputError) as err:
+        model.Economics(export_price_per_kwh=-0.1, degradation_per_year=0.5,
+                        load_profile="custom", load_hourly_kwh=(1.0,) * 10,
+                        standby_kwh_per_year=-5.0)
+    where = [w for w, _ in err.value.problems]
+    for name in ("export_price_per_kwh", "degradation_per_year", "load_hourly_kwh",
+                 "standby_kwh_per_year"):
+        assert name in where
+    with pytest.raises(InputError) as err:
+        model.Economics(load_profile="bakery")
+    assert "must be one of household" in err.value.problems[0][1]
+
+
+def test_old_economics_section_still_loads():
+    """A site file written before the new keys loads with their defaults (backward compat)."""
+    from engine.io import sitefile
+    import json
+    from pathlib import Path
+    demo = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
+    data = json.loads(demo.read_text())
+    data["economics"] = {"currency": "EUR", "om_cost_per_year": 150.0, "tariff_per_kwh": 0.25,
+                         "discount_rate": 0.05, "lifetime_years": 20.0,
+                         "emission_factor_kg_per_kwh": 0.25}
+    data["ranking"].pop("viability_first", None)
+    a = sitefile.loads(json.dumps(data))
+    assert a.economics.export_price_per_kwh == model.Economics().export_price_per_kwh
+    assert a.ranking.viability_first is False
+
+
+def test_money_invariants_on_random_cases():
+    """Seeded random cases: NPV rises with the import price and falls with the cost (slope of
+    -1); NPV >= 0 without support means a discounted payback within the life (definitions)."""
+    rng = np.random.default_rng(11)
+    n = 200
+    net = rng.uniform(0, 10000, n)
+    share = rng.uniform(0, 1, n)
+    cost = rng.uniform(2000, 40000, n)
+    e = _econ(tariff_escalation_per_year=0.02, degradation_per_year=0.01, discount_rate=0.04)
+    base = economics.economics_arrays(net, share, {"installed_cost": cost}, e)
+    dearer = economics.economics_arrays(net, share, {"installed_cost": cost},
+                                        _econ(tariff_escalation_per_year=0.02,
+                                              degradation_per_year=0.01, discount_rate=0.04,
+                                              tariff_per_kwh=0.40))
+    used = share * net > e.standby_kwh_per_year
+    assert np.all(dearer["npv"][used] > base["npv"][used])
+    more = economics.economics_arrays(net, share, {"installed_cost": cost + 1000.0}, e)
+    assert more["npv"] == pytest.approx(base["npv"] - 1000.0)
+    pays = base["npv_without_support"] >= 0
+    assert np.all(base["discounted_payback_years"][pays] <= e.lifetime_years + 1e-9)
+    assert np.all(base["discounted_payback_years"][~pays] > e.lifetime_years - 1e-9)
+    assert np.all(base["payback_years"] <= base["discounted_payback_years"] + 1e-9)
