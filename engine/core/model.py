@@ -354,15 +354,10 @@ class Losses:
 
 @dataclass(frozen=True)
 class Economics:
-    """Money as the client pays and is paid: all in one currency, energy prices per kWh.
+    """Money as the client pays and is paid, in one currency; prices per kWh, rates per year.
 
-    ``tariff_per_kwh`` is the import price (what a self-consumed kWh saves);
-    ``export_price_per_kwh`` what an exported kWh earns. The self-consumed share comes from an
-    hourly generation series against the load profile (:mod:`engine.energy.selfuse`). The
-    installed cost is the turbine's ``installed_cost`` plus the mast or bracket (per metre of
-    mast), the structure (roof fixings or ground foundation) and the electrical connection.
-    Rates are fractions per year; prices and O&M are in today's money, escalated by
-    ``tariff_escalation_per_year`` (prices only) and discounted at ``discount_rate``.
+    Installed cost = turbine's ``installed_cost`` + mast (per metre) + structure + connection.
+    Keys, units and defaults: ``docs/site-file.md``; the model: :mod:`engine.energy.economics`.
     """
 
     currency: str = "EUR"
@@ -415,11 +410,11 @@ class Economics:
                     "per year")
         check_range(p, "degradation_per_year", self.degradation_per_year, 0, 0.2, "per year")
         check_range(p, "standby_kwh_per_year", self.standby_kwh_per_year, 0, 10000, "kWh/year")
-        for name in ("roof_mast_cost_per_m", "ground_mast_cost_per_m"):
-            check_range(p, name, getattr(self, name), 0, 1e5, "per m")
-        for name in ("roof_structure_cost", "ground_structure_cost", "connection_cost",
-                     "capital_grant"):
-            check_range(p, name, getattr(self, name), 0, 1e7)
+        for name, hi, unit in (("roof_mast_cost_per_m", 1e5, "per m"),
+                               ("ground_mast_cost_per_m", 1e5, "per m"),
+                               ("roof_structure_cost", 1e7, ""), ("ground_structure_cost", 1e7, ""),
+                               ("connection_cost", 1e7, ""), ("capital_grant", 1e7, "")):
+            check_range(p, name, getattr(self, name), 0, hi, unit)
         check_range(p, "support_per_kwh", self.support_per_kwh, 0, 10, "per kWh")
         check_range(p, "support_years", self.support_years, 0, 50, "years")
         _choice(p, "load_profile", self.load_profile, LOAD_PROFILES)
