@@ -156,12 +156,15 @@ def test_growing_annuity_is_stable_near_zero_rate():
 
 
 def test_zero_discount_rate_npv_is_undiscounted_sum():
-    """r = 0, constant flows: NPV = n × saving - C0 = 20 × 288 - 9000 = -3240 (hand)."""
-    out = economics.economics_arrays(np.array([2000.0]), np.array([0.6]),
-                                     {"installed_cost": np.array([9000.0])},
-                                     _econ(discount_rate=0.0))
-    assert out["npv"][0] == pytest.approx(-3240.0)
-    assert out["lcoe_per_kwh"][0] == pytest.approx((9000 + 2000) / 40000)
+    """r = 0 (and 1e-16), constant flows: NPV = n × saving - C0 = 20 × 288 - 9000 = -3240;
+    LCOE = (9000 + 20 × 100) / (20 × 2000) = 0.275 (hand)."""
+    for r in (0.0, 1e-16):
+        with np.errstate(all="raise"):
+            out = economics.economics_arrays(np.array([2000.0]), np.array([0.6]),
+                                             {"installed_cost": np.array([9000.0])},
+                                             _econ(discount_rate=r))
+        assert out["npv"][0] == pytest.approx(-3240.0)
+        assert out["lcoe_per_kwh"][0] == pytest.approx(0.275)
 
 
 def test_economics_arrays_shapes_and_bounds():
