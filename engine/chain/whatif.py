@@ -53,9 +53,9 @@ def _npv_at_scales(a, eff, idx, tur, scales, economics=None, energy_factor=1.0,
     pos = a.positions
     kinds = kinds if kinds is not None else [pos[j].kind for j in idx]
     mast_m = mast_m if mast_m is not None else [float(pos[j].mast_height_m) for j in idx]
-    share_tur = dataclasses.replace(tur, installed_cost=tur.installed_cost * cost_scale)
+    priced = dataclasses.replace(tur, installed_cost=tur.installed_cost * cost_scale)
     out = money.position_money(net, mixture_mean_ms(f, k, c), np.sum(f * k, axis=-1), kinds,
-                               mast_m, [share_tur], e, a.climate.monthly_mean_ms)
+                               mast_m, [priced], e, a.climate.monthly_mean_ms)
     return out["npv"][:, 0]
 
 
