@@ -3,6 +3,7 @@ import numpy as np
 import streamlit as st
 
 from dashboard import cache, results_view, state, widgets
+from engine.chain.verdict import headline
 from engine.core import units
 
 ss = st.session_state
@@ -80,6 +81,7 @@ def whatif_and_ranking():
     # ---------------------------------------------------------------- headline and ranking
     ok = table[~table["excluded"]]
     best = ok.iloc[0] if len(ok) else None
+    st.markdown(f"**{headline(table, a.economics)}**")
     c1, c2, c3, c4 = st.columns(4)
     if best is not None:
         c1.metric("Best position", f"{best['position_id']}", f"with {best['turbine_id']}",

@@ -4,6 +4,7 @@ import json
 import streamlit as st
 
 from dashboard import exports, results_view, state, widgets
+from engine.chain.verdict import headline_for
 
 ss = st.session_state
 widgets.step_banner("summary", "6. Summary")
@@ -18,6 +19,7 @@ for i, (key, title, _) in enumerate(state.STEPS):
     st.markdown(f"{mark} {i + 1}. {title}: {'complete' if ok else 'needs attention'}")
 
 st.subheader("Best positions")
+st.markdown(f"**{headline_for(ev)}**")
 st.table(results_view.top_rows(ev.table, S, L, n=5), hide_index=False)
 
 st.subheader("Take away")

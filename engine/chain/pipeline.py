@@ -17,6 +17,7 @@ from engine.flow import effective as flow
 from engine.energy import loads
 from engine.energy import noise
 from engine.chain import ranking
+from engine.chain import verdict
 from engine.energy import uncertainty
 from engine.climate.weibull import mixture_mean_ms
 
@@ -58,8 +59,10 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     hub_xyz = np.column_stack([[p.x_m for p in pos], [p.y_m for p in pos], eff.hub_height_m])
     levels, exceeds, margin, worst = noise.receptor_levels_db(
         hub_xyz, assessment.receptors, [t.sound_power_db for t in turbines])
-    money = economics.economics_arrays(net_kwh, [t.installed_cost for t in turbines],
-                                       assessment.economics)
+    k_mean = np.sum(eff.frequency * eff.weibull_k, axis=-1)  # (P,) shape of hourly speeds
+    money = economics.position_money(net_kwh, mean_ms, k_mean, [p.kind for p in pos], mast,
+                                     turbines, assessment.economics,
+                                     assessment.climate.monthly_mean_ms)
     rows = {
         "position_id": np.repeat([p.id for p in pos], T),
         "turbine_id": np.tile([t.id for t in turbines], P),
@@ -119,5 +122,5 @@ def evaluate(assessment) -> Evaluation:
     rho = air.site_air_density_kgm3(assessment.site)
     eff = flow.effective_climate(assessment, rho)
     table = energy_table(assessment, eff)
-    table = ranking.rank(table, assessment.ranking)
+    table = verdict.add_verdicts(ranking.rank(table, assessment.ranking), assessment.economics)
     return Evaluation(assessment=assessment, climate=eff, table=table)

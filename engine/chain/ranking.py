@@ -7,13 +7,18 @@ a receptor's limit, extreme rotor thrust above the load limit. Its reasons, with
 behind them, are appended to ``flags`` and it is ranked after every eligible row, never
 silently dropped.
 
-Objectives: ``net_aep`` and ``p90_aep`` (larger is better), ``lcoe`` and ``payback`` (smaller
-is better). Ties are broken by position and turbine id, so a ranking is reproducible.
+Objectives: ``net_aep``, ``p90_aep`` and ``npv`` (larger is better), ``lcoe`` and ``payback``
+(smaller is better). With ``viability_first`` the options that pay back within their life come
+first, then those that pay back only with support, then the rest (each group by the objective;
+:func:`engine.chain.verdict.money_class`). Ties are broken by position and turbine id, so a
+ranking is reproducible. ``exclusion_reason`` holds each excluded row's constraint texts.
 """
 from __future__ import annotations
 
 import numpy as np
 import pandas as pd
+
+from engine.chain.verdict import money_class
 
 #: objective -> (column, larger is better)
 OBJECTIVE_COLUMNS = {
@@ -21,6 +26,7 @@ OBJECTIVE_COLUMNS = {
     "p90_aep": ("p90_aep_kwh", True),
     "lcoe": ("lcoe_per_kwh", False),
     "payback": ("payback_years", False),
+    "npv": ("npv", True),
 }
 
 
@@ -68,7 +74,8 @@ def exclusion_reasons(table: pd.DataFrame, settings) -> list:
 
 
 def rank(table: pd.DataFrame, settings) -> pd.DataFrame:
-    """Sort rows by the objective; eligible rows first. Adds ``rank``, ``excluded``, ``flags``.
+    """Sort rows by the objective; eligible rows first. Adds ``rank``, ``excluded``, ``flags``,
+    ``exclusion_reason``.
 
     A missing objective column falls back to net AEP; non-finite values (an LCOE or payback
     with no energy) rank last.
@@ -80,12 +87,15 @@ def rank(table: pd.DataFrame, settings) -> pd.DataFrame:
     reasons = exclusion_reasons(out, settings)
     out["excluded"] = [bool(r) for r in reasons]
     out["flags"] = [list(f) + [r for r in rs if r not in f] for f, rs in zip(out["flags"], reasons)]
+    out["exclusion_reason"] = ["; ".join(r) for r in reasons]
     key = out[col].to_numpy(dtype=float)
     key = np.where(np.isfinite(key), key, -np.inf if larger_better else np.inf)
     score = -key if larger_better else key
-    # Stable order: eligibility, objective, then ids (so ties are reproducible).
+    viable = (money_class(out) if getattr(settings, "viability_first", False)
+              else np.zeros(len(out), int))
+    # Stable order: eligibility, viability if asked, objective, then ids (ties reproducible).
     order = np.lexsort((out["turbine_id"].to_numpy(), out["position_id"].to_numpy(),
-                        score, out["excluded"].to_numpy()))
+                        score, viable, out["excluded"].to_numpy()))
     out = out.iloc[order].reset_index(drop=True)
     out.insert(0, "rank", np.arange(1, len(out) + 1))
     return out

@@ -8,6 +8,7 @@ import pandas as pd
 
 from engine.chain import pipeline
 from engine.chain.documents import rank_document
+from engine.chain.verdict import headline_for
 from engine.io import sitefile
 
 
@@ -28,7 +29,7 @@ def cmd_rank(args) -> int:
         from engine.io.exports import safe_csv
         sys.stdout.write(safe_csv(ev.table))
     else:
-        print(_table_text(ev.table))
+        print(headline_for(ev) + "\n\n" + _table_text(ev.table))
     return 0
 
 

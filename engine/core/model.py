@@ -34,7 +34,8 @@ AXIS_TYPES = ("horizontal", "vertical")
 REGULATION_TYPES = ("stall", "pitch")
 IEC_SMALL_CLASSES = ("I", "II", "III", "IV", "S")
 CLIMATE_SOURCES = ("table", "measured", "long_term", "mean_speed")
-OBJECTIVES = ("net_aep", "p90_aep", "lcoe", "payback")
+OBJECTIVES = ("net_aep", "p90_aep", "lcoe", "payback", "npv")
+LOAD_PROFILES = ("household", "office", "workshop", "none", "custom")
 TRANSFER_METHODS = ("log_law", "power_law")
 MORPHOMETRY_LAYOUTS = ("staggered", "square")
 
@@ -388,22 +389,82 @@ class Losses:
 
 @dataclass(frozen=True)
 class Economics:
-    """Money: all in one currency; energy prices per kWh."""
+    """Money as the client pays and is paid, in one currency; prices per kWh, rates per year.
+
+    Installed cost = turbine's ``installed_cost`` + mast (per metre) + structure + connection.
+    Keys, units and defaults: ``docs/site-file.md``; the model: :mod:`engine.energy.economics`.
+    """
 
     currency: str = "EUR"
     om_cost_per_year: float = 150.0
+    #: Import price [currency/kWh]: what each self-consumed kWh saves.
     tariff_per_kwh: float = 0.25
     discount_rate: float = 0.05
     lifetime_years: float = 20.0
     emission_factor_kg_per_kwh: float = 0.25
+    #: Export price [currency/kWh] paid for energy sent to the grid.
+    export_price_per_kwh: float = 0.06
+    #: Yearly change of import and export prices [1/year] (0: constant in today's money).
+    tariff_escalation_per_year: float = 0.0
+    #: Yearly loss of energy yield as the turbine ages [1/year].
+    degradation_per_year: float = 0.005
+    #: Standby and inverter consumption bought from the grid [kWh/year].
+    standby_kwh_per_year: float = 50.0
+    #: Mast or bracket on a roof, per metre of mast [currency/m].
+    roof_mast_cost_per_m: float = 150.0
+    #: Free-standing mast (gap and mast positions), per metre of mast [currency/m].
+    ground_mast_cost_per_m: float = 300.0
+    #: Roof fixings, survey and strengthening allowance per roof position [currency].
+    roof_structure_cost: float = 1500.0
+    #: Foundation of a free-standing mast [currency].
+    ground_structure_cost: float = 1000.0
+    #: Inverter, wiring and grid connection [currency].
+    connection_cost: float = 1200.0
+    #: One-off grant towards the installed cost [currency] (support).
+    capital_grant: float = 0.0
+    #: Payment per kWh generated [currency/kWh] for ``support_years`` (support).
+    support_per_kwh: float = 0.0
+    support_years: float = 20.0
+    #: Whose electricity use the turbine serves: one of LOAD_PROFILES. The typical profiles
+    #: are invented shapes scaled to ``annual_load_kwh``; ``custom`` uses ``load_hourly_kwh``;
+    #: ``none`` exports every kWh.
+    load_profile: str = "household"
+    annual_load_kwh: float = 3500.0
+    #: Custom load [kWh in each hour]: 24 values (every day alike) or 8760 (a year from 1 Jan).
+    load_hourly_kwh: tuple[float, ...] = ()
 
     def __post_init__(self):
         p = Problems()
         check_range(p, "om_cost_per_year", self.om_cost_per_year, 0, 1e6)
-        check_range(p, "tariff_per_kwh", self.tariff_per_kwh, 0, 10)
+        check_range(p, "tariff_per_kwh", self.tariff_per_kwh, 0, 10, "per kWh")
         check_range(p, "discount_rate", self.discount_rate, 0, 0.5)
         check_range(p, "lifetime_years", self.lifetime_years, 1, 50, "years")
         check_range(p, "emission_factor_kg_per_kwh", self.emission_factor_kg_per_kwh, 0, 2, "kg/kWh")
+        check_range(p, "export_price_per_kwh", self.export_price_per_kwh, 0, 10, "per kWh")
+        check_range(p, "tariff_escalation_per_year", self.tariff_escalation_per_year, -0.2, 0.3,
+                    "per year")
+        check_range(p, "degradation_per_year", self.degradation_per_year, 0, 0.2, "per year")
+        check_range(p, "standby_kwh_per_year", self.standby_kwh_per_year, 0, 10000, "kWh/year")
+        for name, hi, unit in (("roof_mast_cost_per_m", 1e5, "per m"),
+                               ("ground_mast_cost_per_m", 1e5, "per m"),
+                               ("roof_structure_cost", 1e7, ""), ("ground_structure_cost", 1e7, ""),
+                               ("connection_cost", 1e7, ""), ("capital_grant", 1e7, "")):
+            check_range(p, name, getattr(self, name), 0, hi, unit)
+        check_range(p, "support_per_kwh", self.support_per_kwh, 0, 10, "per kWh")
+        check_range(p, "support_years", self.support_years, 0, 50, "years")
+        _choice(p, "load_profile", self.load_profile, LOAD_PROFILES)
+        check_range(p, "annual_load_kwh", self.annual_load_kwh, 0, 1e7, "kWh/year")
+        n = len(self.load_hourly_kwh)
+        if self.load_profile == "custom" and n not in (24, 8760):
+            p.add("load_hourly_kwh", f"must hold 24 or 8760 hourly values for load_profile "
+                                     f"custom, got {n}")
+        elif n not in (0, 24, 8760):
+            p.add("load_hourly_kwh", f"must be empty, 24 or 8760 hourly values, got {n}")
+        bad = [i for i, v in enumerate(self.load_hourly_kwh)
+               if not isinstance(v, (int, float)) or not (0 <= v <= 1e4)]
+        if bad:
+            p.add(f"load_hourly_kwh[{bad[0]}]", f"must be >= 0 and <= 10000 kWh, got "
+                                                f"{self.load_hourly_kwh[bad[0]]!r}")
         _raise(p)
 
 
@@ -486,10 +547,14 @@ class RankingSettings:
     apply_noise_limits: bool = True
     max_mast_height_m: float = 15.0
     max_thrust_n: float = 0.0  # 0 means no thrust limit
+    #: Rank the options that pay back first (then those that need support, then the rest).
+    viability_first: bool = False
 
     def __post_init__(self):
         p = Problems()
         _choice(p, "objective", self.objective, OBJECTIVES)
+        if not isinstance(self.viability_first, bool):
+            p.add("viability_first", f"must be true or false, got {self.viability_first!r}")
         check_range(p, "max_mast_height_m", self.max_mast_height_m, 0.5, 60, "m")
         check_range(p, "max_thrust_n", self.max_thrust_n, 0, 1e6, "N")
         _raise(p)

@@ -187,7 +187,21 @@ COLUMN_FORMATS = {
     "lcoe_per_kwh": ("Cost of energy [per kWh]", lambda v: fmt_fixed(v, 3)),
     "p75_aep_kwh": ("P75 AEP [kWh/yr]", lambda v: fmt_fixed(v, 0)),
     "full_load_hours": ("Full-load hours [h/yr]", lambda v: fmt_fixed(v, 0)),
-    "payback_years": ("Simple payback [years]", lambda v: fmt_fixed(v, 1)),
+    "payback_years": ("Cash payback [years]", lambda v: fmt_fixed(v, 1)),
+    "discounted_payback_years": ("Discounted payback [years]", lambda v: fmt_fixed(v, 1)),
+    "cost_turbine": ("Turbine cost", lambda v: fmt_fixed(v, 0)),
+    "cost_mast": ("Mast or bracket cost", lambda v: fmt_fixed(v, 0)),
+    "cost_structure": ("Structure cost", lambda v: fmt_fixed(v, 0)),
+    "cost_connection": ("Connection cost", lambda v: fmt_fixed(v, 0)),
+    "first_year_saving": ("Net saving, first year [per yr]", lambda v: fmt_fixed(v, 0)),
+    "npv_without_support": ("NPV without support", lambda v: fmt_fixed(v, 0)),
+    "break_even_import_price": ("Break-even import price [per kWh]", lambda v: fmt_fixed(v, 3)),
+    "self_consumed_share": ("Used on site", lambda v: fmt_percent(v, 0)),
+    "self_consumed_kwh": ("Used on site [kWh/yr]", lambda v: fmt_fixed(v, 0)),
+    "exported_kwh": ("Exported [kWh/yr]", lambda v: fmt_fixed(v, 0)),
+    "verdict": ("Verdict", str),
+    "verdict_reason": ("Why", str),
+    "exclusion_reason": ("Excluded because", lambda v: v or DASH),
     "installed_cost": ("Installed cost", lambda v: fmt_fixed(v, 0)),
     "npv": ("Net present value", lambda v: fmt_fixed(v, 0)),
     "co2_avoided_kg_per_year": ("CO2 avoided [kg/yr]", lambda v: fmt_fixed(v, 0)),
@@ -496,6 +510,7 @@ def export_files(evaluation) -> dict:
 def _recommendation(evaluation, records) -> tuple[dict | None, list]:
     a = evaluation.assessment
     from engine.chain.ranking import exclusion_reasons
+    from engine.chain.verdict import headline_for
     # The ranking's own constraint texts per row (the flags also carry advice).
     reasons = exclusion_reasons(evaluation.table, a.ranking)
     eligible = [r for r in records if not r.get("excluded")]
@@ -515,7 +530,8 @@ def _recommendation(evaluation, records) -> tuple[dict | None, list]:
     best = eligible[0]
     val = format_cell(col, best.get(col))
     lines.append(Paragraph(
-        f"Recommended: {best['turbine_id']} at {best['position_id']} (rank {best['rank']}), "
+        f"{headline_for(evaluation)} Leading option: {best['turbine_id']} at "
+        f"{best['position_id']} (rank {best['rank']}), "
         f"with {format_cell('aep_kwh', best['aep_kwh'])} kWh of net energy a year"
         + (f" (P90 {format_cell('p90_aep_kwh', best['p90_aep_kwh'])} kWh)"
            if _finite(best.get("p90_aep_kwh")) else "")
