@@ -42,7 +42,7 @@ def rank_json_bytes(evaluation) -> bytes:
 def report_builders():
     """The siting summary's builders when the engine has them, else None."""
     try:
-        from engine.report import summary as report
+        from engine import report
     except ImportError:
         return None
     if all(hasattr(report, n) for n in ("build_summary", "render_html", "render_pdf")):
