@@ -2,8 +2,8 @@
 
 Tables are laid out here rather than by fpdf2: column widths follow the content (no column
 is narrower than its longest word, so no word is ever broken inside a cell; a wide table
-gets a smaller type first), a table never starts with fewer than two rows at the foot of a
-page, and its last row never stands alone on a new page. The appendix starts on a new page.
+gets a smaller type first), a short table is never split, a long one never starts with
+fewer than two rows at the foot of a page, and its last row never stands alone on a new page. The appendix starts on a new page.
 """
 from __future__ import annotations
 
@@ -21,6 +21,11 @@ MAX_FIGURE_HEIGHT_MM = 112.0
 #: Cell padding [mm] and the type sizes [pt] a table may use, largest first.
 PAD_MM = 0.8
 TABLE_SIZES_PT = (8.0, 7.4, 6.8, 6.2)
+#: Room [mm] a section needs below its heading to start on the current page (the cautions
+#: and their sign-off stay together; others need a few lines).
+KEEP_TOGETHER_MM = {"cautions": 150.0}
+#: Tables of up to this many rows are never split across pages.
+KEEP_WHOLE_ROWS = 6
 #: Longest share of the page width one column of long text takes before it wraps.
 MAX_TEXT_SHARE = 0.55
 INK, MUTED, ACCENT = (29, 35, 43), (91, 100, 112), (31, 95, 153)
@@ -266,8 +271,10 @@ class PdfSummary:
         self.font(7.5)
         tail_h = 4.0 + 3.8 * len(self._wrap(self.t(t.caption), pdf.epw - 2)) if t.caption else 0.0
         title_h = 6.0 if t.title else 0.0
-        start = head_h + title_h + sum(h for _, h in rows[:2]) + (tail_h if len(rows) <= 2
-                                                                   else 0.0)
+        # A short table stays on one page; a long one starts with at least two rows.
+        whole = len(rows) <= KEEP_WHOLE_ROWS
+        start = head_h + title_h + sum(h for _, h in (rows if whole else rows[:2])) + (
+            tail_h if whole else 0.0)
         if pdf.get_y() + start > pdf.page_break_trigger:
             pdf.add_page()
         if t.title:
@@ -360,7 +367,7 @@ def render_pdf(summary: Summary, font="auto") -> bytes:
             in_appendix = True
             pdf.add_page()
             doc.heading("Appendix", size=15, colour=INK)
-        elif sec.key == "charts" or pdf.get_y() > pdf.page_break_trigger - 40:
+        elif pdf.get_y() > pdf.page_break_trigger - KEEP_TOGETHER_MM.get(sec.key, 40.0):
             pdf.add_page()
         doc.heading(sec.heading)
         for b in sec.blocks:
