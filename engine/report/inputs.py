@@ -48,7 +48,7 @@ TITLES = {"site": "Site", "climate": "Reference climate", "transfer": "Climate t
 #: Groups whose fractions are shown as percentages.
 PERCENT_GROUPS = ("losses", "uncertainty")
 #: Per-sector arrays of the climate, with their labels.
-SECTOR_ARRAYS = (("frequency", "Frequency (%)"), ("weibull_k", "Weibull k"),
+SECTOR_ARRAYS = (("frequency", "Frequency"), ("weibull_k", "Weibull k"),
                  ("weibull_c_ms", "Weibull c (m/s)"))
 #: Items with more fields than this are shown one column per item.
 MAX_COLUMNS = 9
