@@ -165,3 +165,12 @@ def test_one_export_naming_scheme():
     assert all(n.startswith("aland-wharf-north-test") for n in names.values())
     assert file_stem("") == "site" and not math.isnan(len(file_stem("x" * 200)))
     assert len(file_stem("x" * 200)) == 60
+
+
+def test_dashboard_labels_read_the_contract():
+    """The dashboard's results table takes its headers from the contract, in display units."""
+    pytest.importorskip("streamlit")
+    from dashboard import results_view
+    for name in ("mean_speed_ms", "hub_height_m", "aep_kwh", "mast_to_clear_turbulence_m"):
+        assert results_view.header(name, "mph", "ft") == columns.column_label(name, "mph", "ft")
+    assert results_view.header("hub_height_m", "mph", "ft") == "Hub height (ft)"
