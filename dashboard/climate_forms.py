@@ -9,6 +9,7 @@ import streamlit as st
 
 from engine.report import charts
 from engine.core import units
+from engine.climate.fit import RECORD_ROUGHNESS_M
 from engine.core.errors import InputError
 from engine.climate.weibull import mixture_mean_ms
 
@@ -115,7 +116,7 @@ def _table_form() -> None:
         try:
             built = eng.climate_from_table(
                 freq, ks, cs, height_m=float(clim.get("height_m") or 10.0),
-                roughness_m=float(clim.get("roughness_m") or 0.03),
+                roughness_m=float(clim.get("roughness_m") or RECORD_ROUGHNESS_M),
                 displacement_m=float(clim.get("displacement_m") or 0.0),
                 label=clim.get("label", ""))
             new["frequency"] = list(built.frequency)
@@ -149,7 +150,7 @@ def _mean_form() -> None:
         built = eng.climate_from_mean_speed(
             form["mean_ms"] if form["mean_ms"] is not None else float("nan"),
             height_m=float(clim.get("height_m") or 10.0),
-            roughness_m=float(clim.get("roughness_m") or 0.03),
+            roughness_m=float(clim.get("roughness_m") or RECORD_ROUGHNESS_M),
             displacement_m=float(clim.get("displacement_m") or 0.0))
         from engine.io import sitefile
         new = sitefile.assessment_to_dict(built)
@@ -171,7 +172,7 @@ def _record_form() -> None:
                "optional), up to 100 MB. Units are read from the headers; quality control "
                "runs before the fit.")
     up = st.file_uploader("Measured record", type=["csv", "txt", "tsv"], key="record_upload")
-    form = ss.setdefault("record_form", {"height_m": 10.0, "roughness_m": 0.03,
+    form = ss.setdefault("record_form", {"height_m": 10.0, "roughness_m": RECORD_ROUGHNESS_M,
                                          "n_sectors": 12})
     L = state.unit_of("length")
     c1, c2, c3 = st.columns(3)

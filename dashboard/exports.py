@@ -2,18 +2,21 @@
 from __future__ import annotations
 
 import json
-import re
 
 from engine.chain import documents
-from engine.io import exports
 from engine.io import sitefile
 from engine.core.errors import InputError
 
 
 def file_stem(assessment) -> str:
-    """A safe file name stem from the site name."""
-    stem = re.sub(r"[^A-Za-z0-9]+", "-", assessment.site.name).strip("-").lower()
-    return stem[:60] or "site"
+    """A safe file name stem from the site name (the engine's one naming scheme)."""
+    return documents.file_stem(assessment.site.name)
+
+
+def export_names(assessment) -> dict:
+    """Every download's file name by key (``site``, ``rank_csv``, ``rank_json``,
+    ``summary_html``, ``summary_pdf``...): the names the summary attaches and prints."""
+    return documents.export_names(assessment.site.name)
 
 
 def content_sha(assessment) -> str:
@@ -27,7 +30,7 @@ def site_file_bytes(assessment) -> bytes:
 
 def rank_csv_bytes(evaluation) -> bytes:
     """Ranked rows as CSV (SI units in the column names, formula-like text neutralised)."""
-    return exports.safe_csv(evaluation.table).encode("utf-8")
+    return documents.ranking_csv_text(evaluation.table).encode("utf-8")
 
 
 def rank_json_bytes(evaluation) -> bytes:
@@ -39,7 +42,7 @@ def rank_json_bytes(evaluation) -> bytes:
 def report_builders():
     """The siting summary's builders when the engine has them, else None."""
     try:
-        from engine.report import summary as report
+        from engine import report
     except ImportError:
         return None
     if all(hasattr(report, n) for n in ("build_summary", "render_html", "render_pdf")):

@@ -4,6 +4,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from engine.chain import columns
 from engine.core import units
 
 #: Columns shown in the ranked table, in this order, when the chain provides them.
@@ -26,7 +27,7 @@ HEADERS = {
 
 
 def header(name: str, speed_unit: str, length_unit: str) -> str:
-    return HEADERS.get(name) or units.column_label(name, speed_unit, length_unit)
+    return columns.column_label(name, speed_unit, length_unit)
 
 
 def display_table(table: pd.DataFrame, speed_unit: str, length_unit: str,

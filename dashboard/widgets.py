@@ -8,22 +8,9 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
-from . import state
+from engine.report import CAUTIONS  # (title, text): the engine's one list, as in the summary
 
-CAUTIONS = (
-    ("Working at height", "Roof and mast work needs a safe system of work: edge protection or "
-     "fall arrest, a second person, and no work in high wind, rain or ice."),
-    ("Roof structure", "A roof or wall must carry the turbine's weight, thrust and vibration. "
-     "Have a structural engineer check the mounting before anything is fixed to a building."),
-    ("Mast loads", "Masts, foundations and guys must be designed for the extreme gust and the "
-     "rotor thrust by a competent engineer, to the manufacturer's instructions."),
-    ("Electrical work", "Connection to a building's wiring or the grid is work for a licensed "
-     "electrician, with the network operator's consent where the rules ask for it."),
-    ("Noise for neighbours", "Turbine noise and vibration carry, more so at night. Talk to "
-     "neighbours and check the local limits before choosing a position."),
-    ("Planning permission", "Most places need planning permission or a permitted-development "
-     "check for a turbine on or near a building. Ask the local planning authority first."),
-)
+from . import state
 
 CAUTION_FOOTER = ("These figures support a decision; they do not replace local codes, a "
                   "structural engineer's check or a licensed installer's design.")

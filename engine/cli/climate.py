@@ -19,6 +19,29 @@ from engine.core.errors import InputError
 #: Per-sector keys of the JSON output that never change name (later keys are appended).
 SECTOR_FIELDS = ("sector_deg", "frequency", "weibull_k", "weibull_c_ms", "mean_speed_ms")
 
+#: What each value of a sector's ``fit`` means, in words (also in the JSON's ``all``).
+FIT_MEANINGS = {
+    "own": "shape k and scale c fitted to this sector's own records",
+    "all-sector shape": (f"too few records (under {climate.MIN_SECTOR_RECORDS}) for a fit of "
+                         "its own: shape k of all sectors, scale c from this sector's mean "
+                         "speed"),
+}
+#: Short words for the table's ``fit`` column.
+FIT_WORDS = {"own": "own fit", "all-sector shape": "k of all sectors"}
+
+#: Table columns: (column, header, text of a value).
+TABLE_COLUMNS = (("sector_deg", "Sector (°)", "{:.0f}".format),
+                 ("records", "Records", "{:d}".format),
+                 ("frequency", "Frequency (%)", lambda v: f"{100.0 * v:.1f}"),
+                 ("weibull_k", "Weibull k", "{:.3f}".format),
+                 ("weibull_c_ms", "Weibull c (m/s)", "{:.3f}".format),
+                 ("mean_speed_ms", "Mean speed (m/s)", "{:.3f}".format),
+                 ("power_density_wm2", "Power density (W/m²)", "{:.1f}".format),
+                 ("fit", "Weibull fit", lambda v: FIT_WORDS.get(v, str(v))))
+
+FORMAT_HELP = ("output: 'table' (readable; the default) or 'json' (quality control, "
+               "per-sector table and all-sector figures, for other tools)")
+
 
 def climate_document(summary, report) -> dict:
     """The ``climate`` JSON document: quality control, per-sector table, all-sector figures."""
@@ -30,21 +53,27 @@ def climate_document(summary, report) -> dict:
     c = summary.climate
     allsec.update({"height_m": c.height_m, "roughness_m": c.roughness_m,
                    "record_file": c.record_file, "record_sha256": c.record_sha256,
-                   "notes": list(summary.notes)})
+                   "notes": list(summary.notes), "fit_meanings": dict(FIT_MEANINGS)})
     return {"qc": _jsonable(report.to_dict()), "sectors": sectors, "all": _jsonable(allsec)}
 
 
+def _sector_table(sectors) -> str:
+    """The per-sector table as aligned text with readable headers and fit words."""
+    show = pd.DataFrame({head: [text(v) for v in sectors[col].tolist()]
+                         for col, head, text in TABLE_COLUMNS})
+    return show.to_string(index=False)
+
+
 def _table_text(summary, report) -> str:
-    show = summary.sectors[["sector_deg", "records", "frequency", "weibull_k", "weibull_c_ms",
-                            "mean_speed_ms", "power_density_wm2", "fit"]]
     a = summary.all_sectors()
-    with pd.option_context("display.width", 200, "display.max_columns", 20):
-        table = show.to_string(index=False, float_format=lambda x: f"{x:.3f}")
+    table = _sector_table(summary.sectors)
     lines = [report.to_text(), "", f"Climate at {summary.climate.height_m:g} m "
              f"({summary.n_records} records, {summary.fit_method} fit):", table,
              f"all sectors: k {a['weibull_k']:.3f}, c {a['weibull_c_ms']:.3f} m/s, mean "
              f"{a['mean_speed_ms']:.3f} m/s, power density {a['power_density_wm2']:.1f} W/m² "
              f"(air density {a['air_density_kgm3']:.3f} kg/m³)"]
+    used = [v for v in FIT_MEANINGS if v in set(summary.sectors["fit"])]
+    lines += [f"Weibull fit '{FIT_WORDS[v]}': {FIT_MEANINGS[v]}" for v in used]
     lines += [f"note: {n}" for n in summary.notes]
     return "\n".join(lines)
 
@@ -75,11 +104,12 @@ def register_climate(sub):
     p.add_argument("--height-m", type=float, default=10.0, dest="height_m",
                    help="measurement height above ground [m] (default 10)")
     p.add_argument("--sectors", type=int, default=12, help="direction sectors (default 12)")
-    p.add_argument("--format", choices=("table", "json"), default="table")
+    p.add_argument("--format", choices=("table", "json"), default="table", help=FORMAT_HELP)
     p.add_argument("--method", choices=climate.FIT_METHODS, default="mle",
                    help="Weibull fit: maximum likelihood or moments")
-    p.add_argument("--roughness-m", type=float, default=0.05, dest="roughness_m",
-                   help="roughness length around the mast [m] (default 0.05, open terrain)")
+    p.add_argument("--roughness-m", type=float, default=climate.RECORD_ROUGHNESS_M,
+                   dest="roughness_m", help="roughness length around the mast [m] (default "
+                   f"{climate.RECORD_ROUGHNESS_M:g}, open terrain)")
     p.add_argument("--speed-unit", choices=tuple(timeseries.SPEED_UNITS), default=None,
                    dest="speed_unit", help="speed unit when the header does not say")
     p.add_argument("--utc-offset-h", type=float, default=0.0, dest="utc_offset_h",

@@ -42,7 +42,7 @@ def _check_args(args) -> tuple[Path, str, object]:
 def cmd_report(args) -> int:
     """Write the summary (and the data files with ``--exports``); print what was written."""
     from engine.chain import pipeline
-    from engine.report import summary as report
+    from engine import report
     from engine.io import sitefile
 
     out, kind, stamp = _check_args(args)

@@ -35,6 +35,10 @@ from engine.climate.weibull import weibull_mean_ms, weibull_power_density_wm2, w
 FIT_METHODS = ("mle", "moments")
 #: Speed-bin edges of the wind-rose table [m/s].
 ROSE_EDGES_MS = (0.0, 2.0, 4.0, 6.0, 8.0, 10.0, 12.0, 15.0, np.inf)
+#: Roughness length assumed round a measuring mast when none is given [m]: open terrain,
+#: EN 1991-1-4:2005 Table 4.1 terrain category II (z0 = 0.05 m). The command line and the
+#: dashboard's record form both default to it.
+RECORD_ROUGHNESS_M = 0.05
 #: Fewest records a sector needs for its own Weibull fit; fewer borrow the all-sector shape.
 MIN_SECTOR_RECORDS = 30
 LOWER_CONFIDENCE_LABEL = ("screening estimate: mean speed only, Rayleigh (k = 2) assumed in "
@@ -223,7 +227,7 @@ def _check_common(p: Problems, height_m, roughness_m, n_sectors, method):
 
 
 def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: float,
-                        roughness_m: float = 0.05, displacement_m: float = 0.0,
+                        roughness_m: float = RECORD_ROUGHNESS_M, displacement_m: float = 0.0,
                         n_sectors: int = 12, method: str = "mle",
                         air_density_kgm3: float = 1.225, source: str = "measured",
                         label: str = "", record_file: str = "", record_sha256: str = "",
@@ -380,8 +384,9 @@ def record_air_density_kgm3(record, report, altitude_m: float = 0.0,
     return float(rho.mean()) if rho.size else None
 
 
-def climate_from_record(record, report=None, *, height_m: float, roughness_m: float = 0.05,
-                        displacement_m: float = 0.0, n_sectors: int = 12, method: str = "mle",
+def climate_from_record(record, report=None, *, height_m: float,
+                        roughness_m: float = RECORD_ROUGHNESS_M, displacement_m: float = 0.0,
+                        n_sectors: int = 12, method: str = "mle",
                         altitude_m: float = 0.0, qc_settings=None,
                         air_density_kgm3=None) -> ClimateSummary:
     """Climate of a :class:`~engine.io.records.Record` over the rows quality control kept.
@@ -405,7 +410,7 @@ def climate_from_record(record, report=None, *, height_m: float, roughness_m: fl
 
 
 def climate_from_csv_bytes(data: bytes, file_name: str = "record.csv", *, height_m: float,
-                           roughness_m: float = 0.05, displacement_m: float = 0.0,
+                           roughness_m: float = RECORD_ROUGHNESS_M, displacement_m: float = 0.0,
                            n_sectors: int = 12, method: str = "mle", columns=None,
                            speed_unit=None, utc_offset_h: float = 0.0, altitude_m: float = 0.0,
                            qc_settings=None,
@@ -439,7 +444,7 @@ def climate_from_csv_bytes(data: bytes, file_name: str = "record.csv", *, height
 
 
 def climate_from_table(frequency, weibull_k, weibull_c_ms, *, height_m: float,
-                       roughness_m: float = 0.05, displacement_m: float = 0.0,
+                       roughness_m: float = RECORD_ROUGHNESS_M, displacement_m: float = 0.0,
                        label: str = "") -> WindClimate:
     """A climate from a user-entered per-sector table (``source="table"``).
 
@@ -461,8 +466,9 @@ def climate_from_table(frequency, weibull_k, weibull_c_ms, *, height_m: float,
                        label=label or "per-sector Weibull table entered by the assessor")
 
 
-def climate_from_mean_speed(mean_speed_ms: float, *, height_m: float, roughness_m: float = 0.05,
-                            displacement_m: float = 0.0, n_sectors: int = 12) -> WindClimate:
+def climate_from_mean_speed(mean_speed_ms: float, *, height_m: float,
+                            roughness_m: float = RECORD_ROUGHNESS_M, displacement_m: float = 0.0,
+                            n_sectors: int = 12) -> WindClimate:
     """Screening climate from a mean speed alone: Rayleigh (k = 2), equal sector frequencies.
 
     Labelled lower confidence (``source="mean_speed"``).

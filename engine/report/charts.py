@@ -173,16 +173,8 @@ def _feature(kind, coords, **props):
             "properties": props}
 
 
-def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
-              width: int = 460, height: int = 400) -> alt.LayerChart:
-    """Plan of the site: buildings as blocks labelled with height, positions coloured by rank.
-
-    Local metres (or feet) east and north, equal scale on both axes, a north arrow and a wedge
-    for the prevailing wind sector in the top-right corner. No map tiles.
-    """
-    a = evaluation.assessment
-    L = lambda v: units.length_from_si(v, length_unit)  # noqa: E731
-    lu = length_unit
+def _plan_buildings(a, L, lu) -> list:
+    """GeoJSON features of the buildings in display units, labelled with their height."""
     feats = []
     for b in a.buildings:
         ring = L(building_outline_m(b)).tolist()
@@ -190,6 +182,12 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
         feats.append(_feature("Polygon", [ring], id=b.id,
                               label=f"{b.id} {L(b.height_m):.0f} {lu}",
                               height=round(L(b.height_m), 1), roof=b.roof_type))
+    return feats
+
+
+def _plan_points(evaluation, L, selected) -> pd.DataFrame:
+    """One row per position: place, best row, status and hub height for the plan's marks."""
+    a = evaluation.assessment
     best = best_per_position(evaluation.table)
     order = {pid: i + 1 for i, pid in enumerate(best["position_id"])}
     pos_rows = []
@@ -204,7 +202,11 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
                          "best_turbine": row["turbine_id"].iloc[0] if len(row) else "",
                          "aep_kwh": round(aep, 0), "hub": round(L(a.hub_height_m(p)), 1),
                          "selected": p.id == selected})
-    pts = pd.DataFrame(pos_rows)
+    return pd.DataFrame(pos_rows)
+
+
+def _plan_compass(climate, feats, pts) -> dict:
+    """Compass and prevailing-wind wedge in the top-right corner, and the frame corners."""
     xs = [c[0] for f in feats for c in f["geometry"]["coordinates"][0]] + list(pts["x"])
     ys = [c[1] for f in feats for c in f["geometry"]["coordinates"][0]] + list(pts["y"])
     x0, x1, y0, y1 = min(xs), max(xs), min(ys), max(ys)
@@ -212,8 +214,8 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
     pad = 0.18 * span
     # Compass in the top-right corner, outside the drawn features.
     cx, cy, cr = x1 + pad * 1.3, y1 + pad * 0.6, 0.09 * span
-    prev_deg, prev_f = prevailing_sector(a.climate)
-    half = 180.0 / a.climate.n_sectors
+    prev_deg, prev_f = prevailing_sector(climate)
+    half = 180.0 / climate.n_sectors
     wedge = [[cx, cy]]
     for d in np.linspace(prev_deg - half, prev_deg + half, 9):
         t = math.radians(d)
@@ -230,33 +232,44 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
     # Frame corners fix the projection's fit to a padded square around everything.
     frame = [_feature("Point", [x0 - pad, y0 - pad], id="frame"),
              _feature("Point", [x1 + pad * 2.1, y1 + pad * 1.8], id="frame")]
-    proj = alt.Projection(type="identity", reflectY=True)
+    return {"deco": deco, "frame": frame, "cx": cx, "cy": cy, "cr": cr, "span": span,
+            "prev_deg": prev_deg}
 
-    def geo(features):
-        return alt.Data(values={"type": "FeatureCollection", "features": features},
-                        format=alt.DataFormat(type="json", property="features"))
 
-    frame_l = alt.Chart(geo(frame)).mark_geoshape(opacity=0).project(**proj.to_dict())
-    blocks = alt.Chart(geo(feats)).mark_geoshape(
+def _geo(features):
+    return alt.Data(values={"type": "FeatureCollection", "features": features},
+                    format=alt.DataFormat(type="json", property="features"))
+
+
+def _plan_ground_layers(feats, c, lu, proj) -> list:
+    """Frame, building blocks, wind wedge, north arrow and the texts beside them."""
+    frame_l = alt.Chart(_geo(c["frame"])).mark_geoshape(opacity=0).project(**proj)
+    blocks = alt.Chart(_geo(feats)).mark_geoshape(
         fill=BUILDING_FILL, stroke=BUILDING_EDGE, strokeWidth=1.2).encode(
         tooltip=[alt.Tooltip("properties.id:N", title="building"),
                  alt.Tooltip("properties.height:Q", title=f"height ({lu})"),
-                 alt.Tooltip("properties.roof:N", title="roof")]).project(**proj.to_dict())
-    wedge_l = alt.Chart(geo(deco[:1])).mark_geoshape(
+                 alt.Tooltip("properties.roof:N", title="roof")]).project(**proj)
+    wedge_l = alt.Chart(_geo(c["deco"][:1])).mark_geoshape(
         fill=RANGE_COLOUR, fillOpacity=0.45, stroke=RANGE_COLOUR).encode(
-        tooltip=alt.Tooltip("properties.label:N", title="wind")).project(**proj.to_dict())
-    north_l = alt.Chart(geo(deco[1:])).mark_geoshape(
-        filled=False, stroke="#222", strokeWidth=2).project(**proj.to_dict())
+        tooltip=alt.Tooltip("properties.label:N", title="wind")).project(**proj)
+    north_l = alt.Chart(_geo(c["deco"][1:])).mark_geoshape(
+        filled=False, stroke="#222", strokeWidth=2).project(**proj)
     # Building labels sit just below each block so they never cover a position marker.
+    cx, cy, cr, span = c["cx"], c["cy"], c["cr"], c["span"]
     labels = pd.DataFrame(
-        [{"x": float(np.mean([c[0] for c in f["geometry"]["coordinates"][0][:4]])),
-          "y": float(min(c[1] for c in f["geometry"]["coordinates"][0])) - 0.035 * span,
+        [{"x": float(np.mean([q[0] for q in f["geometry"]["coordinates"][0][:4]])),
+          "y": float(min(q[1] for q in f["geometry"]["coordinates"][0])) - 0.035 * span,
           "text": f["properties"]["label"]} for f in feats]
         + [{"x": cx, "y": cy + 1.45 * cr, "text": "N"},
            {"x": cx, "y": cy - 1.5 * cr,
-            "text": f"wind from {compass_name(prev_deg)}"}])
+            "text": f"wind from {compass_name(c['prev_deg'])}"}])
     text_l = alt.Chart(labels).mark_text(fontSize=11, color="#333", dy=0).encode(
-        longitude="x:Q", latitude="y:Q", text="text:N").project(**proj.to_dict())
+        longitude="x:Q", latitude="y:Q", text="text:N").project(**proj)
+    return [frame_l, blocks, wedge_l, north_l, text_l]
+
+
+def _plan_point_layers(pts, lu, proj) -> list:
+    """Position marks (colour by place, shape by kind), the selection ring and the names."""
     n_rank = max(int(pts["place"].max()), 2)
     point_base = alt.Chart(pts).encode(
         longitude="x:Q", latitude="y:Q",
@@ -277,16 +290,34 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
                         scale=alt.Scale(domain=["roof", "gap", "mast"],
                                         range=["circle", "diamond", "triangle-up"]))
     ).add_params(alt.selection_point(name=PICK, fields=["position_id"], on="click",
-                                     clear=False)).project(**proj.to_dict())
+                                     clear=False)).project(**proj)
     ring = point_base.transform_filter(alt.datum.selected).mark_point(
-        size=650, stroke="#d62", strokeWidth=3, filled=False).project(**proj.to_dict())
+        size=650, stroke="#d62", strokeWidth=3, filled=False).project(**proj)
     # Names slant up and to the right of their markers so close neighbours stay readable.
     names = point_base.mark_text(angle=330, align="left", dx=8, dy=-6, fontSize=10,
-                                 color="#123").encode(text="position_id:N").project(
-        **proj.to_dict())
-    return alt.layer(frame_l, blocks, wedge_l, north_l, text_l, dots, ring, names).properties(
+                                 color="#123").encode(text="position_id:N").project(**proj)
+    return [dots, ring, names]
+
+
+def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
+              width: int = 460, height: int = 400) -> alt.LayerChart:
+    """Plan of the site: buildings as blocks labelled with height, positions coloured by rank.
+
+    Local metres (or feet) east and north, equal scale on both axes, a north arrow and a wedge
+    for the prevailing wind sector in the top-right corner. No map tiles.
+    """
+    a = evaluation.assessment
+    L = lambda v: units.length_from_si(v, length_unit)  # noqa: E731
+    feats = _plan_buildings(a, L, length_unit)
+    pts = _plan_points(evaluation, L, selected)
+    compass = _plan_compass(a.climate, feats, pts)
+    proj = alt.Projection(type="identity", reflectY=True).to_dict()
+    layers = (_plan_ground_layers(feats, compass, length_unit, proj)
+              + _plan_point_layers(pts, length_unit, proj))
+    return alt.layer(*layers).properties(
         width=width, height=height,
-        title=f"Plan view ({lu}, east to the right, north up)").resolve_scale(color="independent")
+        title=f"Plan view ({length_unit}, east to the right, north up)").resolve_scale(
+        color="independent")
 
 
 def wind_rose(climate, air_density_kgm3: float = 1.225, size: int = 240) -> alt.HConcatChart:

@@ -23,7 +23,9 @@ from scipy.special import gamma
 from engine.core import __version__
 from engine import cli
 from engine.chain import pipeline
-from engine.report import summary as report
+from engine import report
+from engine.chain import columns as contract
+from engine.chain.documents import export_names
 from engine.io import sitefile
 from engine.energy.aep import HOURS_PER_YEAR
 
@@ -120,8 +122,9 @@ def test_every_section_present(demo, tmp_path):
         assert len(figs) == 1 and "missing" not in figs[0].get("class", ""), key
     text = _pdf_text(demo["pdf"], tmp_path)
     flat = " ".join(text.split())
-    for n, sec in enumerate(s.sections, 1):
-        assert f"{n}. {sec.title}" in flat
+    for sec in s.sections:
+        assert sec.heading in flat
+    assert [x.number for x in s.sections] == [str(i) for i in range(1, 8)] + list("ABCDEF")
     for needle in ("R. Quill", STAMP_TEXT, "Checked on a calm day.", s.site_sha256[:16]):
         assert needle in flat and needle in demo["html"]
 
@@ -135,7 +138,8 @@ def test_ranking_numbers_match_rank_json(demo, rank_json_text):
     assert len(body) == len(truth)
     t = demo["summary"].table("ranking")
     assert list(t.columns) == header
-    cols = {report.column_header(c): c for c in report.COLUMN_FORMATS}
+    names = [c.name for c in contract.COLUMNS + contract.DERIVED]
+    cols = {report.column_header(c, cur): c for c in names for cur in ("", "EUR")}
     for shown, want in zip(body, truth):
         for head, cell in zip(header, shown):
             col = cols[head]
@@ -143,8 +147,13 @@ def test_ranking_numbers_match_rank_json(demo, rank_json_text):
                 assert cell == ("excluded" if want["excluded"] else "eligible")
                 continue
             assert cell == report.format_cell(col, want.get(col)), (head, want["rank"])
-        notes = {r[0]: r[3] for r in doc.tables["table-notes"][1:]}
-        assert notes.get(str(want["rank"]), "") == "; ".join(want["flags"])
+        # Every note of the row is shown once: as a reason for its exclusion or as advice
+        # listed with its position.
+        reasons = {r[0]: r[3] for r in doc.tables.get("table-exclusions", [[]])[1:]}
+        advice = {r[0]: r[1] for r in doc.tables.get("table-advice", [[]])[1:]}
+        for flag in want["flags"]:
+            assert flag in reasons.get(str(want["rank"]), "") or \
+                want["position_id"] in advice.get(flag, ""), (want["rank"], flag)
         # Physics bounds on what is printed: rated power caps the yield (8760 h x rated).
         assert 0.0 <= want["capacity_factor"] <= 1.0
         assert want["aep_kwh"] <= HOURS_PER_YEAR * want["rated_power_kw"] + 1e-9
@@ -162,7 +171,7 @@ def test_ranking_numbers_match_rank_json(demo, rank_json_text):
                    if isinstance(b, report.Paragraph))
     assert f"{first['turbine_id']} at {first['position_id']} (rank {first['rank']})" in rec
     assert f"{first['aep_kwh']:.0f} kWh" in rec
-    assert set(header) >= {"P50 AEP [kWh/yr]", "P90 AEP [kWh/yr]", "Capacity factor"}
+    assert set(header) >= {"P50 energy (kWh/yr)", "P90 energy (kWh/yr)", "Capacity factor"}
 
 
 def test_pdf_ranking_rows_match_rank_json(demo, rank_json_text, tmp_path):
@@ -184,7 +193,7 @@ def test_pdf_ranking_rows_match_rank_json(demo, rank_json_text, tmp_path):
         f.write_bytes(demo["pdf"])
         listing = subprocess.run([exe, "-list", str(f)], capture_output=True, text=True,
                                  check=True).stdout
-        for suffix in (".site.json", ".rank.json", ".ranking.csv", ".effective-climate.csv"):
+        for suffix in (".perch.json", "-ranking.json", "-ranking.csv", "-effective-climate.csv"):
             assert suffix in listing
 
 
@@ -203,14 +212,14 @@ def test_embedded_data_files_match_exports(demo, rank_json_text):
     doc = _parse(demo["html"])
     links = {a["download"]: a["href"] for t, a in doc.tags if t == "a" and "download" in a}
     files = {n: base64.b64decode(h.split(",", 1)[1]) for n, h in links.items()}
-    rank = next(v for n, v in files.items() if n.endswith(".rank.json"))
+    rank = next(v for n, v in files.items() if n.endswith("-ranking.json"))
     assert rank.decode("utf-8") == rank_json_text
-    site = next(v for n, v in files.items() if n.endswith(".site.json"))
+    site = next(v for n, v in files.items() if n.endswith(".perch.json"))
     # SHA-256 by hashlib, independent of the summary's own hashing.
     assert hashlib.sha256(site).hexdigest() == demo["summary"].site_sha256
     assert sitefile.loads(site) == demo["ev"].assessment
     csv = pd.read_csv(io.BytesIO(next(v for n, v in files.items()
-                                      if n.endswith(".ranking.csv"))))
+                                      if n.endswith("-ranking.csv"))))
     truth = json.loads(rank_json_text)["positions"]
     assert list(csv["position_id"]) == [r["position_id"] for r in truth]
     np.testing.assert_allclose(csv["aep_kwh"], [r["aep_kwh"] for r in truth], rtol=1e-12)
@@ -387,8 +396,9 @@ def test_cli_report_writes_html_pdf_and_exports(demo, tmp_path):
     assert "summary.html" in text
     assert html_out.read_text(encoding="utf-8") == demo["html"]
     names = sorted(p.name for p in (tmp_path / "data").iterdir())
-    assert [n.split(".", 1)[1] for n in names] == ["effective-climate.csv", "rank.json",
-                                                   "ranking.csv", "site.json"]
+    want = export_names(demo["ev"].assessment.site.name)
+    assert names == sorted(want[k] for k in ("site", "rank_json", "rank_csv",
+                                             "effective_climate"))
     pdf_out = tmp_path / "summary.pdf"
     _cli_stdout(["report", str(DEMO), "--out", str(pdf_out), "--assessor", "R. Quill",
                  "--notes", "Checked on a calm day.", "--generated-at", STAMP])
@@ -415,26 +425,49 @@ def test_no_eligible_position_says_so(demo):
     text = " ".join(b.text for b in s.section("recommendation").blocks
                     if isinstance(b, report.Paragraph))
     assert "No position is recommended" in text
-    flags = "; ".join(ev.table["flags"].iloc[0])
-    assert html.escape(flags) in report.render_html(s)
+    page = report.render_html(s)
+    for flag in ev.table["flags"].iloc[0]:  # each reason or note is shown, escaped
+        assert html.escape(flag) in page
 
 
-def test_reproducibility_block_lists_every_parameter(demo):
-    """Version, site-file hash and every site-file value are in the reproducibility section."""
+def _leaves(obj, prefix=""):
+    """(path, value) of every scalar of a site-file dict; lists of numbers kept whole."""
+    if isinstance(obj, dict):
+        return [x for k, v in obj.items() for x in _leaves(v, f"{prefix}.{k}" if prefix else k)]
+    if isinstance(obj, list) and obj and all(isinstance(x, dict) for x in obj):
+        return [x for i, v in enumerate(obj) for x in _leaves(v, f"{prefix}[{i}]")]
+    return [(prefix, obj)]
+
+
+def test_reproducibility_block_and_readable_inputs(demo):
+    """Version and site-file hash are stated; every site-file value appears in the inputs
+    appendix under a label in words, never a raw key path."""
     s = demo["summary"]
     rows = dict(s.table("reproduce").rows)
     assert rows["Tool"] == f"perch {__version__}"
-    assert rows["Site file SHA-256"] == hashlib.sha256(DEMO.read_bytes()).hexdigest() \
-        or rows["Site file SHA-256"] == hashlib.sha256(
-            sitefile.dumps(demo["ev"].assessment).encode()).hexdigest()
-    params = dict(s.table("parameters").rows)
-    raw = json.loads(DEMO.read_text(encoding="utf-8"))
-    assert params["site.altitude_m"] == repr(float(raw["site"]["altitude_m"]))
-    assert params["turbines[0].rated_power_w"] == repr(float(raw["turbines"][0]["rated_power_w"]))
-    assert params["climate.weibull_k"].startswith("[" + repr(float(raw["climate"]["weibull_k"][0])))
-    n_leaves = sum(1 for _ in report._flatten(raw))
-    assert len(params) == len(report._flatten(sitefile.assessment_to_dict(demo["ev"].assessment)))
-    assert len(params) >= n_leaves
+    # SHA-256 by hashlib, independent of the summary's own hashing.
+    assert rows["Site file SHA-256"] == hashlib.sha256(
+        sitefile.dumps(demo["ev"].assessment).encode()).hexdigest()
+    inputs = [b for b in s.section("inputs").blocks if isinstance(b, report.Table)]
+    cells = {c for t in inputs for r in t.rows for c in r} | {c for t in inputs
+                                                           for c in t.columns}
+    text = " ".join(cells)
+    tokens = set(re.split(r"[,\s]+", text))
+    raw = sitefile.assessment_to_dict(demo["ev"].assessment)
+    for path, v in _leaves(raw):
+        if isinstance(v, list) and v and isinstance(v[0], (int, float)):
+            for x in v:  # per-sector arrays, power curves, spot readings
+                assert repr(float(x)) in tokens or f"{100 * x:.10g} %" in cells, path
+        elif isinstance(v, float):
+            assert repr(v) in cells or f"{100 * v:.10g} %" in cells, path
+        elif isinstance(v, str) and v.strip():
+            assert v in text, path
+    for t in s.tables():
+        for head in t.columns:
+            assert not re.search(r"\w\[\d+\]|[a-z]_[a-z]", head), (t.key, head)
+        if t.key.startswith("inputs"):
+            for r in t.rows:
+                assert not any(re.search(r"\w\[\d+\]\.", c) for c in r), (t.key, r)
 
 
 @pytest.mark.slow
@@ -444,14 +477,15 @@ def test_printed_command_reproduces_the_summary(demo, tmp_path, monkeypatch):
 
     doc = _parse(demo["html"])
     links = {a["download"]: a["href"] for t, a in doc.tags if t == "a" and "download" in a}
-    name = next(n for n in links if n.endswith(".site.json"))
+    name = next(n for n in links if n.endswith(".perch.json"))
     (tmp_path / name).write_bytes(base64.b64decode(links[name].split(",", 1)[1]))
     command = dict(demo["summary"].table("reproduce").rows)["To reproduce"]
     argv = shlex.split(command)
     assert argv[:4] == ["python", "-m", "engine", "report"]
     monkeypatch.chdir(tmp_path)
     _cli_stdout(argv[3:])
-    assert (tmp_path / "summary.html").read_text(encoding="utf-8") == demo["html"]
+    out = export_names(demo["ev"].assessment.site.name)["summary_html"]
+    assert (tmp_path / out).read_text(encoding="utf-8") == demo["html"]
 
 
 @pytest.mark.slow
@@ -523,3 +557,103 @@ def test_site_without_buildings(demo):
     assert [f.key for f in figs] == ["plan", "wind-rose", "profile", "yield"]
     assert all(f.spec is not None for f in figs)
     assert report.render_pdf(s).startswith(b"%PDF-")
+
+
+def _pdf_pages(pdf: bytes, tmp_path) -> list:
+    return _pdf_text(pdf, tmp_path).split("\f")
+
+
+def test_pdf_body_fits_eight_pages_then_appendix(demo, tmp_path):
+    """The client's part is at most 8 pages; the inputs follow in a lettered appendix."""
+    pages = _pdf_pages(demo["pdf"], tmp_path)
+    start = next(i for i, p in enumerate(pages) if re.search(r"^\s*Appendix\s*$", p, re.M))
+    assert start <= 8  # pages before the appendix (0-based index = count)
+    body = " ".join(" ".join(pages[:start]).split())
+    for sec in demo["summary"].sections:
+        where = body if not sec.appendix else " ".join(" ".join(pages[start:]).split())
+        assert sec.heading in where, sec.heading
+
+
+def test_no_word_broken_in_pdf_tables(demo, tmp_path):
+    """Every word of every table header and cell appears whole in the PDF's text (poppler's
+    pdftotext, independent of fpdf2): column widths never cut a word."""
+    tokens = set(_pdf_text(demo["pdf"], tmp_path).split())
+    missing = []
+    for t in demo["summary"].tables():
+        for row in (t.columns,) + t.rows:
+            for cell in row:
+                missing += [(t.key, w) for w in cell.split() if w not in tokens]
+    assert missing == []
+
+
+def test_wide_columns_keep_words_whole_at_every_width(demo):
+    """The width layout gives each column at least its longest word, also for a table with
+    long words in many columns (type shrinks before a word would be cut)."""
+    from engine.report.pdf import PdfSummary
+
+    doc = PdfSummary(demo["summary"], report.find_font())
+    words = ("Circumnavigation", "Electroencephalograph")
+    t = report.Table("wide", tuple(f"{w} {i}" for i, w in enumerate(words * 3)),
+                     ((" ".join(words),) * 6,), ("l",) * 6)
+    size, widths = doc._layout(t)
+    doc.font(size)
+    assert sum(widths) == pytest.approx(doc.pdf.epw)
+    for head, w in zip(t.columns, widths):
+        longest = max(doc.pdf.get_string_width(x) for x in head.split() + list(words))
+        assert longest <= w
+
+
+def test_no_orphan_rows_at_page_ends(demo):
+    """A table's last row never goes alone to a new page: it takes the row before with it."""
+    from engine.report.pdf import PdfSummary
+
+    doc = PdfSummary(demo["summary"], report.find_font())
+    doc.pdf.add_page()
+    bottom = doc.pdf.page_break_trigger
+    top = bottom - 5 * 10.0 - 6.0 - 1.0  # room for the header and five rows of 10 mm
+    breaks = doc._breaks_before([10.0] * 6, 6.0, top)
+    assert breaks == {4}  # rows 4 and 5 go on together, not row 5 alone
+    assert doc._breaks_before([10.0] * 5, 6.0, top) == set()  # all fit: no break
+    # a caption that would be left alone takes the last two rows with it
+    assert doc._breaks_before([10.0] * 5, 6.0, top, tail_h=8.0) == {3}
+
+
+def test_notes_grouped_once(demo):
+    """Advice repeated on many rows is listed once, with the positions it concerns."""
+    s = demo["summary"]
+    advice = s.table("advice")
+    texts = [r[0] for r in advice.rows]
+    assert len(texts) == len(set(texts))
+    ev = demo["ev"]
+    all_flags = [f for fl in ev.table["flags"] for f in fl]
+    assert len(s.table("exclusions").rows) == int(ev.table["excluded"].sum())
+    assert len(texts) < len(all_flags)  # the demo repeats the roof advice on every turbine
+
+
+def test_one_list_of_cautions(demo):
+    """The summary's cautions are the engine's one list; the dashboard shows the same one."""
+    bullets = next(b for b in demo["summary"].section("cautions").blocks
+                   if isinstance(b, report.Bullets))
+    assert bullets.items == report.caution_lines()
+    for _title, text in report.CAUTIONS:
+        assert "structural engineer" in text or "licensed installer" in text or \
+            "local" in text, text
+    pytest.importorskip("streamlit")
+    from dashboard import widgets
+    assert widgets.CAUTIONS is report.CAUTIONS
+
+
+def test_export_names_match_the_dashboard(demo):
+    """The summary's attachments, its reproduce command and the dashboard's downloads use
+    one naming scheme."""
+    a = demo["ev"].assessment
+    names = export_names(a.site.name)
+    attached = {x.name for x in demo["summary"].attachments}
+    assert attached == {names[k] for k in ("site", "rank_json", "rank_csv",
+                                           "effective_climate")}
+    command = dict(demo["summary"].table("reproduce").rows)["To reproduce"]
+    assert names["site"] in command and names["summary_html"] in command
+    from dashboard import exports as dash_exports
+    assert dash_exports.export_names(a) == names
+    assert dash_exports.file_stem(a) + ".perch.json" == names["site"]
+    assert dash_exports.file_stem(a) + "-ranking.csv" == names["rank_csv"]
