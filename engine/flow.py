@@ -82,12 +82,11 @@ def ambient_turbulence_intensity(assessment, hub_height_m):
     (:func:`engine.profiles.turbulence_intensity_terrain`).
     """
     from .model import TransferSettings
-    from .transfer import site_canopy_attenuation, site_roughness
+    from .transfer import site_canopy, site_roughness
     settings = getattr(assessment, "transfer", None) or TransferSettings()
     z0, d, _ = site_roughness(assessment.site, settings)
-    return profiles.turbulence_intensity_terrain(
-        np.asarray(hub_height_m, float), z0, d,
-        attenuation=site_canopy_attenuation(assessment.site, settings))
+    return profiles.turbulence_intensity_terrain(np.asarray(hub_height_m, float), z0, d,
+                                                 **site_canopy(assessment.site, settings))
 
 
 def effective_climate(assessment, air_density_kgm3: float,

@@ -76,52 +76,67 @@ def canopy_top_m(roughness_m, displacement_m=0.0):
 
 
 def canopy_attenuation(roughness_m, displacement_m=0.0, frontal_area_fraction=None):
-    """Attenuation coefficient a of the in-canopy exponential profile [-].
+    """Attenuation coefficients of the profile below z_t = d + z_min [-]: (a_t, a_c).
 
     Parameters
     ----------
     roughness_m, displacement_m : z0 and d of the surroundings [m]
     frontal_area_fraction : λf of the surroundings [-], or None when unknown
 
-    Notes
-    -----
-    a = 9.6 λf when λf is known (Macdonald 2000, from memory). Otherwise the exponential's
-    slope is matched to the log law's at z_t = d + z_min, a = z_t / ((z_t − d) ln((z_t −
-    d)/z0)) (derived: the gentlest fall that joins the log law without a kink).
+    Returns
+    -------
+    a_t : the exponential continuing the log law's slope below z_t,
+        a_t = z_t / ((z_t − d) ln((z_t − d)/z0)) (derived: the profile joins the log law
+        without a kink)
+    a_c : Macdonald's in-canopy attenuation a = 9.6 λf below the buildings' mean height
+        (Macdonald 2000, from memory); NaN when λf is unknown
     """
     z0 = np.asarray(roughness_m, float)
     d = np.asarray(displacement_m, float)
     zt = canopy_top_m(z0, d)
     matched = zt / ((zt - d) * np.log((zt - d) / z0))
-    if frontal_area_fraction is None:
-        return matched
-    lf = np.asarray(frontal_area_fraction, float)
-    return np.where(np.isfinite(lf), CANOPY_ATTENUATION_PER_LAMBDA_F * lf, matched)
+    lf = np.asarray(np.nan if frontal_area_fraction is None else frontal_area_fraction, float)
+    return matched, CANOPY_ATTENUATION_PER_LAMBDA_F * lf
 
 
-def canopy_factor(height_m, roughness_m, displacement_m=0.0, attenuation=None):
+def canopy_factor(height_m, roughness_m, displacement_m=0.0, attenuation=None,
+                  canopy_height_m=None):
     """Speed below the log law's lowest height relative to the speed there [-], ≤ 1.
 
     Parameters
     ----------
     height_m : height above ground [m]
     roughness_m, displacement_m : z0 and d [m]
-    attenuation : a of :func:`canopy_attenuation` (the slope-matched value when None)
+    attenuation : (a_t, a_c) of :func:`canopy_attenuation` (found from z0 and d, without
+        λf, when None)
+    canopy_height_m : mean height of the surrounding buildings H̄ [m], or None
 
     Notes
     -----
-    U(z) = U(z_t) exp[a (z/z_t − 1)] for z < z_t = d + z_min, 1 above: the exponential
-    in-canopy profile of Macdonald (2000), matched to the log law where EN 1991-1-4 stops
-    using it, so the mean speed keeps falling towards the ground instead of being held at its
-    z_min value (a rule for design loads).
+    Between H̄ and z_t = d + z_min the log law's slope is continued exponentially,
+    U(z) = U(z_t) exp[a_t (z/z_t − 1)]; below H̄ (inside the canopy proper, when H̄ and λf are
+    known) the exponential in-canopy profile of Macdonald (2000),
+    U(z) = U(H̄) exp[a_c (z/H̄ − 1)]. Above z_t the factor is 1. So the mean speed keeps
+    falling towards the ground instead of being held at its z_min value, which EN 1991-1-4
+    prescribes for design loads.
     """
     z = np.asarray(height_m, float)
     zt = canopy_top_m(roughness_m, displacement_m)
-    a = canopy_attenuation(roughness_m, displacement_m) if attenuation is None else attenuation
-    return np.where(z < zt, np.exp(np.asarray(a, float) * (np.minimum(z / zt, 1.0) - 1.0)), 1.0)
+    a_t, a_c = canopy_attenuation(roughness_m, displacement_m) if attenuation is None \
+        else attenuation
+    a_t = np.asarray(a_t, float)
+    upper = np.exp(a_t * (np.minimum(z / zt, 1.0) - 1.0))
+    if canopy_height_m is None:
+        return upper
+    h = np.minimum(np.asarray(canopy_height_m, float), zt)
+    a_c = np.asarray(a_c, float)
+    at_h = np.exp(a_t * (np.minimum(h / zt, 1.0) - 1.0))
+    inner = at_h * np.exp(np.where(np.isfinite(a_c), a_c, a_t) * (np.minimum(z / h, 1.0) - 1.0))
+    return np.where(z < h, inner, upper)
 
 
-def mean_speed_factor(height_m, roughness_m, displacement_m=0.0, attenuation=None):
+def mean_speed_factor(height_m, roughness_m, displacement_m=0.0, attenuation=None,
+                      canopy_height_m=None):
     """Mean-speed profile for energy: c_r(z) above z_t, falling exponentially below [-].
 
     Notes
@@ -130,7 +145,7 @@ def mean_speed_factor(height_m, roughness_m, displacement_m=0.0, attenuation=Non
     held c_r alone is kept for loads.
     """
     return (roughness_factor(height_m, roughness_m, displacement_m)
-            * canopy_factor(height_m, roughness_m, displacement_m, attenuation))
+            * canopy_factor(height_m, roughness_m, displacement_m, attenuation, canopy_height_m))
 
 
 def speed_log_law(height_m, speed_ref_ms, height_ref_m, roughness_m, displacement_m=0.0):
@@ -155,24 +170,24 @@ def speed_power_law(height_m, speed_ref_ms, height_ref_m, exponent):
 
 def transfer_speed_ratio(height_to_m, roughness_to_m, height_from_m, roughness_from_m,
                          displacement_to_m=0.0, displacement_from_m=0.0, canopy=True,
-                         attenuation_to=None, attenuation_from=None):
+                         attenuation_to=None, canopy_height_to_m=None):
     """Ratio of mean speeds between two terrains and heights, by the EN 1991-1-4 terrain factor.
 
     Both speeds are referred to the same basic wind (category II, 10 m):
     v(z) = c_r(z) v_b, so v_to / v_from = c_r,to(z_to) / c_r,from(z_from). With ``canopy``
-    (for energy) each side follows :func:`mean_speed_factor` below its z_t, with the
-    attenuations given (slope-matched when None); without, c_r is held at z_min (for loads).
+    (for energy) each side follows :func:`mean_speed_factor` below its z_t (the destination
+    with the given attenuation and canopy height); without, c_r is held at z_min (for loads).
     """
     if not canopy:
         return (roughness_factor(height_to_m, roughness_to_m, displacement_to_m)
                 / roughness_factor(height_from_m, roughness_from_m, displacement_from_m))
-    return (mean_speed_factor(height_to_m, roughness_to_m, displacement_to_m, attenuation_to)
-            / mean_speed_factor(height_from_m, roughness_from_m, displacement_from_m,
-                                attenuation_from))
+    return (mean_speed_factor(height_to_m, roughness_to_m, displacement_to_m, attenuation_to,
+                              canopy_height_to_m)
+            / mean_speed_factor(height_from_m, roughness_from_m, displacement_from_m))
 
 
 def turbulence_intensity_terrain(height_m, roughness_m, displacement_m=0.0, canopy=True,
-                                 attenuation=None):
+                                 attenuation=None, canopy_height_m=None):
     """Turbulence intensity of the undisturbed flow I_v = k_I / (c_o ln((z - d)/z0)) [-].
 
     EN 1991-1-4 eq. (4.7) with k_I = 1 and orography factor c_o = 1, down to z_t = d + z_min.
@@ -185,4 +200,4 @@ def turbulence_intensity_terrain(height_m, roughness_m, displacement_m=0.0, cano
     held = 1.0 / np.log(zeff / z0)
     if not canopy:
         return held
-    return held / canopy_factor(height_m, z0, displacement_m, attenuation)
+    return held / canopy_factor(height_m, z0, displacement_m, attenuation, canopy_height_m)

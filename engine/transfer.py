@@ -208,21 +208,24 @@ def free_stream_weibull(climate, site, hub_height_m, settings):
     :func:`weibull_at_hub`.
     """
     z0, d, _ = site_roughness(site, settings)
-    return weibull_at_hub(climate, z0, d, hub_height_m, settings, site.frontal_area_fraction)
+    return weibull_at_hub(climate, z0, d, hub_height_m, settings, site.frontal_area_fraction,
+                          site.mean_building_height_m)
 
 
-def site_canopy_attenuation(site, settings) -> float:
-    """Attenuation a of the in-canopy profile of the site's surroundings [-].
+def site_canopy(site, settings) -> dict:
+    """The site's in-canopy profile: ``attenuation`` (a_t, a_c) and ``canopy_height_m``.
 
     :func:`engine.profiles.canopy_attenuation` on the z0 and d of :func:`site_roughness` (the
-    same terrain as the speed transfer) and the site's frontal area fraction when given.
+    same terrain as the speed transfer), the site's frontal area fraction and mean building
+    height when given.
     """
     z0, d, _ = site_roughness(site, settings)
-    return float(profiles.canopy_attenuation(z0, d, site.frontal_area_fraction))
+    return {"attenuation": profiles.canopy_attenuation(z0, d, site.frontal_area_fraction),
+            "canopy_height_m": site.mean_building_height_m}
 
 
 def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings,
-                   frontal_area_fraction=None):
+                   frontal_area_fraction=None, canopy_height_m=None):
     """Undisturbed per-sector Weibull (k, c) at hub heights over given terrain, each (P, S).
 
     Parameters
@@ -234,6 +237,8 @@ def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings,
     settings : :class:`engine.model.TransferSettings`
     frontal_area_fraction : λf of that terrain [-], scalar or (P,), for the in-canopy
         attenuation (:func:`engine.profiles.canopy_attenuation`); None when unknown
+    canopy_height_m : mean height of the surrounding buildings [m], scalar or (P,); None
+        when unknown (then only the log law's continuation below z_t)
 
     Notes
     -----
@@ -256,12 +261,13 @@ def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings,
                      float(profiles.minimum_height_m(climate.roughness_m)))
         ratio = speed_ratio_power_law(z_to, z_from, z0, climate.roughness_m,
                                       settings.power_law_exponent)
-        ratio = ratio * profiles.canopy_factor(hub, z0, d, attenuation) / profiles.canopy_factor(
-            climate.height_m, climate.roughness_m, climate.displacement_m)
+        ratio = ratio * profiles.canopy_factor(hub, z0, d, attenuation, canopy_height_m) / \
+            profiles.canopy_factor(climate.height_m, climate.roughness_m, climate.displacement_m)
     else:
         ratio = profiles.transfer_speed_ratio(hub, z0, climate.height_m, climate.roughness_m,
                                               d, climate.displacement_m,
-                                              attenuation_to=attenuation)
+                                              attenuation_to=attenuation,
+                                              canopy_height_to_m=canopy_height_m)
     ratio = np.broadcast_to(np.asarray(ratio, float), hub.shape)
     c = np.asarray(climate.weibull_c_ms, float)[None, :] * ratio[:, None]
     k_ref = np.asarray(climate.weibull_k, float)
