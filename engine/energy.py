@@ -945,8 +945,7 @@ def yield_arrays(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     else:
         bins, sens = energy_and_sensitivity(setup)
     if integration == "exact":
-        gross = energy_exact.exact_energy_wh(setup)
-        published = energy_exact.exact_energy_wh(plain)
+        gross, published = energy_exact.exact_energy_wh(setup, also=(plain,))
     else:
         gross, published = bins, plain.energy_wh(1.0)
     rated = np.array([t.rated_power_w for t in turbines], float)

@@ -102,7 +102,7 @@ def exact_table(recipe):
     return out
 
 
-def exact_energy_wh(setup, scale=1.0, hours=energy.HOURS_PER_YEAR) -> np.ndarray:
+def exact_energy_wh(setup, scale=1.0, hours=energy.HOURS_PER_YEAR, also=()):
     """Energy [Wh] of a :class:`engine.energy.BinsSetup`'s curves, integrated exactly, (P, T).
 
     Parameters
@@ -110,6 +110,13 @@ def exact_energy_wh(setup, scale=1.0, hours=energy.HOURS_PER_YEAR) -> np.ndarray
     setup : :class:`engine.energy.BinsSetup` (its Weibull terms, TI rows and curve recipe)
     scale : factor on every sector's speed scale [-]
     hours : hours in the period [h]
+    also : further setups with the same Weibull terms (the same climate and turbines with
+        other curves, e.g. the published curve): their energies are returned too, from the
+        same exponentials and incomplete gamma functions
+
+    Returns
+    -------
+    (P, T) energy [Wh]; with ``also``, a list of one such array per setup
 
     Notes
     -----
@@ -118,41 +125,47 @@ def exact_energy_wh(setup, scale=1.0, hours=energy.HOURS_PER_YEAR) -> np.ndarray
     type's turbines side by side (one matrix product each), the mean-speed factor
     c Γ(1 + 1/k) on the second, TI interpolation and frequency weighting as in the bins.
     """
-    knots, wa, wb = exact_table(setup.curve_recipe)
-    T, n_rows, K = wa.shape
+    setups = [setup, *also]
+    tables = [exact_table(s.curve_recipe) for s in setups]
+    knots = tables[0][0]
+    if any(not np.array_equal(t[0], knots) for t in tables[1:]):
+        raise ValueError("setups passed together must share their knots (same turbines)")
+    T = tables[0][1].shape[0]
     f = setup.frequency[:, 0, :]
     k = setup.weibull_k[:, 0, :]
     log_c = setup.axis_log_c + math.log(float(scale))
     P, A, S = log_c.shape
+    K = len(knots)
     with np.errstate(divide="ignore"):
         log_x = np.log(knots)  # -inf at 0 gives u = 0
-    out = np.zeros((P, T))
+    outs = [np.zeros((P, T)) for _ in setups]
     for ax in range(A):
         ts = np.flatnonzero(setup.turbine_axis == ax)
         if not ts.size:
             continue
-        wa_cat = np.concatenate([wa[t].T for t in ts], axis=1)  # (K, n_a I)
-        wb_cat = np.concatenate([wb[t].T for t in ts], axis=1)
+        cats = [(np.concatenate([wa[t].T for t in ts], axis=1),
+                 np.concatenate([wb[t].T for t in ts], axis=1), wa.shape[1])
+                for _, wa, wb in tables]  # (K, n_a I) each
         for a0 in range(0, P, EXACT_BLOCK_ROWS):
             a1 = min(a0 + EXACT_BLOCK_ROWS, P)
+            n = a1 - a0
             kb = k[a0:a1, :, None]
             lc = log_c[a0:a1, ax, :, None]
-            with np.errstate(over="ignore"):
-                u = np.exp(np.clip(kb * (log_x - lc), -700.0, 700.0))
+            u = np.exp(np.clip(kb * (log_x - lc), -700.0, 700.0))
             u[..., ~np.isfinite(log_x)] = 0.0
-            g = np.exp(-u)
-            q = gammainc(1.0 + 1.0 / kb, u)
-            mean_factor = np.exp(lc[..., 0]) * gamma(1.0 + 1.0 / kb[..., 0])  # (m, S)
-            n = a1 - a0
-            rows = (g.reshape(n * S, K) @ wa_cat).reshape(n, S, ts.size, n_rows)
-            rows += mean_factor[:, :, None, None] * (
-                q.reshape(n * S, K) @ wb_cat).reshape(n, S, ts.size, n_rows)
-            lo = setup.ti_lo[a0:a1][:, :, None]
-            hi = np.minimum(lo + 1, n_rows - 1)
-            frac = setup.ti_frac[a0:a1][:, :, None]
-            r_lo = np.take_along_axis(rows, lo[..., None].repeat(ts.size, 2), axis=3)[..., 0]
-            r_hi = np.take_along_axis(rows, hi[..., None].repeat(ts.size, 2), axis=3)[..., 0]
-            per = r_lo + (r_hi - r_lo) * frac  # (n, S, n_a)
-            out[a0:a1, ts] = hours * np.einsum("ms,msg->mg", f[a0:a1], per)
-    return np.maximum(out, 0.0)
-
+            g = np.exp(-u).reshape(n * S, K)
+            q = gammainc(1.0 + 1.0 / kb, u).reshape(n * S, K)
+            mean_factor = np.exp(lc[..., 0]) * gamma(1.0 + 1.0 / kb[..., 0])  # (n, S)
+            for s_i, (wa_cat, wb_cat, n_rows) in enumerate(cats):
+                st = setups[s_i]
+                rows = (g @ wa_cat).reshape(n, S, ts.size, n_rows)
+                rows += mean_factor[:, :, None, None] * (q @ wb_cat).reshape(
+                    n, S, ts.size, n_rows)
+                lo = np.repeat(st.ti_lo[a0:a1][:, :, None, None], ts.size, axis=2)
+                hi = np.minimum(lo + 1, n_rows - 1)
+                r_lo = np.take_along_axis(rows, lo, axis=3)[..., 0]
+                r_hi = np.take_along_axis(rows, hi, axis=3)[..., 0]
+                per = r_lo + (r_hi - r_lo) * st.ti_frac[a0:a1][:, :, None]  # (n, S, n_a)
+                outs[s_i][a0:a1, ts] = hours * np.einsum("ms,msg->mg", f[a0:a1], per)
+    outs = [np.maximum(o, 0.0) for o in outs]
+    return outs if also else outs[0]
