@@ -128,7 +128,8 @@ def canopy_factor(height_m, roughness_m, displacement_m=0.0, attenuation=None,
     upper = np.exp(a_t * (np.minimum(z / zt, 1.0) - 1.0))
     if canopy_height_m is None:
         return upper
-    h = np.minimum(np.asarray(canopy_height_m, float), zt)
+    # Under 0.1 m there is no canopy to speak of (and z/H̄ would overflow).
+    h = np.clip(np.asarray(canopy_height_m, float), 0.1, zt)
     a_c = np.asarray(a_c, float)
     at_h = np.exp(a_t * (np.minimum(h / zt, 1.0) - 1.0))
     inner = at_h * np.exp(np.where(np.isfinite(a_c), a_c, a_t) * (np.minimum(z / h, 1.0) - 1.0))
