@@ -4,13 +4,17 @@ The chain for one site, all arrays broadcast over (position P, turbine T, sector
 
 1. the published curve (at 1.225 kg/m³) is carried to the site's air density
    (:func:`density_corrected_power_w`, stall and pitch variants);
-2. it is averaged over the turbulence at the rotor (σ = TI · V), exactly for the piecewise-linear
-   curve (:func:`gaussian_average_segments`; :func:`gaussian_average` for any function),
-   tabulated once per turbine over the turbulence intensities that occur
-   (:func:`turbulent_curve_table_w`) and looked up per position and sector;
+2. it is carried from the turbulence it was measured at to the site's
+   (:func:`site_turbulence_curve_w`: only the difference is normalised, with conservative
+   allowances for small rotors in strong turbulence and no credit in recirculation), the
+   Gaussian averages exact for the piecewise-linear curve (:func:`gaussian_average_segments`;
+   :func:`gaussian_average` for any function), tabulated once per turbine over the
+   turbulence intensities that occur (:func:`turbulent_curve_table_w`) and looked up per
+   position and sector;
 3. skewed inflow lowers the speed the rotor sees, by axis type (:func:`skew_speed_factor`);
-4. the method of bins sums the curve against each sector's Weibull (:class:`BinsSetup`,
-   :func:`aep_method_of_bins_wh` for a plain curve);
+4. the curve is integrated against each sector's Weibull exactly (:mod:`engine.energy_exact`)
+   and by the method of bins beside it (:class:`BinsSetup`, :func:`aep_method_of_bins_wh` for
+   a plain curve);
 5. the losses chain turns gross into net energy (:func:`losses_chain`).
 
 :func:`yield_arrays` runs steps 1-5 and the speed sensitivity d ln E / d ln V used by

@@ -3,8 +3,8 @@
 Speed uncertainties (measured data, long-term correction, height/terrain transfer, building
 model) are independent one-sigma fractions of the mean speed; they combine by root sum of
 squares and reach the energy through the sensitivity s = d ln E / d ln V, computed
-numerically for every position x turbine: as the secant from P50 down to each level's speed
-(:func:`level_sensitivity`), since the local slope (:func:`engine.energy.speed_sensitivity`)
+numerically for every position x turbine: as the secant from P50 down to the P90 speed
+(:func:`distribution_sensitivity`), since the local slope (:func:`engine.energy.speed_sensitivity`)
 understates the fall where energy drops steeply near cut-in. The power-curve uncertainty is
 a fraction of energy and adds in quadrature.
 
