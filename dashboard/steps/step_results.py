@@ -86,10 +86,9 @@ def whatif_and_ranking():
                   delta_color="off", delta_arrow="off")
         c2.metric("Net energy, P50", f"{best['aep_kwh']:,.0f} kWh/yr")
         if "p90_one_year_aep_kwh" in best.index:
-            c3.metric("P90 of a single year (exceeded 9 years in 10)",
-                      f"{best['p90_one_year_aep_kwh']:,.0f} kWh/yr",
-                      help="P90 over the project life (the average year, exceeded with 90 % "
-                           f"probability): {best['p90_aep_kwh']:,.0f} kWh/yr")
+            c3.metric("P90, a single year", f"{best['p90_one_year_aep_kwh']:,.0f} kWh/yr",
+                      help="Exceeded in nine years out of ten. P90 of the average year over "
+                           f"the project life: {best['p90_aep_kwh']:,.0f} kWh/yr")
         if "lcoe_per_kwh" in best.index and np.isfinite(best["lcoe_per_kwh"]):
             c4.metric("Cost per kWh", f"{best['lcoe_per_kwh']:.2f} {a.economics.currency}")
     else:
@@ -150,15 +149,15 @@ with c2:
               f"{units.speed_from_si(row['mean_speed_ms'], S):.2f}")
     m2.metric("Net energy", f"{row['aep_kwh']:,.0f} kWh/yr")
     if "turbulence_effect" in row.index:
-        m1.metric("Turbulence effect on energy", results_view.signed_percent(
-            row["turbulence_effect"]), help="Change of energy from the site's turbulence "
-            "against the published curve (measured at the curve's own turbulence)")
+        m1.metric("Turbulence effect", results_view.signed_percent(row["turbulence_effect"]),
+                  help="Change of this row's energy from the site's turbulence, against the "
+                       "published curve (measured at the curve's own turbulence)")
     if "p90_one_year_aep_kwh" in row.index:
-        p90s = results_view.p90_labels(row.get("project_life_years", 20))
-        m2.metric(p90s["p90_one_year_aep_kwh"].replace(" (kWh/yr)", ""),
-                  f"{row['p90_one_year_aep_kwh']:,.0f} kWh/yr")
-        m1.metric(p90s["p90_aep_kwh"].replace(" (kWh/yr)", ""),
-                  f"{row['p90_aep_kwh']:,.0f} kWh/yr")
+        life = float(row.get("project_life_years", 20))
+        m2.metric("P90, single year", f"{row['p90_one_year_aep_kwh']:,.0f} kWh/yr",
+                  help="Exceeded in nine years out of ten")
+        m1.metric(f"P90 over {life:g}-year life", f"{row['p90_aep_kwh']:,.0f} kWh/yr",
+                  help=f"The average year over {life:g} years, exceeded with 90 % probability")
     if "min_clear_mast_m" in row.index and np.isfinite(row["min_clear_mast_m"]):
         st.caption(f"Shortest mast that clears the roof zones: "
                    f"{units.length_from_si(row['min_clear_mast_m'], L):.1f} {L}")
