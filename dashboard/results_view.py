@@ -9,20 +9,25 @@ from engine.core import units
 
 #: Columns shown in the ranked table, in this order, when the chain provides them.
 SHOWN = ("rank", "position_id", "turbine_id", "kind", "hub_height_m", "mean_speed_ms",
-         "speedup", "turbulence_intensity", "aep_kwh", "p50_aep_kwh", "p90_aep_kwh",
-         "capacity_factor", "lcoe_per_kwh", "payback_years", "min_clear_mast_m",
+         "speedup", "turbulence_intensity", "turbulence_effect", "aep_kwh", "p50_aep_kwh",
+         "p90_aep_kwh", "p90_one_year_aep_kwh", "aep_bins_kwh", "capacity_factor", "lcoe_per_kwh", "payback_years", "min_clear_mast_m",
          "in_recirculation_zone", "in_turbulence_zone", "spilled_fraction", "noise_margin_db",
          "thrust_extreme_n", "excluded", "flags")
 
 HEADERS = {
     "rank": "rank", "position_id": "position", "turbine_id": "turbine", "kind": "kind",
     "aep_kwh": "net energy (kWh/yr)", "p50_aep_kwh": "P50 (kWh/yr)",
-    "p90_aep_kwh": "P90 (kWh/yr)", "capacity_factor": "capacity factor",
+    "p90_aep_kwh": "P90, average year of the project life (kWh/yr)",
+    "p90_life_aep_kwh": "P90, average year of the project life (kWh/yr)",
+    "p90_one_year_aep_kwh": "P90, a single year (kWh/yr)",
+    "aep_bins_kwh": "net energy by the method of bins, cross-check (kWh/yr)",
+    "turbulence_effect": "turbulence effect on energy (fraction)",
+    "capacity_factor": "capacity factor",
     "speedup": "speed factor from buildings", "turbulence_intensity": "turbulence intensity",
     "lcoe_per_kwh": "cost per kWh", "payback_years": "payback (years)",
     "in_recirculation_zone": "in recirculation", "in_turbulence_zone": "in roof turbulence",
     "spilled_fraction": "gap spillage", "noise_margin_db": "noise margin (dB)",
-    "thrust_extreme_n": "extreme thrust (N)", "excluded": "excluded", "flags": "reasons and notes",
+    "thrust_extreme_n": "extreme thrust, parked rotor (N)", "excluded": "excluded", "flags": "reasons and notes",
 }
 
 
@@ -45,6 +50,21 @@ def display_table(table: pd.DataFrame, speed_unit: str, length_unit: str,
     return df.rename(columns={c: header(c, speed_unit, length_unit) for c in df.columns})
 
 
+def signed_percent(fraction) -> str:
+    """A relative change as signed per cent text: 0.031 -> "+3.1 %", -0.054 -> "−5.4 %"."""
+    v = float(fraction)
+    if not np.isfinite(v):
+        return "–"
+    return f"{'+' if v >= 0 else '−'}{abs(v) * 100:.1f} %"
+
+
+def p90_labels(life_years) -> dict:
+    """Labels of the two P90s, saying which is which."""
+    n = f"{float(life_years):g}"
+    return {"p90_aep_kwh": f"P90, average year over {n} years (kWh/yr)",
+            "p90_one_year_aep_kwh": "P90, a single year (kWh/yr)"}
+
+
 def top_rows(table: pd.DataFrame, speed_unit: str, length_unit: str, n: int = 5) -> pd.DataFrame:
     """The first ``n`` rows as short text, for a static table anyone can read aloud."""
     t = table.head(n)
@@ -56,8 +76,12 @@ def top_rows(table: pd.DataFrame, speed_unit: str, length_unit: str, n: int = 5)
         f"hub height ({length_unit})": [f"{v:.1f}" for v in hub],
         "net energy (kWh/yr)": [f"{v:,.0f}" for v in t["aep_kwh"]],
     })
-    if "p90_aep_kwh" in t:
-        out["P90 (kWh/yr)"] = [f"{v:,.0f}" for v in t["p90_aep_kwh"]]
+    life = t["project_life_years"].iloc[0] if "project_life_years" in t and len(t) else 20
+    for col, label in p90_labels(life).items():
+        if col in t:
+            out[label] = [f"{v:,.0f}" for v in t[col]]
+    if "turbulence_effect" in t:
+        out["turbulence effect"] = [signed_percent(v) for v in t["turbulence_effect"]]
     if "lcoe_per_kwh" in t:
         out["cost per kWh"] = [f"{v:.2f}" if np.isfinite(v) else "–" for v in t["lcoe_per_kwh"]]
     out["status"] = ["excluded" if e else "eligible" for e in t["excluded"]]
@@ -76,7 +100,10 @@ def scenario_outcome(evaluation, speed_unit: str, length_unit: str) -> dict:
         f"hub height ({length_unit})": f"{hub:.1f}",
         "net energy (kWh/yr)": f"{float(best['aep_kwh']):,.0f}",
     }
-    for col, label, fmt in (("p90_aep_kwh", "P90 (kWh/yr)", "{:,.0f}"),
+    life = best["project_life_years"] if "project_life_years" in best.index else 20
+    labels = p90_labels(life)
+    for col, label, fmt in (("p90_aep_kwh", labels["p90_aep_kwh"], "{:,.0f}"),
+                            ("p90_one_year_aep_kwh", labels["p90_one_year_aep_kwh"], "{:,.0f}"),
                             ("lcoe_per_kwh", "cost per kWh", "{:.3f}"),
                             ("payback_years", "payback (years)", "{:.1f}")):
         if col in best.index:

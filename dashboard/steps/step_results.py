@@ -87,8 +87,10 @@ def whatif_and_ranking():
         c1.metric("Best position", f"{best['position_id']}", f"with {best['turbine_id']}",
                   delta_color="off", delta_arrow="off")
         c2.metric("Net energy, P50", f"{best['aep_kwh']:,.0f} kWh/yr")
-        if "p90_aep_kwh" in best.index:
-            c3.metric("P90 (exceeded 9 years in 10)", f"{best['p90_aep_kwh']:,.0f} kWh/yr")
+        if "p90_one_year_aep_kwh" in best.index:
+            c3.metric("P90, a single year", f"{best['p90_one_year_aep_kwh']:,.0f} kWh/yr",
+                      help="Exceeded in nine years out of ten. P90 of the average year over "
+                           f"the project life: {best['p90_aep_kwh']:,.0f} kWh/yr")
         if "lcoe_per_kwh" in best.index and np.isfinite(best["lcoe_per_kwh"]):
             c4.metric("Cost per kWh", f"{best['lcoe_per_kwh']:.2f} {a.economics.currency}")
     else:
@@ -148,6 +150,16 @@ with c2:
     m1.metric(f"Mean speed at hub ({S})",
               f"{units.speed_from_si(row['mean_speed_ms'], S):.2f}")
     m2.metric("Net energy", f"{row['aep_kwh']:,.0f} kWh/yr")
+    if "turbulence_effect" in row.index:
+        m1.metric("Turbulence effect", results_view.signed_percent(row["turbulence_effect"]),
+                  help="Change of this row's energy from the site's turbulence, against the "
+                       "published curve (measured at the curve's own turbulence)")
+    if "p90_one_year_aep_kwh" in row.index:
+        life = float(row.get("project_life_years", 20))
+        m2.metric("P90, single year", f"{row['p90_one_year_aep_kwh']:,.0f} kWh/yr",
+                  help="Exceeded in nine years out of ten")
+        m1.metric(f"P90 over {life:g}-year life", f"{row['p90_aep_kwh']:,.0f} kWh/yr",
+                  help=f"The average year over {life:g} years, exceeded with 90 % probability")
     if "min_clear_mast_m" in row.index and np.isfinite(row["min_clear_mast_m"]):
         st.caption(f"Shortest mast that clears the roof zones: "
                    f"{units.length_from_si(row['min_clear_mast_m'], L):.1f} {L}")

@@ -85,7 +85,8 @@ COLUMNS = (
       "energy.uncertainty", digits=0),
     C("p75_aep_kwh", "kWh/yr", "P75 energy", "net energy exceeded in three years of four",
       "energy.uncertainty", digits=0),
-    C("p90_aep_kwh", "kWh/yr", "P90 energy", "net energy exceeded in nine years of ten",
+    C("p90_aep_kwh", "kWh/yr", "P90 energy, life average", "net energy a year averaged over "
+      "the project life, exceeded with 90 % confidence (not a single year: see P90 one year)",
       "energy.uncertainty", digits=0),
     C("speed_sensitivity", "", "Energy change per speed change",
       "relative change of energy per relative change of mean speed", "energy.aep", digits=2),
@@ -180,6 +181,27 @@ COLUMNS = (
       "back / not allowed here", "chain.verdict", "text"),
     C("verdict_reason", "", "Why", "one line with the numbers behind the verdict",
       "chain.verdict", "text"),
+    C("p90_life_aep_kwh", "kWh/yr", "P90 energy, life average", "net energy a year, averaged "
+      "over the project life, exceeded with 90 % confidence", "energy.uncertainty", digits=0),
+    C("p90_one_year_aep_kwh", "kWh/yr", "P90 energy, one year", "net energy of a single year "
+      "exceeded in nine years of ten (year-to-year variability included)",
+      "energy.uncertainty", digits=0),
+    C("p75_one_year_aep_kwh", "kWh/yr", "P75 energy, one year", "net energy of a single year "
+      "exceeded in three years of four", "energy.uncertainty", digits=0),
+    C("project_life_years", "years", "Project life", "years the life-average P-values cover",
+      "energy.uncertainty", digits=0),
+    C("aep_bins_kwh", "kWh/yr", "Net energy, method of bins", "the same energy by the IEC "
+      "61400-12-1 method of bins (cross-check of the exact integral)", "energy.aep", digits=0),
+    C("turbulence_effect", "", "Turbulence effect on energy", "change of energy from the site's "
+      "turbulence against the curve's test turbulence", "energy.aep", "fraction", 1),
+    C("power_curve_ti", "", "Power-curve test TI", "turbulence intensity the curve was "
+      "measured at", "energy.turbines", "fraction", 0),
+    C("extreme_load_method", "", "Extreme load method", "how the extreme thrust was found",
+      "energy.loads", "text"),
+    C("class_design_ti", "", "Class design TI", "turbulence intensity the turbine's IEC "
+      "61400-2 class is designed for", "energy.loads", "fraction", 0),
+    C("ti_above_class_design", "", "TI above class design", "the site's turbulence exceeds "
+      "the class design value", "energy.loads", "flag"),
 )
 
 #: Columns derived for reading only (never in the ranked table or its files).

@@ -35,8 +35,12 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     """Yield, uncertainty, loads, noise and money of every position x turbine (unranked).
 
     One row per position x turbine, positions outer. Energy uses the effective climate's
-    turbulence intensity and inflow skew per position and sector
-    (:func:`engine.energy.aep.yield_arrays`); P75/P90 come from :mod:`engine.energy.uncertainty`;
+    turbulence intensity and inflow skew per position and sector and is integrated exactly
+    (:func:`engine.energy.aep.yield_arrays`); the method of bins is reported beside it
+    (``aep_bins_kwh``) and ``turbulence_effect`` is what the turbulence adjustment did to
+    the energy [-]. P75/P90 come from :mod:`engine.energy.uncertainty` for the average year of the
+    project life (``p75_aep_kwh``, ``p90_aep_kwh`` = ``p90_life_aep_kwh``) and for a single
+    year (``p75_one_year_aep_kwh``, ``p90_one_year_aep_kwh``);
     loads (:mod:`engine.energy.loads`) and noise (:mod:`engine.energy.noise`) are screening cautions;
     money and CO2 use the net (P50) energy (:mod:`engine.energy.economics`).
     """
@@ -45,13 +49,14 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     rho = eff.air_density_kgm3
     y = energy.yield_arrays(eff.frequency, eff.weibull_k, eff.weibull_c_ms,
                             eff.turbulence_intensity, eff.inflow_skew_deg, turbines, rho,
-                            assessment.losses)
+                            assessment.losses, energy_settings=assessment.energy,
+                            no_credit=eff.diagnostics.get("no_turbulence_credit"))
     rated_w = y.rated_power_w
     gross_kwh = y.gross_wh / 1000.0
     net_kwh = y.net_wh / 1000.0
-    pv = uncertainty.analytic_p_values(y.setup, energy.net_fraction(assessment.losses),
-                                       assessment.uncertainty, y.speed_sensitivity,
-                                       gross_wh=y.gross_wh)
+    pv = uncertainty.exceedance_table(y.setup, y.net_wh, assessment.uncertainty,
+                                      assessment.economics.lifetime_years,
+                                      gross_wh=y.bins_gross_wh)
     mean_ms = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.weibull_c_ms)  # (P,)
     pos = assessment.positions
     mast = np.array([float(p.mast_height_m) for p in pos])
@@ -75,19 +80,23 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
         "capacity_factor": y.capacity_factor.ravel(),
         "rated_power_kw": np.tile(rated_w / 1000.0, P),
         "full_load_hours": y.full_load_hours.ravel(),
-        "p50_aep_kwh": pv[50].ravel() / 1000.0,
-        "p75_aep_kwh": pv[75].ravel() / 1000.0,
-        "p90_aep_kwh": pv[90].ravel() / 1000.0,
+        "p50_aep_kwh": net_kwh.ravel(),
+        # P75/P90 of the average year over the project life (names kept); one year beside it.
+        "p75_aep_kwh": pv["p75_life"].ravel() / 1000.0,
+        "p90_aep_kwh": pv["p90_life"].ravel() / 1000.0,
         "speed_sensitivity": y.speed_sensitivity.ravel(),
         "skew_speed_factor": y.skew_factor_mean.ravel(),
     }
+    rows.update(_yield_columns(y, pv, assessment))
     rows.update({name: arr.ravel() for name, arr in money.items()})
-    rows.update({name: ld[name].ravel() for name in
+    ti_mean = np.sum(eff.frequency * eff.turbulence_intensity, axis=-1)
+    load_cols = _load_columns(ld, ti_mean)
+    rows.update({name: load_cols.pop(name) for name in
                  ("thrust_rated_n", "thrust_extreme_n", "mast_base_moment_nm")})
     free_mean = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.free_c_ms)
     rows["speedup"] = np.repeat(mean_ms / free_mean, T)
-    rows["turbulence_intensity"] = np.repeat(
-        np.sum(eff.frequency * eff.turbulence_intensity, axis=-1), T)
+    rows["turbulence_intensity"] = np.repeat(ti_mean, T)
+    rows.update(load_cols)
     # Per-position diagnostics of the building models become columns (shape (P,) only).
     for name, arr in eff.diagnostics.items():
         arr = np.asarray(arr)
@@ -114,7 +123,39 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
                                            y.setup) / 1000.0
         df["monthly_aep_kwh"] = list(monthly.reshape(P * T, 12).tolist())
     df["flags"] = [list(eff.flags[i]) if eff.flags else [] for i in np.repeat(np.arange(P), T)]
+    for r in np.flatnonzero(rows["ti_above_class_design"]):
+        df.at[r, "flags"] = df.at[r, "flags"] + [
+            f"turbulence intensity {ti_mean[r // T]:.2f} above the IEC 61400-2 class design "
+            f"value {ld['design_ti'][r % T]:.2f}: ask the maker whether the turbine is rated "
+            "for it"]
     return df
+
+
+def _yield_columns(y, pv, assessment) -> dict:
+    """Life and one-year P90s, the bins cross-check and the turbulence effect (new columns)."""
+    P, T = y.gross_wh.shape
+    keep = energy.net_fraction(assessment.losses)
+    return {
+        "p90_life_aep_kwh": pv["p90_life"].ravel() / 1000.0,
+        "p90_one_year_aep_kwh": pv["p90_one_year"].ravel() / 1000.0,
+        "p75_one_year_aep_kwh": pv["p75_one_year"].ravel() / 1000.0,
+        "project_life_years": np.full(P * T, float(assessment.economics.lifetime_years)),
+        "aep_bins_kwh": (y.bins_gross_wh * keep).ravel() / 1000.0,
+        "turbulence_effect": y.turbulence_effect.ravel(),
+        "power_curve_ti": np.tile([t.power_curve_ti for t in assessment.turbines], P),
+    }
+
+
+def _load_columns(ld, ti_mean) -> dict:
+    """Thrusts, moment, the extreme load's method and the class-design turbulence check."""
+    P, T = ld["thrust_rated_n"].shape
+    out = {name: ld[name].ravel() for name in
+           ("thrust_rated_n", "thrust_extreme_n", "mast_base_moment_nm")}
+    out["extreme_load_method"] = np.tile(np.asarray(ld["extreme_load_method"], object), P)
+    out["class_design_ti"] = np.tile(ld["design_ti"], P)
+    # A site more turbulent than the class's design value: its fatigue design does not cover it.
+    out["ti_above_class_design"] = (ti_mean[:, None] > ld["design_ti"][None, :]).ravel()
+    return out
 
 
 def evaluate(assessment) -> Evaluation:

@@ -47,9 +47,14 @@ def _npv_at_scales(a, eff, idx, tur, scales, economics=None, energy_factor=1.0,
     scales = np.broadcast_to(np.asarray(scales, float), idx.shape)
     f, k = eff.frequency[idx], eff.weibull_k[idx]
     c = eff.weibull_c_ms[idx] * scales[:, None]
+    no_credit = eff.diagnostics.get("no_turbulence_credit")
+    # All the site's turbines, as the chain runs them: the curves share one speed grid, so a
+    # turbine alone would differ from its row in the table in the fifth digit.
     y = energy.yield_arrays(f, k, c, eff.turbulence_intensity[idx], eff.inflow_skew_deg[idx],
-                            [tur], eff.air_density_kgm3, a.losses)
-    net = y.net_wh / 1000.0 * energy_factor
+                            a.turbines, eff.air_density_kgm3, a.losses, energy_settings=a.energy,
+                            no_credit=None if no_credit is None else np.asarray(no_credit)[idx])
+    j = [t.id for t in a.turbines].index(tur.id)
+    net = y.net_wh[:, j:j + 1] / 1000.0 * energy_factor
     pos = a.positions
     kinds = kinds if kinds is not None else [pos[j].kind for j in idx]
     mast_m = mast_m if mast_m is not None else [float(pos[j].mast_height_m) for j in idx]

@@ -288,6 +288,14 @@ class Turbine:
     iec_class: str = "II"
     #: Reference wind speed [m/s] for class S only.
     v_ref_ms: float = 0.0
+    #: Turbulence intensity the published curve was measured at [-]. Curves tested to
+    #: IEC 61400-12-1 are typically measured at 10-15 % (from memory); 0.12 when not stated.
+    power_curve_ti: float = 0.12
+    #: Projected (planform) area of all blades, parked [m²]; 0 estimates it from the swept
+    #: area and a typical solidity (engine.energy.loads.PARKED_SOLIDITY).
+    blade_projected_area_m2: float = 0.0
+    #: The maker's declared parked-rotor load at the class's extreme wind [N]; 0 = not declared.
+    parked_thrust_n: float = 0.0
 
     def __post_init__(self):
         p = Problems()
@@ -303,6 +311,9 @@ class Turbine:
         check_range(p, "sound_power_db", self.sound_power_db, 30, 130, "dB(A)")
         check_range(p, "mass_kg", self.mass_kg, 0, 20000, "kg")
         check_range(p, "installed_cost", self.installed_cost, 0, 1e7, "")
+        check_range(p, "power_curve_ti", self.power_curve_ti, 0, 0.5, "")
+        check_range(p, "blade_projected_area_m2", self.blade_projected_area_m2, 0, 200, "m²")
+        check_range(p, "parked_thrust_n", self.parked_thrust_n, 0, 1e6, "N")
         speeds, power = self.curve_speed_ms, self.curve_power_w
         if len(speeds) < 2:
             p.add("curve_speed_ms", f"the power curve needs at least 2 points, got {len(speeds)}")
@@ -477,11 +488,14 @@ class Uncertainty:
     speed_transfer: float = 0.06
     speed_building_model: float = 0.12
     energy_power_curve: float = 0.08
+    #: Year-to-year variability: one-sigma of the annual mean speed as a fraction of the
+    #: long-term mean (about 6 % in temperate climates; common practice, from memory).
+    interannual_speed: float = 0.06
 
     def __post_init__(self):
         p = Problems()
         for name in ("speed_data", "speed_long_term", "speed_transfer",
-                     "speed_building_model", "energy_power_curve"):
+                     "speed_building_model", "energy_power_curve", "interannual_speed"):
             check_range(p, name, getattr(self, name), 0, 1)
         _raise(p)
 
@@ -590,6 +604,36 @@ class TransferSettings:
 
 
 @dataclass(frozen=True)
+class EnergySettings:
+    """How turbulence at the rotor changes the energy (see :mod:`engine.energy.aep`).
+
+    ``excess_ti_power_loss`` b: the curve's power is multiplied by 1 - b max(I - I_curve, 0)
+    at a turbulence intensity I above the one the curve was measured at, I_curve. A derived,
+    conservative assumption standing for what field studies of small turbines in turbulent
+    urban flow report (lower return than the maker's curve, worse at high turbulence;
+    Pagnini, Burlando & Repetto 2015; a furling rotor losing energy near furling, Lubitz
+    2011) and for the rotor not following gusts shorter than its response time.
+    ``tracked_ti_fraction``: the share of the turbulence's standard deviation the rotor
+    follows in the power-curve average (Lubitz 2011: power lags the wind by 1-2 s; 0.85 of σ
+    is about the share of a Kaimal spectrum's variance at periods above 1-2 s at 10-30 m,
+    derived). ``max_credited_ti``: turbulence above this intensity earns no averaging gain
+    (derived, conservative: test sites seldom exceed it, and field trials of turbulent
+    urban sites found losses, not gains).
+    """
+
+    excess_ti_power_loss: float = 0.5
+    tracked_ti_fraction: float = 0.85
+    max_credited_ti: float = 0.2
+
+    def __post_init__(self):
+        p = Problems()
+        check_range(p, "excess_ti_power_loss", self.excess_ti_power_loss, 0, 2, "")
+        check_range(p, "tracked_ti_fraction", self.tracked_ti_fraction, 0, 1, "")
+        check_range(p, "max_credited_ti", self.max_credited_ti, 0, 1, "")
+        _raise(p)
+
+
+@dataclass(frozen=True)
 class Assessment:
     """Everything a result depends on: what a site file holds."""
 
@@ -605,6 +649,7 @@ class Assessment:
     receptors: tuple[Receptor, ...] = ()
     spot_readings: tuple[SpotReading, ...] = ()
     transfer: TransferSettings = field(default_factory=TransferSettings)
+    energy: EnergySettings = field(default_factory=EnergySettings)
     format_version: int = FORMAT_VERSION
 
     def __post_init__(self):

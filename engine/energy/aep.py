@@ -4,13 +4,17 @@ The chain for one site, all arrays broadcast over (position P, turbine T, sector
 
 1. the published curve (at 1.225 kg/m³) is carried to the site's air density
    (:func:`density_corrected_power_w`, stall and pitch variants);
-2. it is averaged over the turbulence at the rotor (σ = TI · V), exactly for the piecewise-linear
-   curve (:func:`gaussian_average_segments`; :func:`gaussian_average` for any function),
-   tabulated once per turbine over the turbulence intensities that occur
-   (:func:`turbulent_curve_table_w`) and looked up per position and sector;
+2. it is carried from the turbulence it was measured at to the site's
+   (:func:`site_turbulence_curve_w`: only the difference is normalised, with conservative
+   allowances for small rotors in strong turbulence and no credit in recirculation), the
+   Gaussian averages exact for the piecewise-linear curve (:func:`gaussian_average_segments`;
+   :func:`gaussian_average` for any function), tabulated once per turbine over the
+   turbulence intensities that occur (:func:`turbulent_curve_table_w`) and looked up per
+   position and sector;
 3. skewed inflow lowers the speed the rotor sees, by axis type (:func:`skew_speed_factor`);
-4. the method of bins sums the curve against each sector's Weibull (:class:`BinsSetup`,
-   :func:`aep_method_of_bins_wh` for a plain curve);
+4. the curve is integrated against each sector's Weibull exactly (:mod:`engine.energy.exact`)
+   and by the method of bins beside it (:class:`BinsSetup`, :func:`aep_method_of_bins_wh` for
+   a plain curve);
 5. the losses chain turns gross into net energy (:func:`losses_chain`).
 
 :func:`yield_arrays` runs steps 1-5 and the speed sensitivity d ln E / d ln V used by
@@ -199,11 +203,12 @@ def gaussian_average_segments(knots, alpha, beta, mean_ms, sigma_ms):
     """
     v = np.asarray(mean_ms, float)[..., None]
     s = np.asarray(sigma_ms, float)[..., None]
-    pos = s > 0
+    pos = s > 1e-12  # below 1e-12 m/s there is nothing to average
     s_safe = np.where(pos, s, 1.0)
     z = (np.asarray(knots, float) - v) / s_safe
     cdf = ndtr(z)
-    pdf = np.exp(-0.5 * z * z) * (1.0 / math.sqrt(2.0 * math.pi))
+    with np.errstate(over="ignore"):  # a knot far out in a very narrow average: density 0
+        pdf = np.exp(-0.5 * z * z) * (1.0 / math.sqrt(2.0 * math.pi))
     d_cdf = np.diff(cdf, axis=-1)
     d_pdf = np.diff(pdf, axis=-1)
     avg = np.sum(alpha * d_cdf + beta * (v * d_cdf - s_safe * d_pdf), axis=-1)
@@ -227,11 +232,100 @@ def ti_grid_for(turbulence_intensity, step=TI_TABLE_STEP, ti_max=TI_MAX):
     return np.arange(lo, max(hi, lo + 1) + 1) * step
 
 
-def turbulent_curve_table_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAULT_EDGES_MS,
-                            reference_ti=0.0):
-    """Density-corrected, turbulence-averaged power of each turbine [W], shape (T, I, J).
+def published_power_w(knots, alpha, beta, speed_ms, side="max"):
+    """The pieces of :func:`curve_segments` evaluated at speeds [W], one-sided at jumps.
 
-    Row ``i`` holds the curve at turbulence intensity ``ti_grid[i]`` on the bin edges.
+    ``side`` "right" takes the value just above a knot, "left" just below, "max" the larger
+    of the two (the turbine runs at exactly cut-in and at exactly cut-out); 0 outside.
+    """
+    v = np.asarray(speed_ms, float)
+    if side == "max":
+        return np.maximum(published_power_w(knots, alpha, beta, v, "left"),
+                          published_power_w(knots, alpha, beta, v, "right"))
+    k = np.searchsorted(knots, v, side="right" if side == "right" else "left") - 1
+    inside = ((v >= knots[0]) & (v < knots[-1])) if side == "right" else (
+        (v > knots[0]) & (v <= knots[-1]))
+    k = np.clip(k, 0, len(alpha) - 1)
+    return np.where(inside, alpha[k] + beta[k] * v, 0.0)
+
+
+def site_turbulence_curve_w(turbine, air_density_kgm3, speed_ms, ti, reference_ti=0.0,
+                            excess_ti_power_loss=0.0, tracked_ti_fraction=1.0,
+                            max_credited_ti=math.inf, no_credit=False, side="max"):
+    """The published curve carried to the site's turbulence intensity [W], shape (I, J).
+
+    Parameters
+    ----------
+    turbine : :class:`engine.core.model.Turbine`
+    air_density_kgm3 : site air density [kg/m³] (:func:`curve_segments`)
+    speed_ms : (J,) speeds [m/s]
+    ti : (I,) site turbulence intensities [-]
+    reference_ti : turbulence intensity the curve was measured at, I_c [-]; None takes the
+        turbine's ``power_curve_ti``; 0 treats the curve as a zero-turbulence curve
+    excess_ti_power_loss : b, fraction of power lost per unit of TI above I_c [-]
+    tracked_ti_fraction : f, share of the turbulence's standard deviation the rotor follows [-]
+    max_credited_ti : I_max, highest turbulence intensity whose averaging is credited [-]
+    no_credit : never above the published curve (a rotor in a recirculation zone)
+    side : value at a jump of the published curve, as in :func:`published_power_w`
+
+    Notes
+    -----
+    Only the difference between the site's and the curve's turbulence is normalised, in the
+    manner of the turbulence normalisation of IEC 61400-12-1 (P = P_meas − P_sim(I_c) +
+    P_sim(I)), with the published curve standing for the zero-turbulence curve in the
+    simulated terms (the first step of the standard's iteration; from memory):
+
+        P_I(V) = [P_c(V) + G(V, f I' V) − G(V, f I_c V)] · max(1 − b max(I − I_c, 0), 0),
+        I' = min(I, max(I_max, I_c)),
+
+    G(V, σ) = E[P_c(V + X)], X ~ N(0, σ²), exact for the linear pieces
+    (:func:`gaussian_average_segments`), held within 0 and the power limit. At I = I_c the
+    published curve is returned unchanged, below I_c the foot of the curve loses what the
+    test site's turbulence had added. b, f and I_max are settings
+    (:class:`engine.core.model.EnergySettings`): a derived, conservative allowance for small rotors
+    in turbulent flow, which deliver less than the maker's curve and increasingly so as
+    turbulence rises (Pagnini, Burlando & Repetto 2015), follow gusts only with a lag of 1-2 s
+    (Lubitz 2011), and lose energy near furling in gusty wind (Lubitz 2011). No averaging gain
+    is credited beyond I_max: the normalisation is meant for turbulence of the order met on
+    test sites, and a rotor idling below cut-in does not start in every short gust.
+
+    References
+    ----------
+    IEC 61400-12-1:2017, annex on turbulence normalisation of power curves (from memory).
+    Lubitz, W. D. (2011), "Impact of ambient turbulence on performance of a small wind
+    turbine", World Renewable Energy Congress, Linköping Electronic Conf. Proc. 57:4121-4127.
+    Pagnini, L. C., Burlando, M. and Repetto, M. P. (2015), "Experimental power curve of small-
+    size wind turbines in turbulent urban environment", Applied Energy 154:112-121.
+    """
+    knots, alpha, beta = curve_segments(turbine, air_density_kgm3)
+    v = np.asarray(speed_ms, float)[None, :]
+    ti = np.asarray(ti, float)[:, None]
+    ref = float(turbine.power_curve_ti if reference_ti is None else reference_ti)
+    f = float(tracked_ti_fraction)
+    p_c = published_power_w(knots, alpha, beta, v, side)
+
+    def g(sigma):
+        sigma = np.broadcast_to(sigma, np.broadcast_shapes(sigma.shape, v.shape))
+        avg = gaussian_average_segments(knots, alpha, beta, np.broadcast_to(v, sigma.shape),
+                                        sigma)
+        return np.where(sigma > 0, avg, p_c)  # σ = 0: the curve itself, same side
+
+    credited = np.minimum(ti, max(float(max_credited_ti), ref))
+    # Rows above the credit ceiling share one average: work out each distinct row once.
+    levels, row = np.unique(credited[:, 0], return_inverse=True)
+    p = p_c + g(f * levels[:, None] * v)[row.ravel()] - g(np.array(f * ref) * v)
+    p = p * np.clip(1.0 - float(excess_ti_power_loss) * np.maximum(ti - ref, 0.0), 0.0, 1.0)
+    p = np.clip(p, 0.0, power_limit_w(turbine))
+    return np.minimum(p, p_c) if no_credit else p
+
+
+def turbulent_curve_table_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAULT_EDGES_MS,
+                            reference_ti=0.0, excess_ti_power_loss=0.0, tracked_ti_fraction=1.0,
+                            max_credited_ti=math.inf, no_credit=False):
+    """Density-corrected, turbulence-adjusted power of each turbine [W], shape (T, I, J).
+
+    Row ``i`` holds the curve at turbulence intensity ``ti_grid[i]`` on the bin edges
+    (:func:`site_turbulence_curve_w`; the arguments are its own).
 
     Parameters
     ----------
@@ -239,35 +333,32 @@ def turbulent_curve_table_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAUL
     air_density_kgm3 : site air density [kg/m³]
     ti_grid : (I,) turbulence intensities [-]
     edges_ms : (J,) bin edges [m/s]
-    reference_ti : turbulence intensity already contained in the published curves [-]; 0
-        treats them as zero-turbulence curves
+    reference_ti : turbulence intensity contained in the published curves [-]; None each
+        turbine's ``power_curve_ti``; 0 (with the other defaults) the plain Gaussian average
+        of a zero-turbulence curve, P_I(V) = E[P0(V + X)], X ~ N(0, (I V)²)
 
     Notes
     -----
-    P_I(V) = E[P0(V + X)], X ~ N(0, σ²), σ² = max(I² - I_ref², 0) V², computed exactly for
-    the piecewise-linear curve (:func:`gaussian_average_segments`). Gaussian averaging
-    composes (σ1² + σ2²), so a curve measured at I_ref needs only the excess turbulence
-    (exact when σ does not vary across the averaging window; approximate otherwise).
     The average of a curve bounded by 0 and its power limit stays within both.
     """
     edges = np.asarray(edges_ms, float)
     ti = np.asarray(ti_grid, float)
-    sigma = np.sqrt(np.maximum(ti ** 2 - float(reference_ti) ** 2, 0.0))[:, None] * edges[None, :]
-    return np.stack([gaussian_average_segments(*curve_segments(t, air_density_kgm3),
-                                               edges[None, :], sigma) for t in turbines])
+    return np.stack([site_turbulence_curve_w(t, air_density_kgm3, edges, ti, reference_ti,
+                                             excess_ti_power_loss, tracked_ti_fraction,
+                                             max_credited_ti, no_credit) for t in turbines])
 
 
 @functools.lru_cache(maxsize=64)
-def _table_weights_cached(turbines, air_density_kgm3, ti_grid, edges_ms, reference_ti):
+def _table_weights_cached(turbines, air_density_kgm3, ti_grid, edges_ms, *model):
     w = bin_weights_w(turbulent_curve_table_w(list(turbines), air_density_kgm3,
-                                              np.array(ti_grid), np.array(edges_ms),
-                                              reference_ti))
+                                              np.array(ti_grid), np.array(edges_ms), *model))
     w.flags.writeable = False
     return w
 
 
 def table_weights_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAULT_EDGES_MS,
-                    reference_ti=0.0):
+                    reference_ti=0.0, excess_ti_power_loss=0.0, tracked_ti_fraction=1.0,
+                    max_credited_ti=math.inf, no_credit=False):
     """:func:`bin_weights_w` of :func:`turbulent_curve_table_w`, (T, I, J) [W], read-only.
 
     Kept for the last few argument sets: a screening asks for the same turbines, density and
@@ -276,24 +367,27 @@ def table_weights_w(turbines, air_density_kgm3, ti_grid, edges_ms=DEFAULT_EDGES_
     whole table from 0 to :data:`TI_MAX`, kept once for all the grids a run meets: the same
     numbers as a table of those rows alone.
     """
+    model = (None if reference_ti is None else float(reference_ti),
+             float(excess_ti_power_loss), float(tracked_ti_fraction), float(max_credited_ti),
+             bool(no_credit))
     try:
         key = (tuple(turbines), float(air_density_kgm3),
-               tuple(float(v) for v in np.asarray(edges_ms, float)), float(reference_ti))
+               tuple(float(v) for v in np.asarray(edges_ms, float)))
         hash(key)
     except TypeError:  # a turbine that cannot be hashed: compute afresh
         return bin_weights_w(turbulent_curve_table_w(turbines, air_density_kgm3, ti_grid,
-                                                     edges_ms, reference_ti))
+                                                     edges_ms, *model))
     grid = np.asarray(ti_grid, float)
     steps = np.rint(grid / TI_TABLE_STEP).astype(np.int64)
     whole_rows = int(round(TI_MAX / TI_TABLE_STEP)) + 1
     if (grid.size and np.array_equal(grid, steps * TI_TABLE_STEP) and steps.min() >= 0
             and steps.max() < whole_rows):
         whole = _table_weights_cached(key[0], key[1], tuple(
-            float(v) for v in np.arange(whole_rows) * TI_TABLE_STEP), *key[2:])
+            float(v) for v in np.arange(whole_rows) * TI_TABLE_STEP), key[2], *model)
         rows = whole[:, steps]
         rows.flags.writeable = False
         return rows
-    return _table_weights_cached(key[0], key[1], tuple(float(v) for v in grid), *key[2:])
+    return _table_weights_cached(key[0], key[1], tuple(float(v) for v in grid), key[2], *model)
 
 
 def lookup_turbulent_curve_w(table_w, ti_grid, turbulence_intensity):
@@ -593,6 +687,9 @@ class BinsSetup:
     ti_frac: np.ndarray  # (P, S) fraction towards the next row
     skew_factor: np.ndarray  # (P, T, S)
     edges_ms: np.ndarray  # (J,) bin edges [m/s]
+    #: (turbines, density, TI grid, curve_model_args, with capped half) behind the table, for
+    #: the exact integration of the same curves (engine.energy.exact).
+    curve_recipe: tuple = ()
 
     @functools.cached_property
     def _log_edges(self) -> np.ndarray:
@@ -661,9 +758,25 @@ class BinsSetup:
         return self._sums(0.0, hours, with_slope=True)
 
 
+def curve_model_args(turbulence=True, reference_ti=None, energy_settings=None) -> tuple:
+    """(reference_ti, excess_ti_power_loss, tracked_ti_fraction, max_credited_ti) of the curve.
+
+    ``turbulence=False`` gives the published curve itself at every TI (0, 0, 1 with TI 0);
+    otherwise the turbine's own curve TI (``reference_ti`` None) and the
+    :class:`engine.core.model.EnergySettings` (defaults when None).
+    """
+    if not turbulence:
+        return (0.0, 0.0, 1.0, math.inf)
+    from engine.core.model import EnergySettings
+    es = energy_settings if energy_settings is not None else EnergySettings()
+    return (None if reference_ti is None else float(reference_ti),
+            float(es.excess_ti_power_loss), float(es.tracked_ti_fraction),
+            float(es.max_credited_ti))
+
+
 def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflow_skew_deg,
                  turbines, air_density_kgm3, edges_ms=DEFAULT_EDGES_MS, turbulence=True,
-                 reference_ti=0.0) -> BinsSetup:
+                 reference_ti=None, energy_settings=None, no_credit=None) -> BinsSetup:
     """Corrected curves and Weibull terms for every position, turbine, sector and bin edge.
 
     Parameters
@@ -674,8 +787,12 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     inflow_skew_deg : (P, S) inflow angle to the horizontal [deg]
     turbines : sequence of :class:`engine.core.model.Turbine`
     air_density_kgm3 : site air density [kg/m³]
-    turbulence : apply the turbulence correction (False uses the curve at TI = 0)
-    reference_ti : turbulence already contained in the published curves [-]
+    turbulence : adjust the curve to the site's turbulence (False uses the published curve)
+    reference_ti : turbulence contained in the published curves [-]; None each turbine's
+        ``power_curve_ti``
+    energy_settings : :class:`engine.core.model.EnergySettings` (defaults when None)
+    no_credit : (P, S) bool, sectors where the rotor sits in a recirculation zone: the curve
+        is never above the published one there
 
     Notes
     -----
@@ -683,7 +800,8 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     kept as ln c_pts once per rotor-axis type; the curve is P_t at TI_ps
     (:func:`turbulent_curve_table_w`, density corrected), linear between the table's rows. Bin
     weights are linear in the curve, so the sums over edges are taken per table row and
-    interpolated (:func:`_blocked_bins_sums`).
+    interpolated (:func:`_blocked_bins_sums`). Sectors without credit index a second half of
+    the table holding the same rows capped at the published curve.
     """
     freq = np.asarray(frequency, float)
     k = np.asarray(weibull_k, float)
@@ -698,6 +816,14 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     skew_f = factors[:, turbine_axis]  # (P, T, S)
     grid = ti_grid_for(ti)
     lo, frac = _ti_nodes(grid, ti)
+    model = curve_model_args(turbulence, reference_ti, energy_settings)
+    weights = table_weights_w(turbines, air_density_kgm3, grid, edges, *model)
+    capped = (np.zeros(c.shape, bool) if no_credit is None or not turbulence
+              else np.broadcast_to(np.asarray(no_credit, bool), c.shape))
+    if capped.any():
+        weights = np.concatenate([weights, table_weights_w(turbines, air_density_kgm3, grid,
+                                                           edges, *model, True)], axis=1)
+        lo = np.where(capped, lo + len(grid), lo)
     k_b = np.ascontiguousarray(np.broadcast_to(k[:, None, :], skew_f.shape))
     # ln(c f) per axis type; a scale of 0 (full shelter, or flow at 90° to a rotor axis) means
     # no wind: the log is guarded as in _weibull_x.
@@ -706,10 +832,10 @@ def prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
                            math.log(1e-9))  # (P, A, S)
     return BinsSetup(frequency=freq[:, None, :], weibull_k=k_b,
                      axis_log_c=np.ascontiguousarray(log_c),
-                     turbine_axis=turbine_axis,
-                     table_weights_w=table_weights_w(turbines, air_density_kgm3, grid, edges,
-                                                     reference_ti),
-                     ti_lo=lo, ti_frac=frac, skew_factor=skew_f, edges_ms=edges)
+                     turbine_axis=turbine_axis, table_weights_w=weights,
+                     ti_lo=lo, ti_frac=frac, skew_factor=skew_f, edges_ms=edges,
+                     curve_recipe=(tuple(turbines), float(air_density_kgm3),
+                                   tuple(float(g) for g in grid), model, bool(capped.any())))
 
 
 @dataclass(frozen=True)
@@ -718,8 +844,13 @@ class YieldArrays:
 
     Attributes
     ----------
-    gross_wh : gross energy per year (density, turbulence and skew corrected) [Wh]
+    gross_wh : gross energy per year (density, turbulence and skew corrected) [Wh], by the
+        exact integral of the curve (:mod:`engine.energy.exact`) or by the method of bins
     net_wh : after the losses chain [Wh]
+    bins_gross_wh : the same gross energy by the method of bins (the cross-check) [Wh]
+    published_gross_wh : gross energy on the published curve at the site's density, skew
+        included, without any turbulence adjustment [Wh]; the turbulence effect is
+        ``gross_wh / published_gross_wh − 1``
     speed_sensitivity : d ln E / d ln V, the relative change of energy per relative change of
         every sector's speed scale [-]
     skew_factor_mean : frequency-weighted speed factor from skewed inflow [-]
@@ -733,6 +864,15 @@ class YieldArrays:
     skew_factor_mean: np.ndarray
     rated_power_w: np.ndarray
     setup: BinsSetup
+    bins_gross_wh: np.ndarray = None
+    published_gross_wh: np.ndarray = None
+
+    @property
+    def turbulence_effect(self) -> np.ndarray:
+        """Relative change of gross energy the turbulence adjustment made [-] (0 with none)."""
+        ref = self.published_gross_wh
+        return np.divide(self.gross_wh, ref, out=np.ones_like(self.gross_wh),
+                         where=ref > 0) - 1.0
 
     @property
     def capacity_factor(self) -> np.ndarray:
@@ -777,31 +917,47 @@ def energy_and_sensitivity(setup: BinsSetup, hours=HOURS_PER_YEAR):
 
 def yield_arrays(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflow_skew_deg,
                  turbines, air_density_kgm3, losses, edges_ms=DEFAULT_EDGES_MS,
-                 turbulence=True, reference_ti=0.0, sensitivity_step=0.0):
+                 turbulence=True, reference_ti=None, sensitivity_step=0.0,
+                 energy_settings=None, no_credit=None, integration="exact"):
     """Gross and net yield with every correction, and the speed sensitivity, arrays (P, T).
 
     Parameters are those of :func:`prepare_bins`, plus ``losses``
-    (:class:`engine.core.model.Losses`) and ``sensitivity_step``: 0 takes the slope of the bins
-    sum (:func:`energy_and_sensitivity`), a step h > 0 the central difference
-    (:func:`speed_sensitivity`).
+    (:class:`engine.core.model.Losses`), ``sensitivity_step`` (0 takes the slope of the bins
+    sum, :func:`energy_and_sensitivity`; a step h > 0 the central difference,
+    :func:`speed_sensitivity`) and ``integration``: "exact" (the closed-form integral of the
+    piecewise-linear curve, :func:`engine.energy.exact.exact_energy_wh`) or "bins" (the
+    method of bins, IEC 61400-12-1).
 
     Notes
     -----
-    Gross = method of bins on the corrected curves; Net = Gross Π (1 - L_i)
-    (:func:`losses_chain`).
+    Gross = the chosen integral of the corrected curves; Net = Gross Π (1 - L_i)
+    (:func:`losses_chain`). The method of bins is always computed beside it
+    (``bins_gross_wh``), and the published curve without turbulence adjustment
+    (``published_gross_wh``) by the same integral, for the turbulence effect. The speed
+    sensitivity is the bins sum's (a ratio, which the bins' bias hardly moves).
     """
+    from engine.energy import exact as energy_exact
+    if integration not in ("exact", "bins"):
+        raise ValueError(f"integration must be 'exact' or 'bins', got {integration!r}")
     setup = prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity,
                          inflow_skew_deg, turbines, air_density_kgm3, edges_ms, turbulence,
-                         reference_ti)
+                         reference_ti, energy_settings, no_credit)
+    plain = prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity,
+                         inflow_skew_deg, turbines, air_density_kgm3, edges_ms, False)
     if sensitivity_step:
-        gross, sens = setup.energy_wh(1.0), speed_sensitivity(setup, sensitivity_step)
+        bins, sens = setup.energy_wh(1.0), speed_sensitivity(setup, sensitivity_step)
     else:
-        gross, sens = energy_and_sensitivity(setup)
+        bins, sens = energy_and_sensitivity(setup)
+    if integration == "exact":
+        gross, published = energy_exact.exact_energy_wh(setup, also=(plain,))
+    else:
+        gross, published = bins, plain.energy_wh(1.0)
     rated = np.array([t.rated_power_w for t in turbines], float)
     return YieldArrays(gross_wh=gross, net_wh=gross * net_fraction(losses),
                        speed_sensitivity=sens,
                        skew_factor_mean=np.sum(setup.frequency * setup.skew_factor, axis=-1),
-                       rated_power_w=rated, setup=setup)
+                       rated_power_w=rated, setup=setup, bins_gross_wh=bins,
+                       published_gross_wh=published)
 
 
 def month_hours(year: int = 2025) -> np.ndarray:

@@ -3,15 +3,23 @@
 Speed uncertainties (measured data, long-term correction, height/terrain transfer, building
 model) are independent one-sigma fractions of the mean speed; they combine by root sum of
 squares and reach the energy through the sensitivity s = d ln E / d ln V, computed
-numerically for every position x turbine: as the secant from P50 down to each level's speed
-(:func:`level_sensitivity`), since the local slope (:func:`engine.energy.aep.speed_sensitivity`)
+numerically for every position x turbine: as the secant from P50 down to the P90 speed
+(:func:`distribution_sensitivity`), since the local slope (:func:`engine.energy.aep.speed_sensitivity`)
 understates the fall where energy drops steeply near cut-in. The power-curve uncertainty is
 a fraction of energy and adds in quadrature.
 
 The energy is taken as log-normal about the central estimate (the median, P50):
 P_X = P50 exp(-z_X σ), z_X the standard normal quantile. For small σ this is the usual
-P50 (1 - z_X σ) and it never goes negative. :func:`monte_carlo_p_values` checks it by sampling
-the speed errors and re-running the method of bins with a seeded generator.
+P50 (1 - z_X σ) and it never goes negative. Every level of a row is read from **one**
+distribution (one σ, from the secant down to the P90 speed), so P50 ≥ P75 ≥ P90 ≥ 0 holds by
+construction. :func:`monte_carlo_p_values` checks it by sampling the speed errors and
+re-running the method of bins with a seeded generator.
+
+Year-to-year variability of the wind (:func:`exceedance_table`): the annual mean speed of a
+single year scatters about the long-term mean with a standard deviation σ_IAV (about 6 % in
+temperate climates; common practice, from memory), the mean over N years with σ_IAV/√N. The
+P-values of a single year and of the project life's average year add it to the uncertainty
+of the long-term mean in quadrature, through the same sensitivity.
 
 References
 ----------
@@ -104,23 +112,97 @@ def p_values(p50, speed_sensitivity, uncertainty, levels=LEVELS) -> dict:
     out = {}
     for lv in levels:
         s = speed_sensitivity[lv] if isinstance(speed_sensitivity, dict) else speed_sensitivity
-        out[lv] = p50 * np.exp(-exceedance_z(lv) * energy_sigma(s, uncertainty))
+        z = exceedance_z(lv)
+        # σ may be infinite (no energy at the level's speed): that level is 0, P50 stays.
+        out[lv] = p50 * np.exp(-z * energy_sigma(s, uncertainty)) if z > 0 else p50.copy()
     return out
 
 
 def analytic_p_values(setup, net_fraction, uncertainty, local_sensitivity=None,
-                      levels=LEVELS, gross_wh=None) -> dict:
-    """P50, P75, P90 of net energy for every row of a bins setup, ``{level: (P, T)}`` [Wh].
+                      levels=LEVELS, gross_wh=None, p50=None) -> dict:
+    """P50, P75, P90 of the long-term net energy of every row, ``{level: (P, T)}`` [Wh].
 
-    The sensitivity of each level is :func:`level_sensitivity`; P50 is the net energy.
-    ``gross_wh`` is ``setup.energy_wh(1.0)`` when already computed.
+    Parameters
+    ----------
+    setup : :class:`engine.energy.aep.BinsSetup`
+    net_fraction : losses factor Π (1 - L_i) [-]
+    uncertainty : :class:`engine.core.model.Uncertainty`
+    local_sensitivity : unused where the secant is defined; kept for callers
+    gross_wh : ``setup.energy_wh(1.0)`` when already computed
+    p50 : the central net energy when it comes from another integral (the exact one);
+        ``gross_wh × net_fraction`` otherwise
+
+    Notes
+    -----
+    One sensitivity for every level, the secant down to the P90 speed
+    (:func:`distribution_sensitivity`), so every level comes from one distribution and
+    P50 ≥ P75 ≥ P90 ≥ 0 by construction.
     """
     gross = setup.energy_wh(1.0) if gross_wh is None else np.asarray(gross_wh, float)
-    p50 = gross * float(net_fraction)
-    sens = {lv: (level_sensitivity(setup, uncertainty, lv, local_sensitivity, gross) if lv > 50
-                 else (np.zeros_like(p50) if local_sensitivity is None else local_sensitivity))
-            for lv in levels}
-    return p_values(p50, sens, uncertainty, levels)
+    p50 = gross * float(net_fraction) if p50 is None else np.asarray(p50, float)
+    s = distribution_sensitivity(setup, uncertainty, gross)
+    return p_values(p50, s, uncertainty, levels)
+
+
+def distribution_sensitivity(setup, uncertainty, e0=None):
+    """The one d ln E / d ln V of a row's energy distribution [-], (P, T).
+
+    Notes
+    -----
+    The secant down to the P90 speed (:func:`level_sensitivity` at 90 %): the steeper of the
+    secants, so P75 is read cautiously too. Where that speed gives no energy while the
+    central speed does, s = ∞ (every level below P50 is 0); no energy at all gives s = 0.
+    """
+    sv = combined_speed_uncertainty(uncertainty)
+    e0 = setup.energy_wh(1.0) if e0 is None else np.asarray(e0, float)
+    d = exceedance_z(90) * sv
+    if d <= 0:
+        return np.zeros_like(e0)
+    e1 = setup.energy_wh(float(np.exp(-d)))
+    both = (e0 > 0) & (e1 > 0)
+    s = (np.log(np.where(both, e0, 1.0)) - np.log(np.where(both, e1, 1.0))) / d
+    return np.where(both, np.maximum(s, 0.0), np.where(e0 > 0, np.inf, 0.0))
+
+
+def exceedance_table(setup, p50, uncertainty, life_years, gross_wh=None) -> dict:
+    """Net energy exceeded with 75 and 90 % probability, long-term, over the life, in one year.
+
+    Parameters
+    ----------
+    setup : :class:`engine.energy.aep.BinsSetup`
+    p50 : (P, T) central net energy [Wh]
+    uncertainty : :class:`engine.core.model.Uncertainty` (``interannual_speed`` σ_IAV)
+    life_years : project life N [years]
+    gross_wh : ``setup.energy_wh(1.0)`` when already computed
+
+    Returns
+    -------
+    dict of (P, T) arrays [Wh]: ``p75_life``, ``p90_life`` (the average year over N years),
+    ``p75_one_year``, ``p90_one_year`` (a single year), ``p90_mean`` (the long-term mean
+    alone), and ``sigma_one_year`` [-] (σ of ln E for one year)
+
+    Notes
+    -----
+    σ² = (s σ_V)² + u_PC² + (s σ_IAV)²/n with n = N for the life and n = 1 for one year, s
+    from :func:`distribution_sensitivity`; P_X = P50 exp(−z_X σ). So
+    P50 ≥ P75_life ≥ P90_life ≥ P90_one_year ≥ 0 and P75_one_year ≥ P90_one_year, by
+    construction.
+    """
+    p50 = np.asarray(p50, float)
+    s = distribution_sensitivity(setup, uncertainty, gross_wh)
+    base = energy_sigma(np.where(np.isfinite(s), s, 0.0), uncertainty)
+    iav = float(uncertainty.interannual_speed)
+    out = {}
+    for name, n in (("life", max(float(life_years), 1.0)), ("one_year", 1.0), ("mean", np.inf)):
+        with np.errstate(invalid="ignore"):
+            sig = np.sqrt(base ** 2 + (np.where(np.isfinite(s), s, 0.0) * iav) ** 2 / n)
+        sig = np.where(np.isfinite(s), sig, np.inf)
+        for lv in (75, 90):
+            out[f"p{lv}_{name}"] = p50 * np.exp(-exceedance_z(lv) * sig)
+        if name == "one_year":
+            out["sigma_one_year"] = sig
+    del out["p75_mean"]
+    return out
 
 
 @dataclass(frozen=True)
@@ -134,7 +216,7 @@ class MonteCarloResult:
 
 
 def monte_carlo_p_values(setup, net_fraction, uncertainty, n_samples=20000, seed=20261201,
-                         levels=LEVELS) -> MonteCarloResult:
+                         levels=LEVELS, years=None) -> MonteCarloResult:
     """Seeded Monte Carlo check of :func:`p_values` through the full method of bins.
 
     Parameters
@@ -144,6 +226,8 @@ def monte_carlo_p_values(setup, net_fraction, uncertainty, n_samples=20000, seed
     uncertainty : :class:`engine.core.model.Uncertainty`
     n_samples : number of samples N
     seed : seed of ``numpy.random.default_rng``
+    years : None for the long-term mean; n for the average of n years, which adds
+        ε_IAV ~ N(0, σ_IAV²/n) to every sample's speed error
 
     Notes
     -----
@@ -156,6 +240,9 @@ def monte_carlo_p_values(setup, net_fraction, uncertainty, n_samples=20000, seed
     sv = combined_speed_uncertainty(uncertainty)
     eps_v = rng.normal(0.0, sv, n_samples)
     eps_pc = rng.normal(0.0, float(uncertainty.energy_power_curve), n_samples)
+    if years is not None:
+        eps_v = eps_v + rng.normal(0.0, float(uncertainty.interannual_speed)
+                                   / np.sqrt(float(years)), n_samples)
     e = setup.energy_wh(np.exp(eps_v)) * net_fraction  # (N, P, T)
     e = e * np.exp(eps_pc)[:, None, None]
     srt = np.sort(e, axis=0)

@@ -80,6 +80,21 @@ def free_stream_at_hub(assessment, hub_height_m):
     return free_stream_weibull(assessment.climate, assessment.site, hub_height_m, settings)
 
 
+def ambient_turbulence_intensity(assessment, hub_height_m):
+    """Turbulence intensity of the undisturbed flow at each hub height [-], (P,).
+
+    On the same terrain as the speed transfer (:func:`engine.flow.transfer.site_roughness`:
+    the site's z0 and d, or Macdonald's from the morphometry) and the same in-canopy profile
+    (:func:`engine.flow.profiles.turbulence_intensity_terrain`).
+    """
+    from engine.core.model import TransferSettings
+    from engine.flow.transfer import site_canopy, site_roughness
+    settings = getattr(assessment, "transfer", None) or TransferSettings()
+    z0, d, _ = site_roughness(assessment.site, settings)
+    return profiles.turbulence_intensity_terrain(np.asarray(hub_height_m, float), z0, d,
+                                                 **site_canopy(assessment.site, settings))
+
+
 def effective_climate(assessment, air_density_kgm3: float,
                       calibrate_with_spot_readings: bool = True) -> EffectiveClimate:
     """Effective climate of every position: free stream at hub height, then building effects.
@@ -102,8 +117,9 @@ def effective_climate(assessment, air_density_kgm3: float,
     of their own block (:mod:`engine.flow.roofzones`); gap positions the passage concentrator with
     spillage (:mod:`engine.flow.gaps`); every position the wake of the other upwind blocks
     (:mod:`engine.flow.shelter`; a position's own roof and its passage's walls are left out).
-    Turbulence: roof and passage keep the ambient σ_u through modest speed changes; each model
-    adds its own turbulence in quadrature (see the modules).
+    Turbulence: the ambient intensity on the transfer's own terrain
+    (:func:`ambient_turbulence_intensity`); roof and passage keep the ambient σ_u through
+    modest speed changes; each model adds its own turbulence in quadrature (see the modules).
 
     **Main energy sectors** (:func:`engine.flow.roofzones.main_energy_sectors`): per position, the
     fewest sectors, largest first, carrying 80 % of the undisturbed wind energy at hub height
@@ -131,7 +147,8 @@ def effective_climate(assessment, air_density_kgm3: float,
     above the roof surface of the high-turbulence zone's top at the position), clearances
     ``clearance_recirculation_m``, ``clearance_turbulence_m``, ``clearance_wake_m``,
     ``roof_scaling_length_m``, ``shelter_speed_factor``, ``gap_wall_force_per_q_m2``,
-    ``spot_calibrated``. With spot readings, ``spot_readings`` holds the comparison of
+    ``spot_calibrated``, ``no_turbulence_credit`` (hub in a roof recirculation bubble or a
+    wake cavity in that sector: the energy model caps the curve at the published one). With spot readings, ``spot_readings`` holds the comparison of
     :func:`engine.flow.spot.spot_comparison` as a dict of columns, and (P,) ``spot_measured_speedup``,
     ``spot_speedup_ci_low``, ``spot_speedup_ci_high``, ``spot_model_speedup``.
     """
@@ -140,9 +157,7 @@ def effective_climate(assessment, air_density_kgm3: float,
     k, free_c = free_stream_at_hub(assessment, hub)
     P, S = free_c.shape
     freq = np.broadcast_to(np.asarray(assessment.climate.frequency, float), (P, S)).copy()
-    site = assessment.site
-    ti0 = np.broadcast_to(profiles.turbulence_intensity_terrain(
-        hub, site.terrain_roughness_m, site.displacement_m)[:, None], (P, S)).copy()
+    ti0 = np.broadcast_to(ambient_turbulence_intensity(assessment, hub)[:, None], (P, S)).copy()
     sector_deg = np.asarray(assessment.climate.sector_deg, float)
     fx = _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0)
     eff = EffectiveClimate(
@@ -389,6 +404,8 @@ def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
     in_cavity_ps = sh["in_wake_recirculation"]
 
     in_rec = ((in_rec_ps | in_cavity_ps) & main).any(axis=1)
+    # A rotor in recirculating flow gets no credit from turbulence in those sectors.
+    diag["no_turbulence_credit"] = in_rec_ps | in_cavity_ps
     in_turb = (in_turb_ps & main).any(axis=1)
     in_wake = (in_wake_ps & main).any(axis=1)
     shelter_mean = np.sum(share * sh["speed_factor"], axis=1)

@@ -111,10 +111,17 @@ def spot_comparison(assessment, eff) -> pd.DataFrame:
     S = len(eff.sector_deg)
     si = sector_index([s.direction_deg for s in readings], S)
     clim, site = assessment.climate, assessment.site
+    # The same terrain and profile as the model's transfer (engine.flow.transfer).
+    from engine.core.model import TransferSettings
+    from engine.flow.transfer import site_canopy, site_roughness
+    settings = getattr(assessment, "transfer", None) or TransferSettings()
+    z0, d, _ = site_roughness(site, settings)
+    canopy = site_canopy(site, settings)
     transfer = profiles.transfer_speed_ratio(
-        eff.hub_height_m[pi], site.terrain_roughness_m,
+        eff.hub_height_m[pi], z0,
         np.array([s.reference_height_m for s in readings], float), clim.roughness_m,
-        site.displacement_m, clim.displacement_m)
+        d, clim.displacement_m, attenuation_to=canopy["attenuation"],
+        canopy_height_to_m=canopy["canopy_height_m"])
     return pd.DataFrame({
         "position_id": [s.position_id for s in readings],
         "direction_deg": [float(s.direction_deg) for s in readings],

@@ -208,10 +208,24 @@ def free_stream_weibull(climate, site, hub_height_m, settings):
     :func:`weibull_at_hub`.
     """
     z0, d, _ = site_roughness(site, settings)
-    return weibull_at_hub(climate, z0, d, hub_height_m, settings)
+    return weibull_at_hub(climate, z0, d, hub_height_m, settings, site.frontal_area_fraction,
+                          site.mean_building_height_m)
 
 
-def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings):
+def site_canopy(site, settings) -> dict:
+    """The site's in-canopy profile: ``attenuation`` (a_t, a_c) and ``canopy_height_m``.
+
+    :func:`engine.flow.profiles.canopy_attenuation` on the z0 and d of :func:`site_roughness` (the
+    same terrain as the speed transfer), the site's frontal area fraction and mean building
+    height when given.
+    """
+    z0, d, _ = site_roughness(site, settings)
+    return {"attenuation": profiles.canopy_attenuation(z0, d, site.frontal_area_fraction),
+            "canopy_height_m": site.mean_building_height_m}
+
+
+def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings,
+                   frontal_area_fraction=None, canopy_height_m=None):
     """Undisturbed per-sector Weibull (k, c) at hub heights over given terrain, each (P, S).
 
     Parameters
@@ -221,18 +235,25 @@ def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings)
         position, e.g. per building of a screened table)
     hub_height_m : (P,) hub heights above ground [m]
     settings : :class:`engine.core.model.TransferSettings`
+    frontal_area_fraction : λf of that terrain [-], scalar or (P,), for the in-canopy
+        attenuation (:func:`engine.flow.profiles.canopy_attenuation`); None when unknown
+    canopy_height_m : mean height of the surrounding buildings [m], scalar or (P,); None
+        when unknown (then only the log law's continuation below z_t)
 
     Notes
     -----
     c = c_ref · ratio, the ratio by the log law (:func:`engine.flow.profiles.transfer_speed_ratio`)
     or the power law (:func:`speed_ratio_power_law`). Heights for the shape adjustment are
     heights above the displacement plane, held at 1 m at least (the Justus–Mikhail fit is for
-    open-terrain towers). Below z_min above the displacement plane the profile is held at its
-    z_min value (EN 1991-1-4 §4.3.2).
+    open-terrain towers). Below z_t = d + z_min, where EN 1991-1-4 §4.3.2 holds the profile
+    for loads, the mean speed follows the in-canopy exponential profile
+    (:func:`engine.flow.profiles.canopy_factor`, Macdonald 2000) on both sides of the transfer, so
+    it keeps falling towards the ground.
     """
     hub = np.atleast_1d(np.asarray(hub_height_m, float))
     z0 = np.asarray(roughness_m, float)
     d = np.asarray(displacement_m, float)
+    attenuation = profiles.canopy_attenuation(z0, d, frontal_area_fraction)
     if settings.method == "power_law":
         # Like EN 1991-1-4, hold the profile at its value at z_min above the displacement plane.
         z_to = np.maximum(hub - d, profiles.minimum_height_m(z0))
@@ -240,9 +261,13 @@ def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings)
                      float(profiles.minimum_height_m(climate.roughness_m)))
         ratio = speed_ratio_power_law(z_to, z_from, z0, climate.roughness_m,
                                       settings.power_law_exponent)
+        ratio = ratio * profiles.canopy_factor(hub, z0, d, attenuation, canopy_height_m) / \
+            profiles.canopy_factor(climate.height_m, climate.roughness_m, climate.displacement_m)
     else:
         ratio = profiles.transfer_speed_ratio(hub, z0, climate.height_m, climate.roughness_m,
-                                              d, climate.displacement_m)
+                                              d, climate.displacement_m,
+                                              attenuation_to=attenuation,
+                                              canopy_height_to_m=canopy_height_m)
     ratio = np.broadcast_to(np.asarray(ratio, float), hub.shape)
     c = np.asarray(climate.weibull_c_ms, float)[None, :] * ratio[:, None]
     k_ref = np.asarray(climate.weibull_k, float)

@@ -294,3 +294,20 @@ def test_power_curve_file_replaces_the_curve():
     t = at.session_state["valid"].turbines[0]
     assert t.curve_speed_ms == (3.0, 5.0, 8.0, 11.0, 25.0)
     assert t.curve_power_w == pytest.approx((30.0, 150.0, 620.0, 1500.0, 1500.0))  # SI prefix
+
+
+def test_results_label_one_year_and_life_p90_and_turbulence_effect(demo_eval):
+    """The results name a single-year P90 and a project-life P90 apart, and show what
+    turbulence did to the energy (± %), from the engine's own columns."""
+    at = _go(_app(), "steps/step_results.py")
+    labels = [m.label for m in at.metric]
+    assert any("single year" in lab for lab in labels)
+    assert any(lab.startswith("P90 over") and "life" in lab for lab in labels)
+    assert any("Turbulence effect" in lab for lab in labels)
+    shown = at.table[0].value
+    best = demo_eval.table.iloc[0]
+    life_col = [c for c in shown.columns if c.startswith("P90, average year over")]
+    assert life_col and "P90, a single year (kWh/yr)" in shown.columns
+    assert float(shown["P90, a single year (kWh/yr)"].iloc[0].replace(",", "")) == \
+        pytest.approx(best["p90_one_year_aep_kwh"], abs=0.5)
+    assert shown["turbulence effect"].iloc[0][0] in "+−"

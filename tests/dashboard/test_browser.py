@@ -207,3 +207,23 @@ def test_clicking_a_position_on_the_plan_shows_its_detail(page, dashboard_url):
     idle(page)
     expect(detail).to_have_value("yard-mast")
     shot(page, "browser-10-plan-click")
+
+
+def test_results_show_the_two_p90s_and_the_turbulence_effect(page, dashboard_url):
+    """A person sees a single-year P90 and a project-life P90 named apart, and what
+    turbulence did to the energy of the position in detail (± %)."""
+    from playwright.sync_api import expect
+
+    page.goto(dashboard_url)
+    idle(page)
+    page.get_by_role("link", name=re.compile("^5. Results")).click()
+    idle(page)
+    expect(page.get_by_text("P90, a single year", exact=True).first).to_be_visible()
+    expect(page.get_by_text("Turbulence effect", exact=True)).to_be_visible()
+    expect(page.get_by_text(re.compile(r"^P90 over \d+-year life$"))).to_be_visible()
+    expect(page.get_by_text(re.compile(r"^P90, average year over \d+ years \(kWh/yr\)$")).first
+           ).to_be_visible()
+    value = page.locator('[data-testid="stMetric"]', has_text="Turbulence effect")
+    expect(value.locator('[data-testid="stMetricValue"]')).to_have_text(
+        re.compile(r"^[+\u2212]\d+\.\d %$"))
+    shot(page, "browser-11-p90-and-turbulence")

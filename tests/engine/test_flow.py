@@ -189,3 +189,33 @@ def test_typical_urban_roof_not_far_above_field_trial_capacity_factors():
     ev = pipeline.evaluate(_assessment([house], pos, _climate(12, 5.6, 2.0), site))
     cf = float(ev.table["capacity_factor"].iloc[0])
     assert 0.0 < cf < 0.10
+
+
+def test_ambient_ti_uses_the_transfers_terrain_with_morphometry():
+    """With use_morphometry the ambient TI is on Macdonald's z0 and d, as the speed is.
+
+    Macdonald, Griffiths & Hall (1998) z0 and d from λp 0.32, λf 0.17, H 10 m; TI by
+    EN 1991-1-4 eq. 4.7 on that terrain (with the same in-canopy profile below d + z_min).
+    """
+    import dataclasses
+
+    from engine.flow import effective as flow
+    from engine.flow import profiles
+    from engine.io import sitefile
+    from engine.flow import transfer
+    from engine.core.model import TransferSettings
+    from pathlib import Path
+    a = sitefile.load(Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json")
+    site = dataclasses.replace(a.site, plan_area_fraction=0.32, frontal_area_fraction=0.17,
+                               mean_building_height_m=10.0)
+    a = dataclasses.replace(a, site=site, transfer=TransferSettings(use_morphometry=True))
+    z0, d = transfer.macdonald_roughness(0.32, 0.17, 10.0)
+    hub = np.array([20.0, 30.0])
+    got = flow.ambient_turbulence_intensity(a, hub)
+    want = profiles.turbulence_intensity_terrain(
+        hub, z0, d, attenuation=profiles.canopy_attenuation(z0, d, 0.17), canopy_height_m=10.0)
+    np.testing.assert_allclose(got, want, rtol=1e-12)
+    # ... and not on the site's own terrain_roughness_m (the old inconsistency).
+    other = profiles.turbulence_intensity_terrain(hub, site.terrain_roughness_m,
+                                                  site.displacement_m)
+    assert not np.allclose(got, other)

@@ -73,3 +73,47 @@ def test_profiles_monotone_in_height():
     z = np.linspace(1, 200, 50)
     r = profiles.transfer_speed_ratio(z, 0.3, 10.0, 0.05)
     assert np.all(np.diff(r) >= 0) and np.all(r > 0)
+
+
+def test_canopy_speed_falls_towards_the_ground_below_z_min():
+    """Over z0 0.3 m (EN 1991-1-4 category III, z_min 5 m): U(3 m) < U(7 m) < U(12 m), and
+    U(3 m) below the z_min-held value, which EN 1991-1-4 §4.3.2 keeps for loads only.
+
+    The in-canopy profile continues the log law below d + z_min (Macdonald 2000, from
+    memory; the slope matching is derived).
+    """
+    z = np.array([3.0, 7.0, 12.0])
+    u = profiles.mean_speed_factor(z, 0.3)
+    assert u[0] < u[1] < u[2]
+    held = profiles.roughness_factor(3.0, 0.3)
+    assert u[0] < held
+    assert held == pytest.approx(profiles.roughness_factor(5.0, 0.3))  # EN 1991-1-4 hold
+    # Above z_min the log law is untouched: c_r(12 m) = k_r ln(12/0.3) (EN 1991-1-4 eq. 4.4).
+    assert u[2] == pytest.approx(0.19 * (0.3 / 0.05) ** 0.07 * np.log(12.0 / 0.3), rel=1e-12)
+    # Monotone all the way down, and continuous at z_min.
+    zz = np.linspace(0.5, 20.0, 400)
+    assert np.all(np.diff(profiles.mean_speed_factor(zz, 0.3)) > 0)
+    assert profiles.mean_speed_factor(5.0 - 1e-9, 0.3) == pytest.approx(
+        profiles.roughness_factor(5.0, 0.3), rel=1e-8)
+
+
+def test_macdonald_canopy_exponential_below_the_buildings():
+    """Below the mean building height U = U(H) exp[a (z/H − 1)], a = 9.6 λf (Macdonald 2000,
+    from memory)."""
+    z0, d, lf, h = 0.7, 4.0, 0.2, 6.0
+    att = profiles.canopy_attenuation(z0, d, lf)
+    assert att[1] == pytest.approx(9.6 * lf)
+    u_h = profiles.mean_speed_factor(h, z0, d, att, h)
+    u_3 = profiles.mean_speed_factor(3.0, z0, d, att, h)
+    assert u_3 / u_h == pytest.approx(np.exp(9.6 * lf * (3.0 / h - 1.0)), rel=1e-12)
+
+
+def test_canopy_turbulence_follows_the_same_profile():
+    """Below z_t σ_u keeps its value, so I × U is constant down the canopy (same profile)."""
+    z = np.array([2.0, 3.0, 4.0, 5.0])
+    ti = profiles.turbulence_intensity_terrain(z, 0.3)
+    u = profiles.mean_speed_factor(z, 0.3)
+    np.testing.assert_allclose(ti * u, ti[-1] * u[-1], rtol=1e-12)
+    assert np.all(np.diff(ti) < 0)
+    # EN 1991-1-4 eq. 4.7 above z_min: I_v = 1 / ln(z/z0).
+    assert profiles.turbulence_intensity_terrain(12.0, 0.3) == pytest.approx(1 / np.log(40.0))

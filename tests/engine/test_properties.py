@@ -248,7 +248,9 @@ def _continuity_bound(a, pos):
 #: Results that must always be finite numbers (energy, speeds, heights).
 FINITE_COLUMNS = ("hub_height_m", "mean_speed_ms", "gross_aep_kwh", "aep_kwh",
                   "capacity_factor", "rated_power_kw", "speedup", "turbulence_intensity",
-                  "p50_aep_kwh", "p75_aep_kwh", "p90_aep_kwh", "full_load_hours")
+                  "p50_aep_kwh", "p75_aep_kwh", "p90_aep_kwh", "full_load_hours",
+                  "p90_life_aep_kwh", "p90_one_year_aep_kwh", "p75_one_year_aep_kwh",
+                  "aep_bins_kwh", "turbulence_effect")
 
 
 #: Results that may be infinite ("never") but never NaN.
@@ -290,6 +292,14 @@ def check_chain_bounds(a):
     cap_kw = np.array([max(turb[i].curve_power_w) / 1000.0 for i in t["turbine_id"]])
     assert (gross <= cap_kw * HOURS_PER_YEAR * (1 + 1e-9) + 1e-9).all()
     assert (gross <= rated_kw * HOURS_PER_YEAR * (1 + 1e-9) + 1e-9).all()
+    # One distribution for every level: P50 >= P75 >= P90 >= 0, and a single year's P90
+    # never above the project life's (uncertainty adds in quadrature; IEC 61400-12-1).
+    p50, p75, p90 = (t[f"p{lv}_aep_kwh"].to_numpy() for lv in (50, 75, 90))
+    p90_1y, p75_1y = t["p90_one_year_aep_kwh"].to_numpy(), t["p75_one_year_aep_kwh"].to_numpy()
+    tol = 1e-9 * (1.0 + p50)
+    assert (p50 >= p75 - tol).all() and (p75 >= p90 - tol).all() and (p90 >= 0).all(), \
+        "exceedance levels out of order"
+    assert (p90 >= p90_1y - tol).all() and (p75_1y >= p90_1y - tol).all() and (p90_1y >= 0).all()
     cf = t["capacity_factor"].to_numpy()
     assert ((cf >= 0) & (cf <= 1 + 1e-12)).all(), "capacity factor outside [0, 1]"
     assert (t["mean_speed_ms"].to_numpy() >= 0).all()

@@ -171,7 +171,7 @@ def test_ranking_numbers_match_rank_json(demo, rank_json_text):
                    if isinstance(b, report.Paragraph))
     assert f"{first['turbine_id']} at {first['position_id']} (rank {first['rank']})" in rec
     assert f"{first['aep_kwh']:.0f} kWh" in rec
-    assert set(header) >= {"P50 energy (kWh/yr)", "P90 energy (kWh/yr)", "Capacity factor"}
+    assert set(header) >= {"P50 energy (kWh/yr)", "P90 energy, life average (kWh/yr)", "Capacity factor"}
 
 
 def test_pdf_ranking_rows_match_rank_json(demo, rank_json_text, tmp_path):

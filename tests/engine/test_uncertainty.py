@@ -81,3 +81,52 @@ def test_monte_carlo_is_reproducible():
     a = uncertainty.monte_carlo_p_values(s, 1.0, model.Uncertainty(), n_samples=2000, seed=3)
     b = uncertainty.monte_carlo_p_values(s, 1.0, model.Uncertainty(), n_samples=2000, seed=3)
     assert a.values[90] == pytest.approx(b.values[90], rel=0, abs=0)
+
+
+def test_one_distribution_orders_the_levels_even_where_energy_vanishes():
+    """P50 ≥ P75 ≥ P90 ≥ 0 by construction, also where the P90 speed gives no energy.
+
+    A climate barely above cut-in with large speed uncertainty: the energy at the P90 speed
+    is 0, so every level below P50 is 0 (one log-normal; previously P75 could fall below P90).
+    """
+    s = setup_one(c=1.2, k=3.0, ti=0.0)
+    u = model.Uncertainty(0.3, 0.3, 0.3, 0.5, 0.1)
+    e0 = s.energy_wh(1.0)
+    pv = uncertainty.analytic_p_values(s, 1.0, u)
+    assert np.all(pv[50] >= pv[75]) and np.all(pv[75] >= pv[90]) and np.all(pv[90] >= 0)
+    table = uncertainty.exceedance_table(s, e0, u, 20)
+    for key in ("p75_life", "p90_life", "p75_one_year", "p90_one_year"):
+        assert np.all(np.isfinite(table[key])) and np.all(table[key] >= 0)
+
+
+def test_one_year_p90_adds_interannual_variability():
+    """σ² = σ_mean² + (s σ_IAV)²/n: one year n = 1, project life n = 20 (hand values).
+
+    Inter-annual σ of the annual mean speed 6 % (common practice, from memory).
+    """
+    s = setup_one()
+    u = model.Uncertainty(0.03, 0.04, 0.0, 0.0, 0.08, interannual_speed=0.06)
+    e0 = s.energy_wh(1.0)
+    table = uncertainty.exceedance_table(s, e0, u, 20)
+    sens = uncertainty.distribution_sensitivity(s, u, e0)
+    base2 = (sens * 0.05) ** 2 + 0.08 ** 2
+    z90 = norm.ppf(0.9)
+    np.testing.assert_allclose(table["p90_one_year"],
+                               e0 * np.exp(-z90 * np.sqrt(base2 + (sens * 0.06) ** 2)))
+    np.testing.assert_allclose(table["p90_life"],
+                               e0 * np.exp(-z90 * np.sqrt(base2 + (sens * 0.06) ** 2 / 20)))
+    assert np.all(table["p90_one_year"] < table["p90_life"])
+    assert np.all(table["p90_life"] < table["p90_mean"])
+    assert np.all(table["p75_one_year"] > table["p90_one_year"])
+
+
+def test_one_year_p90_agrees_with_monte_carlo():
+    """Seeded Monte Carlo with a one-year speed draw agrees with the analytic one-year P90."""
+    s = setup_one(c=5.0)
+    u = model.Uncertainty(0.03, 0.04, 0.06, 0.12, 0.08, interannual_speed=0.06)
+    e0 = s.energy_wh(1.0)
+    table = uncertainty.exceedance_table(s, e0 * 0.9, u, 20, gross_wh=e0)
+    mc = uncertainty.monte_carlo_p_values(s, 0.9, u, n_samples=20000, seed=11, years=1)
+    # The one log-normal uses the P90 secant for every level: exact at P90, cautious at P75.
+    assert abs(table["p90_one_year"][0, 0] - mc.values[90][0, 0]) < 3 * mc.standard_error[90][0, 0]
+    assert table["p75_one_year"][0, 0] <= mc.values[75][0, 0] + 3 * mc.standard_error[75][0, 0]
