@@ -67,7 +67,7 @@ def peak_rss_mb() -> float:
 
 
 def _context():
-    from engine.screening import core as screening
+    from engine import screening
     from engine.io import sitefile
     return screening.context_from_assessment(sitefile.load(ROOT / "demo_sites" / "larkspur_yard.json"))
 
@@ -93,7 +93,7 @@ def child_local(path: str, before: bool = False, library: bool = False) -> None:
     import pandas as pd
 
     from engine.energy import aep as energy
-    from engine.screening import core as screening
+    from engine import screening
     if before:
         energy.prepare_bins = lambda f, k, c, ti, skew, turbs, rho: _BeforeSetup(
             f, k, c, ti, skew, turbs, rho)
@@ -168,7 +168,7 @@ def run_dask(paths: dict) -> dict:
     (results gathered to this process, partition by partition)."""
     from distributed import Client
 
-    from engine.screening import core as screening
+    from engine import screening
     ctx = _context()
     results = {}
     with _cluster() as cluster, Client(cluster) as client:
@@ -197,7 +197,7 @@ def child_beyond(path: str, memory_limit: int, n_workers: int) -> None:
     partitions; this (fresh) process merges them into the ranked CSV. Prints one JSON line."""
     from distributed import Client
 
-    from engine.screening import core as screening
+    from engine import screening
     ctx1 = _one_turbine_context()
     out = Path(path).with_suffix(".out.csv")
     with _cluster(memory_limit, n_workers) as cluster, Client(cluster) as client:
@@ -220,7 +220,7 @@ def run_beyond(n: int, tmp: Path, memory_limit=BEYOND_WORKER_LIMIT, n_workers=2)
     import pandas as pd
 
     import make_district
-    from engine.screening import core as screening
+    from engine import screening
     ctx1 = _one_turbine_context()
     path = make_district.write_district(n, tmp / f"district_{n}.csv")
     sample_rows = pd.read_csv(path, nrows=20_000)

@@ -16,6 +16,7 @@ from engine.energy import aep as energy
 from engine.flow import effective as flow
 from engine.energy import loads
 from engine.energy import noise
+from engine.chain import arrays
 from engine.chain import ranking
 from engine.energy import uncertainty
 from engine.climate.weibull import mixture_mean_ms
@@ -42,16 +43,16 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     turbines = assessment.turbines
     P, T = eff.n_positions, len(turbines)
     rho = eff.air_density_kgm3
-    y = energy.yield_arrays(eff.frequency, eff.weibull_k, eff.weibull_c_ms,
-                            eff.turbulence_intensity, eff.inflow_skew_deg, turbines, rho,
-                            assessment.losses)
+    # The yield step the screening shares (engine.chain.arrays): energy, mean speed, TI.
+    at_hub = arrays.position_yields(eff, turbines, assessment.losses)
+    y = at_hub.yields
     rated_w = y.rated_power_w
     gross_kwh = y.gross_wh / 1000.0
     net_kwh = y.net_wh / 1000.0
     pv = uncertainty.analytic_p_values(y.setup, energy.net_fraction(assessment.losses),
                                        assessment.uncertainty, y.speed_sensitivity,
                                        gross_wh=y.gross_wh)
-    mean_ms = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.weibull_c_ms)  # (P,)
+    mean_ms = at_hub.mean_speed_ms  # (P,)
     pos = assessment.positions
     mast = np.array([float(p.mast_height_m) for p in pos])
     ld = loads.turbine_loads(turbines, mast, rho)
@@ -83,8 +84,7 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
                  ("thrust_rated_n", "thrust_extreme_n", "mast_base_moment_nm")})
     free_mean = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.free_c_ms)
     rows["speedup"] = np.repeat(mean_ms / free_mean, T)
-    rows["turbulence_intensity"] = np.repeat(
-        np.sum(eff.frequency * eff.turbulence_intensity, axis=-1), T)
+    rows["turbulence_intensity"] = np.repeat(at_hub.turbulence_intensity, T)
     # Per-position diagnostics of the building models become columns (shape (P,) only).
     for name, arr in eff.diagnostics.items():
         arr = np.asarray(arr)

@@ -1,7 +1,7 @@
 """``python -m engine screen BUILDINGS --out ranked.csv``: screen a portfolio of buildings.
 
-Runs :func:`engine.screening.core.screen_local` (pandas/numpy, the default) or, with ``--workers N``
-or ``--scheduler ADDRESS``, :func:`engine.screening.core.screen_dask` (identical results), which
+Runs :func:`engine.screening.screen_local` (pandas/numpy, the default) or, with ``--workers N``
+or ``--scheduler ADDRESS``, :func:`engine.screening.screen_dask` (identical results), which
 streams ``--out``: the workers sort and spill their partitions next to it and this process
 merges them in bounded blocks (:mod:`engine.screening.merge`), so the table never has to fit
 in one process's memory. Bad rows are listed on stderr by line and id with the fix; the good
@@ -16,7 +16,7 @@ import time
 from pathlib import Path
 
 from engine.core import model
-from engine.screening import core as screening
+from engine import screening
 from engine.io import sitefile
 from engine.core.errors import InputError, Problems
 

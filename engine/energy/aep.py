@@ -777,13 +777,15 @@ def energy_and_sensitivity(setup: BinsSetup, hours=HOURS_PER_YEAR):
 
 def yield_arrays(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflow_skew_deg,
                  turbines, air_density_kgm3, losses, edges_ms=DEFAULT_EDGES_MS,
-                 turbulence=True, reference_ti=0.0, sensitivity_step=0.0):
+                 turbulence=True, reference_ti=0.0, sensitivity_step=0.0,
+                 with_sensitivity=True):
     """Gross and net yield with every correction, and the speed sensitivity, arrays (P, T).
 
     Parameters are those of :func:`prepare_bins`, plus ``losses``
     (:class:`engine.core.model.Losses`) and ``sensitivity_step``: 0 takes the slope of the bins
     sum (:func:`energy_and_sensitivity`), a step h > 0 the central difference
-    (:func:`speed_sensitivity`).
+    (:func:`speed_sensitivity`). ``with_sensitivity=False`` leaves the sensitivity out (NaN),
+    which halves the cost of the bins sums (the portfolio screening's choice).
 
     Notes
     -----
@@ -793,7 +795,10 @@ def yield_arrays(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     setup = prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity,
                          inflow_skew_deg, turbines, air_density_kgm3, edges_ms, turbulence,
                          reference_ti)
-    if sensitivity_step:
+    if not with_sensitivity:
+        gross = setup.energy_wh(1.0)
+        sens = np.full_like(gross, np.nan)
+    elif sensitivity_step:
         gross, sens = setup.energy_wh(1.0), speed_sensitivity(setup, sensitivity_step)
     else:
         gross, sens = energy_and_sensitivity(setup)

@@ -6,6 +6,7 @@ import pandas as pd
 
 #: First characters a spreadsheet would run as a formula.
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "\n")
+FORMULA_START = _FORMULA_START
 
 
 def neutralise_cell(value):

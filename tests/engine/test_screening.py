@@ -14,7 +14,8 @@ from scipy import integrate
 from engine import cli
 from engine.core import model
 from engine.chain import pipeline
-from engine.screening import core as screening
+from engine import screening
+from engine.report import screening_charts
 from engine.io import sitefile
 from engine.core.errors import InputError
 
@@ -155,12 +156,13 @@ def test_neighbourhood_matches_brute_force_and_any_split():
     parts = [screening.cell_sums(*(d[c].iloc[a:b] for c in ("x_m", "y_m", "length_m", "width_m",
                                                                 "height_m")))
              for a, b in ((0, 1000), (1000, 1001), (1001, 3000))]
-    old = screening.MAX_BAND_CELLS
+    from engine.screening import neighbourhood
+    old = neighbourhood.MAX_BAND_CELLS
     try:
-        screening.MAX_BAND_CELLS = 400  # force many bands
+        neighbourhood.MAX_BAND_CELLS = 400  # force many bands
         nb2 = screening.neighbourhood_lookup(screening.combine_cell_sums(parts))
     finally:
-        screening.MAX_BAND_CELLS = old
+        neighbourhood.MAX_BAND_CELLS = old
     assert all(np.array_equal(a, b) for a, b in zip(nb2.at(d.x_m, d.y_m), (lp, lf, hm)))
 
 
@@ -345,9 +347,9 @@ def test_local_and_dask_identical_on_ten_thousand(ctx, dask_client, tmp_path):
 def test_plan_chart_colours_by_class_and_thins_lower_classes(sample_result):
     """The plan chart colours points by class and keeps every point of the two best classes."""
     table = sample_result.table
-    spec = screening.plan_scatter_chart(table).to_dict()
+    spec = screening_charts.plan_scatter_chart(table).to_dict()
     assert spec["encoding"]["color"]["scale"]["domain"] == list(screening.CLASSES)
-    pts = screening.plan_points(table, max_points=300)
+    pts = screening_charts.plan_points(table, max_points=300)
     assert len(pts) == min(300, len(table))
     n_top = int((table["suitability_code"] <= 1).sum())
     assert int((pts["suitability_code"] <= 1).sum()) == min(n_top, 300)

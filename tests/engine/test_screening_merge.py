@@ -9,7 +9,7 @@ import pandas as pd
 import pytest
 
 from engine import cli
-from engine.screening import core as screening
+from engine import screening
 from engine.screening import merge as sm
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -166,7 +166,7 @@ def test_failed_merge_leaves_previous_file(tmp_path):
 
 def test_no_rows_gives_header_only(tmp_path, ctx):
     """Parts with no rows merge to the header line alone, like the in-memory writer."""
-    empty = screening._empty_result(ctx)
+    empty = screening.empty_result(ctx)
     paths = spill(empty, [0, 0, 0], tmp_path)
     out, expected = tmp_path / "r.csv", tmp_path / "e.csv"
     got = sm.merge_sorted_parts(paths, out, columns=screening.result_columns(ctx.turbines))
