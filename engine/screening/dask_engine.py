@@ -24,11 +24,12 @@ from engine.screening.compute import empty_result, rank_results, result_columns,
 from engine.screening.merge import block_rows_for, merge_sorted_parts, spill_dir
 from engine.screening.neighbourhood import (combine_anchors, combine_cell_sums,
                                             neighbourhood_lookup)
-from engine.screening.passes import (ScreeningResult, bad_rows_frame, cells_and_ids,
-                                     check_header, duplicate_lines, finish_table, part_facts,
-                                     read_check, spill_sorted)
+from engine.screening.passes import (OutputWriteError, ScreeningResult, bad_rows_frame,
+                                     cells_and_ids, check_header, duplicate_lines, finish_table,
+                                     part_facts, read_check, spill_sorted)
 from engine.screening.settings import ScreeningContext
-from engine.screening.table import PART_BYTES, PART_ROWS, read_part, table_parts
+from engine.screening import table as table_layout
+from engine.screening.table import read_part, table_parts
 
 
 class _Run:
@@ -132,12 +133,15 @@ def _stream(results, out_csv: Path, turbines) -> pd.DataFrame:
                                              "Dask workers are not visible here; the workers "
                                              "must share this file system (or use --workers N "
                                              "for a local cluster)")])
-        return merge_sorted_parts(paths, out_csv, columns=result_columns(turbines),
-                                  block_rows=block, head_rows=1000).head
+        try:
+            return merge_sorted_parts(paths, out_csv, columns=result_columns(turbines),
+                                      block_rows=block, head_rows=1000).head
+        except OSError as e:
+            raise OutputWriteError(out_csv, e) from None
 
 
-def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BYTES,
-                part_rows: int = PART_ROWS, out_csv=None) -> ScreeningResult:
+def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = None,
+                part_rows: int = None, out_csv=None) -> ScreeningResult:
     """Screen a buildings table as Dask partitions on ``client``'s cluster.
 
     Parameters
@@ -159,7 +163,8 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = PART_BY
     """
     import dask
 
-    parts = table_parts(source, part_bytes, part_rows)
+    parts = table_parts(source, table_layout.PART_BYTES if part_bytes is None else part_bytes,
+                        table_layout.PART_ROWS if part_rows is None else part_rows)
     check_header(parts)
     run = _Run(client, parts, ctx.zones(), hold=out_csv is None)
     with dask.config.set({"dataframe.convert-string": False}):

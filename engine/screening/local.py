@@ -28,15 +28,16 @@ from engine.screening.merge import (block_rows_for, descending_aep_key, merge_so
                                     ranking_order, spill_dir)
 from engine.screening.neighbourhood import (combine_anchors, combine_cell_sums,
                                             neighbourhood_lookup, part_anchor, part_cells)
-from engine.screening.passes import (ScreeningResult, bad_rows_frame, cells_and_ids,
-                                     check_header, duplicate_lines, finish_table,
+from engine.screening.passes import (OutputWriteError, ScreeningResult, bad_rows_frame,
+                                     cells_and_ids, check_header, duplicate_lines, finish_table,
                                      listed_bad_rows, part_facts, read_check, spill_sorted)
 from engine.screening.settings import ScreeningContext
-from engine.screening.table import MAX_LISTED_ROWS, PART_BYTES, PART_ROWS, table_parts
+from engine.screening import table as table_layout
+from engine.screening.table import MAX_LISTED_ROWS, table_parts
 
 
-def screen_local(source, ctx: ScreeningContext, progress=None, part_bytes: int = PART_BYTES,
-                 part_rows: int = PART_ROWS, out_csv=None) -> ScreeningResult:
+def screen_local(source, ctx: ScreeningContext, progress=None, part_bytes: int = None,
+                 part_rows: int = None, out_csv=None) -> ScreeningResult:
     """Screen a buildings table with pandas/numpy in this process.
 
     Parameters
@@ -58,11 +59,17 @@ def screen_local(source, ctx: ScreeningContext, progress=None, part_bytes: int =
         if progress is not None:
             progress(float(f), text)
 
-    parts = table_parts(source, part_bytes, part_rows)
+    parts = table_parts(source, table_layout.PART_BYTES if part_bytes is None else part_bytes,
+                        table_layout.PART_ROWS if part_rows is None else part_rows)
     check_header(parts)
-    if out_csv is not None:
+    if out_csv is None:
+        return _screen_in_memory(parts, ctx, tell)
+    if len(parts) > 1:
         return _screen_streamed(parts, ctx, Path(out_csv), tell)
-    return _screen_in_memory(parts, ctx, tell)
+    # One part: held in memory it is within the same ceiling as one part of a streamed run.
+    res = _screen_in_memory(parts, ctx, tell)
+    write_ranked_csv(res.table, out_csv)
+    return replace(res, table=res.table.iloc[:1000], n_bad=len(res.bad_rows))
 
 
 def _screen_in_memory(parts, ctx: ScreeningContext, tell) -> ScreeningResult:
@@ -138,6 +145,21 @@ def _screen_streamed(parts, ctx: ScreeningContext, out_csv: Path, tell) -> Scree
     n_rows = int(sum(f["n"] for f in facts))
     del facts
     tell(0.3, "surroundings summed")
+    try:
+        head = _spill_and_merge(parts, ctx, nb, rejected, origin, out_csv, tell)
+    except OSError as e:
+        raise OutputWriteError(out_csv, e) from None
+    tell(1.0, "ranked table written")
+    word = "row" if parts and parts[0].kind == "parquet" else "line"
+    return ScreeningResult(table=finish_table(head, ctx.turbines),
+                           problems=row_problems(bad, word, n_bad=n_bad), n_rows=n_rows,
+                           bad_rows=bad, n_bad=n_bad)
+
+
+def _spill_and_merge(parts, ctx, nb, rejected, origin, out_csv: Path, tell) -> pd.DataFrame:
+    """Last pass of a streamed run: screen, sort and spill each part next to ``out_csv``, then
+    merge the sorted files into it; returns the first 1000 ranked rows."""
+    zones = ctx.zones()
     with spill_dir(out_csv) as spill:
         block = block_rows_for(len(parts))
         paths = []
@@ -147,13 +169,8 @@ def _screen_streamed(parts, ctx: ScreeningContext, out_csv: Path, tell) -> Scree
             paths.append(str(spill / f"part-{i:06d}.parquet"))
             del table
             tell(0.3 + 0.6 * (i + 1) / len(parts), f"screened part {i + 1} of {len(parts)}")
-        head = merge_sorted_parts(paths, out_csv, columns=result_columns(ctx.turbines),
+        return merge_sorted_parts(paths, out_csv, columns=result_columns(ctx.turbines),
                                   block_rows=block, head_rows=1000).head
-    tell(1.0, "ranked table written")
-    word = "row" if parts and parts[0].kind == "parquet" else "line"
-    return ScreeningResult(table=finish_table(head, ctx.turbines),
-                           problems=row_problems(bad, word, n_bad=n_bad), n_rows=n_rows,
-                           bad_rows=bad, n_bad=n_bad)
 
 
 def ranked_frame(results: list, ctx: ScreeningContext) -> pd.DataFrame:
@@ -197,10 +214,12 @@ def write_ranked_csv(table: pd.DataFrame, path) -> Path:
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, path)
-    except BaseException:
+    except BaseException as e:
         try:
             os.unlink(tmp)
         except OSError:
             pass
+        if isinstance(e, OSError):
+            raise OutputWriteError(path, e) from None
         raise
     return path

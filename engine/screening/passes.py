@@ -26,6 +26,17 @@ from engine.screening.neighbourhood import part_anchor, part_cells
 from engine.screening.table import MAX_LISTED_ROWS, Part, read_part
 
 
+class OutputWriteError(InputError):
+    """The ranked table (or the sorted parts next to it) could not be written: disk full,
+    permission, a missing folder. Nothing partial is left behind."""
+
+    def __init__(self, path, error: OSError):
+        self.path = str(path)
+        why = getattr(error, "strerror", None) or str(error) or type(error).__name__
+        super().__init__([(self.path, f"cannot be written ({why}); nothing was written: free "
+                                      "space or choose a writable folder")])
+
+
 @dataclass(frozen=True)
 class ScreeningResult:
     """A ranked table (one row per screened building) and the rows that were not screened.

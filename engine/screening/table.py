@@ -7,7 +7,9 @@ row number of its first record, so that problems are reported where the user can
 from __future__ import annotations
 
 import io
+import os
 import re
+import stat
 import warnings
 from dataclasses import dataclass
 from pathlib import Path
@@ -67,10 +69,13 @@ class Part:
 
     kind: str  # "csv", "parquet" or "frame"
     source: object
-    start: int
-    stop: int
+    start: int  # first byte (CSV), row group (Parquet) or row (frame)
+    stop: int   # end byte (CSV), the group's row count (Parquet) or end row (frame)
     first_line: int
     header: tuple = ()
+    #: Parquet: rows of the group to read, [first, end), so a large group is read in bounded
+    #: batches; (0, 0) for the whole group.
+    rows: tuple = (0, 0)
 
 
 def _csv_parts(path: Path, part_bytes: int) -> list:
@@ -105,6 +110,61 @@ def _csv_parts(path: Path, part_bytes: int) -> list:
     return parts
 
 
+def regular_file_or_raise(path: Path, what: str) -> None:
+    """Raise :class:`InputError` unless ``path`` is a regular file (not a folder, device or
+    FIFO, which could block or never end), before anything opens it."""
+    try:
+        st = os.stat(path)
+    except OSError as e:
+        why = "no such file" if isinstance(e, FileNotFoundError) else f"cannot be read: {e.strerror}"
+        raise InputError([(str(path), f"{why}; give the path of {what}")]) from None
+    if not stat.S_ISREG(st.st_mode):
+        kind = ("a folder" if stat.S_ISDIR(st.st_mode) else "a FIFO" if stat.S_ISFIFO(st.st_mode)
+                else "a device or special file")
+        raise InputError([(str(path), f"is {kind}, not a regular file; give the path of "
+                                      f"{what}")])
+
+
+def _parquet_parts(path: Path, part_rows: int) -> list:
+    """Row groups of a Parquet file, each in batches of at most ``part_rows`` rows."""
+    import pyarrow.parquet as pq
+    try:
+        meta = pq.ParquetFile(path).metadata
+    except Exception as e:  # pyarrow raises several types for a damaged file
+        raise InputError([(str(path), f"is not a readable Parquet file ({e})")]) from None
+    parts, row, step = [], 1, max(int(part_rows), 1)
+    for g in range(meta.num_row_groups):
+        n = meta.row_group(g).num_rows
+        if n <= step:
+            parts.append(Part("parquet", str(path), g, n, row))
+        else:
+            parts += [Part("parquet", str(path), g, n, row + a, rows=(a, min(a + step, n)))
+                      for a in range(0, n, step)]
+        row += n
+    return parts
+
+
+def _read_parquet_rows(part: Part) -> pd.DataFrame:
+    """One Parquet part: its whole row group, or rows [a, b) of it read batch by batch (a
+    large group is never held whole)."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    pf = pq.ParquetFile(part.source)
+    a, b = part.rows
+    if (a, b) == (0, 0):
+        return pf.read_row_group(part.start).to_pandas()
+    got, at = [], 0
+    for batch in pf.iter_batches(batch_size=min(b - a, 65_536), row_groups=[part.start]):
+        lo, hi = max(a - at, 0), min(b - at, batch.num_rows)
+        if hi > lo:
+            got.append(batch.slice(lo, hi - lo))
+        at += batch.num_rows
+        if at >= b:
+            break
+    return pa.Table.from_batches(got, schema=pf.schema_arrow).to_pandas()
+
+
 def table_parts(source, part_bytes: int = PART_BYTES, part_rows: int = PART_ROWS) -> list:
     """The parts of a buildings table: a CSV or Parquet path, or a DataFrame.
 
@@ -118,22 +178,10 @@ def table_parts(source, part_bytes: int = PART_BYTES, part_rows: int = PART_ROWS
         return [Part("frame", source, a, min(a + part_rows, n), a + 2)
                 for a in range(0, max(n, 1), part_rows)]
     path = Path(source)
-    if not path.is_file():
-        raise InputError([(str(path), "no such file; give the path of a CSV or Parquet "
-                                      "buildings table")])
+    regular_file_or_raise(path, "a CSV or Parquet buildings table")
     suffix = path.suffix.lower()
     if suffix == ".parquet":
-        import pyarrow.parquet as pq
-        try:
-            meta = pq.ParquetFile(path).metadata
-        except Exception as e:  # pyarrow raises several types for a damaged file
-            raise InputError([(str(path), f"is not a readable Parquet file ({e})")]) from None
-        parts, row = [], 1
-        for g in range(meta.num_row_groups):
-            n = meta.row_group(g).num_rows
-            parts.append(Part("parquet", str(path), g, g + 1, row))
-            row += n
-        return parts
+        return _parquet_parts(path, part_rows)
     if suffix in (".csv", ".txt"):
         try:
             return _csv_parts(path, part_bytes)
@@ -148,8 +196,7 @@ def read_part(part: Part) -> pd.DataFrame:
     if part.kind == "frame":
         raw = part.source.iloc[part.start:part.stop].reset_index(drop=True)
     elif part.kind == "parquet":
-        import pyarrow.parquet as pq
-        raw = pq.ParquetFile(part.source).read_row_group(part.start).to_pandas()
+        raw = _read_parquet_rows(part)
     else:
         with open(part.source, "rb") as fh:
             fh.seek(part.start)
