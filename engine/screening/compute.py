@@ -34,10 +34,11 @@ RESULT_COLUMNS = ("rank", "id", "line", "zone", "suitability", "reasons", "best_
 
 
 def choose_mast_m(rows, sur: dict, climate, air_density_kgm3, ctx, geometry=None,
-                  return_main: bool = False):
+                  return_main: bool = False, rotor_radius_m=None):
     """Mast for each roof centre: clear of the turbulence zone with the largest chosen rotor [m].
 
-    The hub at the zone's top plus the largest rotor radius, rounded up to the settings' step,
+    The hub at the zone's top plus the rotor radius (``rotor_radius_m`` per row, default the
+    largest chosen rotor's), rounded up to the settings' step,
     at least the 0.5 m a position allows and at most 60 m. With ``return_main``, also the
     (P, S) main energy sectors, or None when they depend on the mast.
 
@@ -48,9 +49,11 @@ def choose_mast_m(rows, sur: dict, climate, air_density_kgm3, ctx, geometry=None
     more at the mast the first pass gives; otherwise every sector's scale changes by the same
     factor with height and the sectors stay the same, at this mast and at any other.
     """
-    r = ctx.rotor_radius_m
+    n = len(rows["height_m"])
+    r = np.broadcast_to(np.asarray(ctx.rotor_radius_m if rotor_radius_m is None
+                                   else rotor_radius_m, float), (n,))
     step = ctx.settings.mast_step_m
-    mast = np.full(len(rows["height_m"]), r + 1.0)
+    mast = r + 1.0
     if geometry is None:
         geometry = chain_arrays.roof_geometry(rows, np.asarray(climate.sector_deg, float))
     varies = ctx.transfer.adjust_shape_with_height
@@ -89,63 +92,90 @@ def empty_result(ctx: ScreeningContext) -> pd.DataFrame:
 
 
 
-def suitability(best_cf, mast_m, hub_m, sur: dict, rows, ctx: ScreeningContext):
+def roof_carries(rows, turbines, settings) -> np.ndarray:
+    """(n, T) bool: the roof is wide enough for each turbine's rotor.
+
+    Notes
+    -----
+    D_t <= f · min(L, W), f = ``settings.max_rotor_to_roof_side`` (a derived, conservative
+    assumption; see :class:`engine.screening.settings.ScreeningSettings`).
+    """
+    side = np.minimum(np.asarray(rows["length_m"], float), np.asarray(rows["width_m"], float))
+    diameter = np.array([float(t.rotor_diameter_m) for t in turbines])
+    return diameter[None, :] <= settings.max_rotor_to_roof_side * side[:, None] + 1e-9
+
+
+def _phrases(combo: np.ndarray, by_cf, extra) -> np.ndarray:
+    """Reasons text of each row from its combination code: the capacity-factor phrase (3 low
+    bits) and the extra phrases (one bit each). Each combination present is written once and
+    its rows share it (no text work per row)."""
+    # The combinations present, by counting (small codes; no sort of every row's code).
+    uniq = np.flatnonzero(np.bincount(combo, minlength=1))
+    where = np.zeros(int(uniq[-1]) + 1 if len(uniq) else 1, np.int64)
+    where[uniq] = np.arange(len(uniq))
+    phrases = np.empty(len(uniq), dtype=object)
+    for i, u in enumerate(uniq):
+        parts = [by_cf[u & 7]] + [w for bit, (_, w) in enumerate(extra) if u >> (3 + bit) & 1]
+        phrases[i] = "; ".join(parts)
+    return phrases[where[combo].ravel()]
+
+
+def suitability(best_cf, mast_m, hub_m, sur: dict, rows, ctx: ScreeningContext,
+                mean_speed_ms=None, carried=None):
     """Suitability class code (index into :data:`CLASSES`) and reasons text per building.
 
     Notes
     -----
-    By the best turbine's net capacity factor against the settings' thresholds; a building is
-    unsuitable whatever its yield when the mast it needs is above the ranking's mast limit, or
-    when the hub would sit at or below the surroundings' displacement height.
+    By the best carried turbine's net capacity factor against the settings' thresholds; a
+    building is unsuitable whatever its yield when the mast it needs is above the ranking's
+    mast limit or above the settings' fraction of the building's height, when the hub would
+    sit at or below the surroundings' displacement height, when the mean hub speed is below
+    the settings' floor, or when no chosen turbine's rotor fits the roof.
     """
     st = ctx.settings
     limit = ctx.ranking.max_mast_height_m
-    code = np.where(best_cf >= st.cf_promising_from, 0,
-                    np.where(best_cf >= st.cf_marginal_below, 1,
-                             np.where(best_cf >= st.cf_unsuitable_below, 2, 3)))
-    mast_over = mast_m > limit + 1e-9
-    hub_low = hub_m <= sur["displacement_m"]
-    code = np.where(mast_over | hub_low, 3, code)
+    n = len(best_cf)
+    height = np.asarray(rows["height_m"], float)
+    speed = np.full(n, np.inf) if mean_speed_ms is None else np.asarray(mean_speed_ms, float)
+    none_fits = np.zeros(n, bool) if carried is None else ~np.asarray(carried, bool)
+    cf_code = np.where(none_fits, 4, np.where(best_cf >= st.cf_exceptional_from, 0,
+                       np.where(best_cf >= st.cf_marginal_below, 1,
+                                np.where(best_cf >= st.cf_unsuitable_below, 2, 3))))
     pct = lambda v: f"{v * 100:g} %"  # noqa: E731 - a label, formatted once per run
     by_cf = np.array([
-        f"capacity factor {pct(st.cf_promising_from)} or more: rare for roof mounts in field "
+        f"capacity factor {pct(st.cf_exceptional_from)} or more: rare for roof mounts in field "
         "trials; measure on the roof before relying on it",
-        f"capacity factor {pct(st.cf_marginal_below)} to {pct(st.cf_promising_from)}: worth a "
-        "visit and a measurement",
+        f"capacity factor {pct(st.cf_marginal_below)} to {pct(st.cf_exceptional_from)}: worth "
+        "a visit and a measurement",
         f"capacity factor {pct(st.cf_unsuitable_below)} to {pct(st.cf_marginal_below)}: typical "
         "of building-mounted turbines in field trials",
         f"capacity factor below {pct(st.cf_unsuitable_below)}: less than the best urban roof "
-        "mounts in field trials"], dtype=object)
-    cf_code = np.where(best_cf >= st.cf_promising_from, 0,
-                       np.where(best_cf >= st.cf_marginal_below, 1,
-                                np.where(best_cf >= st.cf_unsuitable_below, 2, 3)))
+        "mounts in field trials",
+        f"no chosen turbine fits: every rotor is wider than {st.max_rotor_to_roof_side:g} x "
+        "the roof's smaller side"], dtype=object)
     extra = [
-        (mast_over, f"needs a mast above the {limit:g} m limit to clear the roof's "
-                    "turbulence zone"),
-        (hub_low, "hub at or below the displacement height of the surroundings: deep in "
-                  "their wake, the profile there is only held at its lowest value"),
-        (sur["plan_area_fraction"] > st.dense_plan_fraction,
-         "dense surroundings slow the wind"),
-        (np.asarray(rows["height_m"], float) >= st.tall_ratio * sur["surroundings_height_m"],
-         "stands above its neighbours"),
+        (mast_m > limit + 1e-9, f"needs a mast above the {limit:g} m limit to clear the "
+                                "roof's turbulence zone"),
+        (mast_m > st.max_mast_to_building_height * height + 1e-9,
+         f"needs a mast taller than {st.max_mast_to_building_height:g} x the building's "
+         "height: more than a roof is usually built to carry"),
+        (hub_m <= sur["displacement_m"], "hub at or below the displacement height of the "
+                                         "surroundings: deep in their wake, the profile there "
+                                         "is only held at its lowest value"),
+        (speed < st.min_mean_speed_ms, f"mean hub speed below {st.min_mean_speed_ms:g} m/s, "
+                                       "too little wind for a small turbine whatever the "
+                                       "capacity factor"),
+        (sur["plan_area_fraction"] > st.dense_plan_fraction, "dense surroundings slow the wind"),
+        (height >= st.tall_ratio * sur["surroundings_height_m"], "stands above its neighbours"),
         (np.asarray(rows["roof_type"], object) == "pitched",
          "pitched roof: the flow over it depends strongly on direction"),
     ]
-    # Each row's reasons are one combination of a few fixed phrases: write each combination
-    # present once and let the rows share it (no text work per row).
+    ruled_out = none_fits | np.any([m for m, _ in extra[:4]], axis=0)
+    code = np.where(ruled_out, 3, np.minimum(cf_code, 3))
     combo = cf_code.astype(np.int64)
     for bit, (mask, _) in enumerate(extra):
-        combo = combo + (np.asarray(mask, bool).astype(np.int64) << (2 + bit))
-    # The combinations present, by counting (codes < 2^7; no sort of every row's code).
-    uniq = np.flatnonzero(np.bincount(combo, minlength=1))
-    where = np.zeros(int(uniq[-1]) + 1 if len(uniq) else 1, np.int64)
-    where[uniq] = np.arange(len(uniq))
-    inverse = where[combo]
-    phrases = np.empty(len(uniq), dtype=object)
-    for i, u in enumerate(uniq):
-        parts = [by_cf[u & 3]] + [w for bit, (_, w) in enumerate(extra) if u >> (2 + bit) & 1]
-        phrases[i] = "; ".join(parts)
-    return code.astype(np.int64), phrases[inverse.ravel()]
+        combo = combo + (np.asarray(mask, bool).astype(np.int64) << (3 + bit))
+    return code.astype(np.int64), _phrases(combo, by_cf, extra)
 
 
 def screen_part(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourhood,
@@ -181,18 +211,26 @@ def screen_chunk(rows: dict, sur: dict, climate, air_density_kgm3,
     Returns
     -------
     dict: ``min_clear_mast_m``, ``mast_height_m``, ``hub_height_m``, ``mean_speed_ms``,
-    ``turbulence_intensity`` (n,); ``net_kwh`` [kWh], ``capacity_factor`` (n, T)
+    ``turbulence_intensity`` (n,); ``net_kwh`` [kWh], ``capacity_factor`` (n, T), NaN for a
+    turbine whose rotor the roof cannot carry (:func:`roof_carries`); the mast is chosen for
+    the largest rotor the roof carries
     """
+    carried = roof_carries(rows, ctx.turbines, ctx.settings)
+    radius = np.array([float(t.rotor_radius_m) for t in ctx.turbines])
+    # One mast for the largest rotor the roof carries (the largest chosen one where none fits).
+    r_row = np.where(carried.any(axis=1), np.max(np.where(carried, radius, 0.0), axis=1),
+                     radius.max())
     geo = chain_arrays.roof_geometry(rows, np.asarray(climate.sector_deg, float))
     mast, main = choose_mast_m(rows, sur, climate, air_density_kgm3, ctx, geometry=geo,
-                               return_main=True)
+                               return_main=True, rotor_radius_m=r_row)
     at_hub = chain_arrays.roof_yields(rows, sur, mast, climate, air_density_kgm3,
                                       ctx.transfer, ctx.turbines, ctx.losses, geometry=geo,
                                       main_sector=main)
     return {"min_clear_mast_m": at_hub.min_clear_mast_m, "mast_height_m": mast,
             "hub_height_m": at_hub.hub_height_m, "mean_speed_ms": at_hub.mean_speed_ms,
-            "turbulence_intensity": at_hub.turbulence_intensity, "net_kwh": at_hub.net_kwh,
-            "capacity_factor": at_hub.capacity_factor}
+            "turbulence_intensity": at_hub.turbulence_intensity,
+            "net_kwh": np.where(carried, at_hub.net_kwh, np.nan),
+            "capacity_factor": np.where(carried, at_hub.capacity_factor, np.nan)}
 
 
 def _chunks(zkey: np.ndarray, zone_key, step: int):
@@ -242,15 +280,18 @@ def screen_columns(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourho
     sur = surroundings(rows, nb, ctx.transfer.morphometry_layout)
     got = _screen_zones(rows, sur, ctx)
     net_kwh, cf = got.pop("net_kwh"), got.pop("capacity_factor")
-    best = np.argmax(net_kwh, axis=1)
+    carried = np.isfinite(net_kwh).any(axis=1)
+    best = np.argmax(np.where(np.isfinite(net_kwh), net_kwh, -np.inf), axis=1)
     take = np.arange(n)
     best_aep, best_cf = net_kwh[take, best], cf[take, best]
     code, reasons = suitability(best_cf, got["mast_height_m"], got["hub_height_m"], sur, rows,
-                                ctx)
+                                ctx, mean_speed_ms=got["mean_speed_ms"], carried=carried)
+    best_ids = np.asarray([t.id for t in ctx.turbines], dtype=object)[best]
+    best_ids[~carried] = ""
     out = {"rank": np.zeros(n, np.int64), "id": np.asarray(rows["id"], object),
            "line": np.asarray(rows["line"], np.int64), "zone": np.asarray(rows["zone"], object),
            "suitability": np.asarray(CLASSES, dtype=object)[code], "reasons": reasons,
-           "best_turbine_id": np.asarray([t.id for t in ctx.turbines], dtype=object)[best],
+           "best_turbine_id": best_ids,
            "best_aep_kwh": best_aep, "best_capacity_factor": best_cf}
     for c in ("x_m", "y_m", "length_m", "width_m", "height_m", "orientation_deg"):
         out[c] = np.asarray(rows[c], float)

@@ -29,8 +29,8 @@ HALF_CELLS = 5
 #: Quantum of the summed areas [m²] and area-heights [m³]: sums are kept as whole numbers of
 #: this quantum, so they are exact and do not depend on how the table is split into parts.
 AREA_QUANTUM = 1e-4
-#: Largest number of grid cells held at once while summing neighbourhoods.
-MAX_BAND_CELLS = 20_000_000
+#: Largest number of grid cells held at once while summing neighbourhoods (8 bytes each).
+MAX_BAND_CELLS = 8_000_000
 
 
 def frontal_area_mean_m2(length_m, width_m, height_m):
@@ -190,7 +190,10 @@ def neighbourhood_lookup(cells: pd.DataFrame, half_cells: int = HALF_CELLS,
         for v, o in zip(vals, out):
             g = np.zeros((h + 1, width + 2 * m + 1), np.int64)
             np.add.at(g, (iy[src] - lo_row + 1, ix[src] + m + 1), v[src])
-            g = g.cumsum(axis=0).cumsum(axis=1)  # integral image, zero first row and column
+            # Integral image (zero first row and column), summed in place: no copies of the
+            # band, which is the largest array of a big table's run.
+            np.cumsum(g, axis=0, out=g)
+            np.cumsum(g, axis=1, out=g)
             r = iy[dst] - lo_row  # window rows r - m .. r + m in g's frame -> [r-m, r+m+1)
             c = ix[dst] + m       # window cols ix - m .. ix + m -> [c-m, c+m+1)
             r_a, r_b = np.maximum(r - m, 0), np.minimum(r + m + 1, h)

@@ -8,21 +8,25 @@ gives the screening's numbers.
 """
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field, replace
 from typing import Optional
 
 from engine.core import model
 from engine.core.errors import InputError, Problems
 
-#: Suitability classes, best first.
-CLASSES = ("promising", "worth a visit", "marginal", "unsuitable")
+#: Suitability classes, best first. The top class is named for what its rows need: a capacity
+#: factor that high is rare for roof mounts in field trials, so it is a reason to measure on
+#: the roof first, not a promise.
+CLASSES = ("exceptional: measure first", "worth a visit", "marginal", "unsuitable")
 
 
 @dataclass(frozen=True)
 class ScreeningSettings:
     """Thresholds of the suitability classes and the screening's own choices.
 
-    Capacity factors are net (after losses) of the best chosen turbine.
+    Capacity factors are net (after losses) of the best chosen turbine that the roof can
+    carry.
     """
 
     #: Below this the roof is unsuitable: the best urban building-mounted turbine in the
@@ -31,9 +35,27 @@ class ScreeningSettings:
     #: Below this the roof is marginal: rural building-mounted turbines reached about 5 % in
     #: that trial; the Warwick Wind Trials (2009) mean was 4.15 % excluding downtime.
     cf_marginal_below: float = 0.05
-    #: At or above this the roof is promising; above 10 % is rare for roof mounts in the field
-    #: trials, so such rows also carry a reason to measure before relying on it.
-    cf_promising_from: float = 0.10
+    #: At or above this the roof is in the top class; above 10 % is rare for roof mounts in
+    #: the field trials, so such rows carry a reason to measure before relying on it.
+    cf_exceptional_from: float = 0.10
+    #: Below this mean hub speed [m/s] (building effects included) the roof is unsuitable
+    #: whatever its capacity factor: small turbines generally need an annual mean of at least
+    #: 4 m/s (9 mph) (US DOE/NREL, "Small Wind Electric Systems: A U.S. Consumer's Guide";
+    #: from memory). A high capacity factor at a lower mean speed comes from the turbulence
+    #: and curve models, not from wind a field trial would find.
+    min_mean_speed_ms: float = 4.0
+    #: Largest rotor diameter as a fraction of the roof's smaller side [-]: with the mast at
+    #: the roof's centre the blade tips then stay a quarter of that side inside the edge
+    #: (room to work, and a rotor that does not overhang the edge's separated flow). A
+    #: derived, conservative assumption, not a published rule: a setting. A turbine with a
+    #: larger rotor is not screened on that roof.
+    max_rotor_to_roof_side: float = 0.5
+    #: Largest mast as a fraction of the building's height above ground [-]: a roof mast
+    #: taller than half the building carries overturning moments that roof structures are
+    #: rarely designed for. A derived, conservative assumption, not a published rule: a
+    #: setting. A building that needs a taller mast is unsuitable; a structural engineer
+    #: decides in every case.
+    max_mast_to_building_height: float = 0.5
     #: Masts are chosen in steps of this length [m].
     mast_step_m: float = 0.1
     #: Plan area fraction above which the surroundings are called dense in the reasons [-].
@@ -43,12 +65,27 @@ class ScreeningSettings:
     #: Buildings evaluated at once (bounds memory: about 50 kB per building and turbine).
     chunk_rows: int = 5000
 
+    @classmethod
+    def without_limits(cls, **kw) -> "ScreeningSettings":
+        """The classes by capacity factor alone: no mean-speed floor, no rotor or mast limit
+        from the roof (the screening before those rules; for comparison)."""
+        return cls(min_mean_speed_ms=0.0, max_rotor_to_roof_side=math.inf,
+                   max_mast_to_building_height=math.inf, **kw)
+
     def __post_init__(self):
         p = Problems()
-        if not (0 <= self.cf_unsuitable_below <= self.cf_marginal_below <= self.cf_promising_from <= 1):
+        if not (0 <= self.cf_unsuitable_below <= self.cf_marginal_below
+                <= self.cf_exceptional_from <= 1):
             p.add("screening", "need 0 <= cf_unsuitable_below <= cf_marginal_below <= "
-                               f"cf_promising_from <= 1, got {self.cf_unsuitable_below}, "
-                               f"{self.cf_marginal_below}, {self.cf_promising_from}")
+                               f"cf_exceptional_from <= 1, got {self.cf_unsuitable_below}, "
+                               f"{self.cf_marginal_below}, {self.cf_exceptional_from}")
+        if not 0 <= self.min_mean_speed_ms <= 30:
+            p.add("screening.min_mean_speed_ms",
+                  f"must be >= 0 and <= 30, got {self.min_mean_speed_ms} m/s")
+        for name in ("max_rotor_to_roof_side", "max_mast_to_building_height"):
+            v = getattr(self, name)
+            if not v > 0:  # inf switches the limit off
+                p.add(f"screening.{name}", f"must be > 0, got {v}")
         if not self.mast_step_m > 0:
             p.add("screening.mast_step_m", f"must be > 0, got {self.mast_step_m}")
         if not int(self.chunk_rows) >= 1:

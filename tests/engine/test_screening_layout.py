@@ -83,7 +83,14 @@ def test_public_front_lists_what_it_exports():
 def test_district_screening_equals_record_before_split(ctx, tmp_path):
     """The 1,000-building demo district screens to the ranked CSV recorded before the split,
     byte for byte: the same steps in the same order give the same numbers."""
-    res = screening.screen_local(ROOT / "demo_sites" / "district_1000.csv", ctx)
+    from dataclasses import replace
+
+    # The record predates the roof's own limits and the top class's new name: screen without
+    # the limits and read the old name as the new one.
+    c2 = replace(ctx, settings=screening.ScreeningSettings.without_limits())
+    res = screening.screen_local(ROOT / "demo_sites" / "district_1000.csv", c2)
     out = screening.write_ranked_csv(res.table, tmp_path / "ranked.csv")
-    recorded = gzip.decompress(RECORDED.read_bytes())
+    recorded = gzip.decompress(RECORDED.read_bytes()).replace(
+        b",promising,", f",{screening.CLASSES[0]},".encode())
+    assert b"promising" not in recorded
     assert out.read_bytes() == recorded
