@@ -13,6 +13,8 @@ Prints, from one run, side by side:
   formulation kept here (the curve gathered for every building, turbine and sector, the
   Weibull powers taken per turbine), on the same arrays, interleaved, best of 3, in chunks of
   the screening's ``chunk_rows`` (``--energy-only`` runs just this);
+* with ``--big-csv [MB]``: the command's local engine (streamed in parts) on a buildings CSV
+  of that size (default 200 MB), its time and peak resident memory (target <= 1 GB);
 * with ``--beyond [N]``: a table of N buildings (default 2,000,000) x 1 turbine screened on 2
   Dask workers allowed less memory in all (default 600 MB each) than the table takes: each
   worker sorts its partitions and spills them to Parquet, a fresh calling process merges them
@@ -26,6 +28,7 @@ turbines are those of the demo site. Usage::
     python benchmarks/bench_screening.py --beyond                 # 2e6 on 2 x 600 MB
     python benchmarks/bench_screening.py --beyond 3000000 --worker-mb 500 --workers 2
     python benchmarks/bench_screening.py --quick    # 10^3, 10^4, 10^5
+    python benchmarks/bench_screening.py --big-csv  # 200 MB CSV, command's local engine
     python benchmarks/bench_screening.py --sizes 10000,100000 --compare-local   # before/after
     python benchmarks/bench_screening.py --sizes 1000,3000,10000   # a trial run
 """
@@ -67,7 +70,7 @@ def peak_rss_mb() -> float:
 
 
 def _context():
-    from engine.screening import core as screening
+    from engine import screening
     from engine.io import sitefile
     return screening.context_from_assessment(sitefile.load(ROOT / "demo_sites" / "larkspur_yard.json"))
 
@@ -93,7 +96,7 @@ def child_local(path: str, before: bool = False, library: bool = False) -> None:
     import pandas as pd
 
     from engine.energy import aep as energy
-    from engine.screening import core as screening
+    from engine import screening
     if before:
         energy.prepare_bins = lambda f, k, c, ti, skew, turbs, rho: _BeforeSetup(
             f, k, c, ti, skew, turbs, rho)
@@ -168,7 +171,7 @@ def run_dask(paths: dict) -> dict:
     (results gathered to this process, partition by partition)."""
     from distributed import Client
 
-    from engine.screening import core as screening
+    from engine import screening
     ctx = _context()
     results = {}
     with _cluster() as cluster, Client(cluster) as client:
@@ -197,7 +200,7 @@ def child_beyond(path: str, memory_limit: int, n_workers: int) -> None:
     partitions; this (fresh) process merges them into the ranked CSV. Prints one JSON line."""
     from distributed import Client
 
-    from engine.screening import core as screening
+    from engine import screening
     ctx1 = _one_turbine_context()
     out = Path(path).with_suffix(".out.csv")
     with _cluster(memory_limit, n_workers) as cluster, Client(cluster) as client:
@@ -220,7 +223,7 @@ def run_beyond(n: int, tmp: Path, memory_limit=BEYOND_WORKER_LIMIT, n_workers=2)
     import pandas as pd
 
     import make_district
-    from engine.screening import core as screening
+    from engine import screening
     ctx1 = _one_turbine_context()
     path = make_district.write_district(n, tmp / f"district_{n}.csv")
     sample_rows = pd.read_csv(path, nrows=20_000)
@@ -248,6 +251,45 @@ def run_beyond(n: int, tmp: Path, memory_limit=BEYOND_WORKER_LIMIT, n_workers=2)
           f"ranked rows written of {r['rows_read']:,d} read; workers' peak "
           f"{r['worker_peak_mb']:.0f} MB, {r['restarts']} restart(s); calling process peak "
           f"RSS {r['caller_peak_mb']:.0f} MB (it also runs the scheduler); load average "
+          f"{os.getloadavg()[0]:.1f}", flush=True)
+
+
+def child_cli(path: str, out: str) -> None:
+    """Run ``python -m engine screen PATH --out OUT`` (the local engine, streamed) in this
+    fresh process; print seconds, rows and the peak resident memory (VmHWM) as one JSON line."""
+    from engine import cli
+    t0 = time.perf_counter()
+    c0 = time.process_time()
+    rc = cli.main(["screen", path, "--out", out, "--quiet"])
+    dt, cpu = time.perf_counter() - t0, time.process_time() - c0
+    with open(out, "rb") as fh:
+        rows = sum(block.count(b"\n") for block in iter(lambda: fh.read(1 << 24), b"")) - 1
+    print(json.dumps({"rc": rc, "seconds": dt, "cpu_seconds": cpu, "rows_written": rows,
+                      "peak_mb": peak_rss_mb()}))
+
+
+def run_big_csv(megabytes: float, tmp: Path) -> None:
+    """A buildings CSV of about ``megabytes`` MB screened by the command's local engine in a
+    fresh process: peak resident memory against the 1 GB target, time, rows written."""
+    import make_district
+    per_row = os.path.getsize(make_district.write_district(20_000, tmp / "probe.csv")) / 20_000
+    n = int(megabytes * 1024 ** 2 / per_row)
+    t0 = time.perf_counter()
+    path = make_district.write_district(n, tmp / f"district_{n}.csv")
+    size_mb = os.path.getsize(path) / 1024 ** 2
+    print(f"big CSV: {n:,d} buildings, {size_mb:,.0f} MB, written in "
+          f"{time.perf_counter() - t0:.0f} s", flush=True)
+    out = subprocess.run([sys.executable, __file__, "--child-cli", str(path),
+                          str(tmp / "big.out.csv")], capture_output=True, text=True, cwd=ROOT)
+    if out.returncode != 0:
+        print(out.stderr[-4000:])
+        raise SystemExit("big-CSV run failed")
+    r = json.loads(out.stdout.strip().splitlines()[-1])
+    print(f"  local engine (streamed), 3 demo turbines: {r['seconds']:.1f} s wall, "
+          f"{r['cpu_seconds']:.1f} s CPU ({n / r['seconds']:,.0f} bldg/s, "
+          f"{3 * n / r['cpu_seconds']:,.0f} eval/s CPU); {r['rows_written']:,d} ranked rows "
+          f"written; exit code {r['rc']}; peak RSS {r['peak_mb']:.0f} MB (target <= 1024 MB: "
+          f"{'met' if r['peak_mb'] <= 1024 else 'NOT met'}); load average "
           f"{os.getloadavg()[0]:.1f}", flush=True)
 
 
@@ -316,6 +358,10 @@ def main() -> None:
     ap.add_argument("--sizes", default="", help="comma-separated sizes instead (a trial run)")
     ap.add_argument("--child-local")
     ap.add_argument("--child-beyond", help=argparse.SUPPRESS)
+    ap.add_argument("--child-cli", nargs=2, help=argparse.SUPPRESS)
+    ap.add_argument("--big-csv", type=float, default=None, nargs="?", const=200.0,
+                    help="only the command's local engine on a buildings CSV of this many MB "
+                         "(default 200), with its peak memory")
     ap.add_argument("--before", action="store_true", help=argparse.SUPPRESS)
     ap.add_argument("--library", action="store_true", help=argparse.SUPPRESS)
     ap.add_argument("--compare-local", action="store_true",
@@ -333,6 +379,9 @@ def main() -> None:
     if args.child_local:
         child_local(args.child_local, args.before, args.library)
         return
+    if args.child_cli:
+        child_cli(*args.child_cli)
+        return
     if args.child_beyond:
         child_beyond(args.child_beyond, args.worker_mb * 1024 ** 2, args.workers)
         return
@@ -341,6 +390,10 @@ def main() -> None:
     tmp = Path(tempfile.mkdtemp(prefix="perch-bench-"))
     print(f"machine: {os.cpu_count()} logical cores; load average at start "
           f"{os.getloadavg()[0]:.1f}; tables in {tmp}", flush=True)
+    if args.big_csv is not None:
+        run_big_csv(args.big_csv, tmp)
+        print(f"load average at the end {os.getloadavg()[0]:.1f}")
+        return
     if args.beyond is not None:
         run_beyond(args.beyond, tmp, args.worker_mb * 1024 ** 2, args.workers)
         print(f"load average at the end {os.getloadavg()[0]:.1f}")

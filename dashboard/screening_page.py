@@ -1,12 +1,12 @@
 """District screening page: which roofs of a whole portfolio are worth a visit?
 
 Upload a buildings table (or take the invented demo district), screen it with the current
-assessment's climate, site and turbines (:func:`engine.screening.core.screen_local`), then look at
+assessment's climate, site and turbines (:func:`engine.screening.screen_local`), then look at
 the plan, sort the shortlist and open one building in the detailed assessment. The page only
-arranges and calls: every number comes from :mod:`engine.screening.core`.
+arranges and calls: every number comes from :mod:`engine.screening`.
 
 "Open in detailed assessment" leaves the building's :class:`engine.core.model.Assessment` in
-``st.session_state[engine.screening.core.SESSION_KEY]`` (``"screening_assessment"``) and makes it
+``st.session_state[engine.screening.SESSION_KEY]`` (``"screening_assessment"``) and makes it
 the working copy of the detailed steps.
 """
 from __future__ import annotations
@@ -17,7 +17,8 @@ from pathlib import Path
 import streamlit as st
 
 from dashboard import state, widgets
-from engine.screening import core as screening
+from engine import screening
+from engine.report import screening_charts
 from engine.io import sitefile
 from engine.core.errors import InputError
 from engine.io.exports import safe_csv
@@ -108,7 +109,7 @@ if res is not None:
         with st.expander(f"{len(res.bad_rows):,d} row(s) left out: fix them and screen again",
                          expanded=True):
             st.table([{"where": w, "problem and fix": m} for w, m in res.problems])
-    st.altair_chart(screening.plan_scatter_chart(table), width="content")
+    st.altair_chart(screening_charts.plan_scatter_chart(table), width="content")
 
     st.subheader("Shortlist")
     show = st.multiselect("Classes", list(screening.CLASSES),

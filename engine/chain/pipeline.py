@@ -16,6 +16,7 @@ from engine.energy import aep as energy
 from engine.flow import effective as flow
 from engine.energy import loads
 from engine.energy import noise
+from engine.chain import arrays
 from engine.chain import ranking
 from engine.chain import verdict
 from engine.energy import uncertainty
@@ -47,17 +48,16 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     turbines = assessment.turbines
     P, T = eff.n_positions, len(turbines)
     rho = eff.air_density_kgm3
-    y = energy.yield_arrays(eff.frequency, eff.weibull_k, eff.weibull_c_ms,
-                            eff.turbulence_intensity, eff.inflow_skew_deg, turbines, rho,
-                            assessment.losses, energy_settings=assessment.energy,
-                            no_credit=eff.diagnostics.get("no_turbulence_credit"))
+    # The yield step the screening shares (engine.chain.arrays): energy, mean speed, TI.
+    at_hub = arrays.position_yields(eff, turbines, assessment.losses, assessment.energy)
+    y = at_hub.yields
     rated_w = y.rated_power_w
     gross_kwh = y.gross_wh / 1000.0
     net_kwh = y.net_wh / 1000.0
     pv = uncertainty.exceedance_table(y.setup, y.net_wh, assessment.uncertainty,
                                       assessment.economics.lifetime_years,
                                       gross_wh=y.bins_gross_wh)
-    mean_ms = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.weibull_c_ms)  # (P,)
+    mean_ms = at_hub.mean_speed_ms  # (P,)
     pos = assessment.positions
     mast = np.array([float(p.mast_height_m) for p in pos])
     ld = loads.turbine_loads(turbines, mast, rho)

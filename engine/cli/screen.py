@@ -1,24 +1,35 @@
 """``python -m engine screen BUILDINGS --out ranked.csv``: screen a portfolio of buildings.
 
-Runs :func:`engine.screening.core.screen_local` (pandas/numpy, the default) or, with ``--workers N``
-or ``--scheduler ADDRESS``, :func:`engine.screening.core.screen_dask` (identical results), which
-streams ``--out``: the workers sort and spill their partitions next to it and this process
-merges them in bounded blocks (:mod:`engine.screening.merge`), so the table never has to fit
-in one process's memory. Bad rows are listed on stderr by line and id with the fix; the good
-rows are screened. Exit code 0 when at least one building was screened, 2 when the input
-cannot be used at all.
+Runs :func:`engine.screening.screen_local` (pandas/numpy, the default; the table is streamed in
+parts with a fixed memory ceiling and the ranked CSV merged from sorted parts) or, with
+``--workers N`` or ``--scheduler ADDRESS``, :func:`engine.screening.screen_dask` (identical
+results), which streams ``--out`` the same way on a Dask cluster. Bad rows are listed on stderr
+by line and id with the fix; the good rows are screened.
+
+Exit codes: 0 when at least one building was screened; 2 when an input, file or network problem
+stops the run (one message naming the argument, no traceback); 1 for an internal fault (one
+line; ``--debug`` shows the traceback).
+
+A Dask scheduler can make its clients run code: ``--scheduler`` is accepted only with a sign of
+trust, a ``tls://`` address with the cluster's certificates in the Dask configuration, or
+``--trust-scheduler`` for a cluster the user runs themselves.
 """
 from __future__ import annotations
 
+import ipaddress
 import json
+import os
+import re
 import sys
 import time
 from pathlib import Path
 
+from engine import screening
 from engine.core import model
-from engine.screening import core as screening
-from engine.io import sitefile
 from engine.core.errors import InputError, Problems
+from engine.io import sitefile
+from engine.screening.passes import OutputWriteError
+from engine.screening.table import regular_file_or_raise
 
 #: Site file used for climate and turbines when ``--climate`` is not given (invented demo).
 DEMO_SITE = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
@@ -26,26 +37,56 @@ DEMO_SITE = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.
 CAUTION = ("Screening only: roof structure, mast loads, electrical connection and noise for "
            "neighbours must be checked by a structural engineer and licensed installers under "
            "local codes before anything is mounted.")
+#: Largest climate or site file read for ``--climate`` [bytes] (the site file's own limit).
+MAX_CLIMATE_BYTES = sitefile.MAX_SITE_FILE_BYTES
+#: Most local Dask workers ``--workers`` starts.
+MAX_WORKERS = 64
+#: How long to wait for a scheduler to answer [s].
+CONNECT_TIMEOUT_S = 4
+#: Scheduler address schemes a TCP/TLS connection is made with.
+SCHEMES = ("tcp", "tls")
+TRUST_HELP = ("a Dask scheduler can make this process run any code it sends: connect only to a "
+              "cluster you trust")
+
+
+def read_small_file(path, what: str, max_bytes: int = MAX_CLIMATE_BYTES) -> bytes:
+    """The bytes of a small regular file, refusing folders, devices, FIFOs and large files."""
+    path = Path(path)
+    regular_file_or_raise(path, what)
+    try:
+        with open(path, "rb") as fh:
+            data = fh.read(max_bytes + 1)
+    except OSError as e:
+        raise InputError([(str(path), f"cannot be read: {e.strerror}")]) from None
+    if len(data) > max_bytes:
+        raise InputError([(str(path), f"is larger than {max_bytes / 1e6:.0f} MB; {what} is a "
+                                      "small JSON file")])
+    return data
 
 
 def load_climate_or_site(path):
     """A site file (-> Assessment) or a climate JSON object (-> WindClimate) from ``path``."""
     path = Path(path)
+    raw = read_small_file(path, "a site file or climate JSON")
     try:
-        data = json.loads(path.read_bytes().decode("utf-8-sig"))
-    except OSError as e:
-        raise InputError([(str(path), f"cannot be read: {e.strerror}")]) from None
+        data = json.loads(raw.decode("utf-8-sig"))
     except (UnicodeDecodeError, json.JSONDecodeError) as e:
         raise InputError([(str(path), f"is not JSON text ({e}); give a site file or a climate "
                                       "JSON object")]) from None
-    if isinstance(data, dict) and "site" in data and "climate" in data:
-        return sitefile.assessment_from_dict(data)
-    if isinstance(data, dict) and "climate" in data and isinstance(data["climate"], dict):
-        data = data["climate"]
-    p = Problems()
-    clim = sitefile.build_dataclass(model.WindClimate, data, str(path), p)
-    p.raise_if_any()
-    return clim
+    except RecursionError:
+        raise InputError([(str(path), "is nested too deeply to be a site file or climate")]) \
+            from None
+    except ValueError:  # an integer with more digits than Python converts
+        raise InputError([(str(path), "holds a number too long to read")]) from None
+    try:
+        if isinstance(data, dict) and "site" in data and "climate" in data:
+            return sitefile.assessment_from_dict(data)
+        if isinstance(data, dict) and "climate" in data and isinstance(data["climate"], dict):
+            data = data["climate"]
+        return sitefile.dataclass_from_dict(model.WindClimate, data, str(path))
+    except RecursionError:
+        raise InputError([(str(path), "is nested too deeply to be a site file or climate")]) \
+            from None
 
 
 def build_context(climate_args, turbine_arg, stderr=sys.stderr) -> screening.ScreeningContext:
@@ -56,7 +97,7 @@ def build_context(climate_args, turbine_arg, stderr=sys.stderr) -> screening.Scr
         try:
             got = load_climate_or_site(file)
         except InputError as e:
-            problems.extend(e.problems)
+            problems.extend([(f"--climate {w}", m) for w, m in e.problems])
             continue
         if isinstance(got, model.Assessment):
             if zone:
@@ -105,37 +146,131 @@ def build_context(climate_args, turbine_arg, stderr=sys.stderr) -> screening.Scr
         ranking=ctx.ranking, transfer=ctx.transfer, settings=ctx.settings)
 
 
-def cmd_screen(args) -> int:
-    ctx = build_context(args.climate, args.turbines)
-    t0 = time.perf_counter()
-    if args.workers or args.scheduler:
+def check_out_path(out) -> Path:
+    """``--out`` must name a file (new or regular) in a folder that exists and is writable."""
+    out = Path(out)
+    if out.exists() and not out.is_file():
+        kind = "a folder" if out.is_dir() else "a device or special file"
+        raise InputError([("--out", f"{out} is {kind}; give the path of the CSV file to write")])
+    folder = out.parent if str(out.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError([("--out", f"folder {folder} does not exist; create it or choose "
+                                    "another path")])
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise InputError([("--out", f"folder {folder} is not writable; choose another path")])
+    return out
+
+
+_HOST_LABEL = re.compile(r"^(?!-)[A-Za-z0-9-]{1,63}(?<!-)$")
+
+
+def parse_scheduler(address: str) -> tuple:
+    """(scheme, host, port) of a scheduler address ``tcp://HOST:PORT`` or ``tls://HOST:PORT``.
+
+    Checked before any connection: the scheme, a host name (RFC 1123 labels) or an IP address
+    (IPv6 in brackets), and a port 1-65535.
+    """
+    def bad(why):
+        return InputError([("--scheduler", f"{why}, got {address[:200]!r}; give "
+                                           "tcp://HOST:PORT or tls://HOST:PORT")])
+
+    scheme, sep, rest = address.partition("://")
+    if not sep or scheme.lower() not in SCHEMES:
+        raise bad(f"the scheme must be {' or '.join(SCHEMES)}")
+    m = re.fullmatch(r"(\[[0-9A-Fa-f:.]+\]|[^:/\[\]]+):(\d{1,5})", rest)
+    if m is None:
+        raise bad("the address must be HOST:PORT with nothing after the port")
+    host, port = m.group(1), int(m.group(2))
+    if not 1 <= port <= 65535:
+        raise bad(f"the port must be 1-65535 ({port})")
+    try:
+        ipaddress.ip_address(host.strip("[]"))
+    except ValueError:
+        if host.startswith("[") or len(host) > 253 or not all(
+                _HOST_LABEL.match(lab) for lab in host.rstrip(".").split(".")):
+            raise bad("the host must be a host name or an IP address") from None
+    return scheme.lower(), host, port
+
+
+def trusted_security(scheme: str, address: str, trust_flag: bool):
+    """The ``distributed.security.Security`` to connect with, or :class:`InputError` when the
+    scheduler has no sign of trust (a TLS address with the cluster's certificate authority in
+    the Dask configuration, or ``--trust-scheduler``)."""
+    from distributed.security import Security
+
+    sec = Security()  # from the Dask configuration (distributed.comm.tls.*)
+    if scheme == "tls" and sec.tls_ca_file:
+        return sec
+    if trust_flag:
+        return sec if scheme == "tls" else None
+    why = ("a tls:// address needs the cluster's certificate authority in the Dask "
+           "configuration (distributed.comm.tls.ca-file)" if scheme == "tls"
+           else "a tcp:// address is neither encrypted nor authenticated")
+    raise InputError([("--scheduler", f"{address} is not trusted: {TRUST_HELP}; {why}. Use a "
+                                      "tls:// address with the cluster's certificates, or add "
+                                      "--trust-scheduler for a cluster you run yourself")])
+
+
+def connect(address: str, security):
+    """A ``distributed.Client`` of the scheduler, or :class:`InputError` after
+    :data:`CONNECT_TIMEOUT_S` seconds without an answer."""
+    from distributed import Client
+    try:
+        return Client(address, timeout=CONNECT_TIMEOUT_S, security=security)
+    except (OSError, TimeoutError) as e:
+        raise InputError([("--scheduler", f"no Dask scheduler answered at {address} within "
+                                          f"{CONNECT_TIMEOUT_S} s ({type(e).__name__}); check "
+                                          "the address and that the cluster is running")]) \
+            from None
+
+
+def check_arguments(args) -> None:
+    """Argument checks made before any file is read or connection made."""
+    p = Problems()
+    if args.workers is not None and not 1 <= args.workers <= MAX_WORKERS:
+        p.add("--workers", f"must be between 1 and {MAX_WORKERS}, got {args.workers}")
+    if args.workers is not None and args.scheduler:
+        p.add("--workers", "give --workers (a local cluster) or --scheduler, not both")
+    p.raise_if_any()
+    check_out_path(args.out)
+    if args.scheduler:
+        scheme, _, _ = parse_scheduler(args.scheduler)
+        trusted_security(scheme, args.scheduler, args.trust_scheduler)
+
+
+def _run(args, ctx):
+    """The screening on the engine the arguments choose; the ranked table streamed to --out."""
+    if args.scheduler:
+        scheme, _, _ = parse_scheduler(args.scheduler)
+        client = connect(args.scheduler,
+                         trusted_security(scheme, args.scheduler, args.trust_scheduler))
+        with client:
+            return screening.screen_dask(args.buildings, ctx, client, out_csv=args.out)
+    if args.workers:
         from distributed import Client, LocalCluster
-        if args.scheduler:
-            with Client(args.scheduler) as client:
-                res = screening.screen_dask(args.buildings, ctx, client, out_csv=args.out)
-        else:
-            # Thread workers in this process (process workers would re-run this command when
-            # they start). TCP on 127.0.0.1: without a host the in-process cluster still opens
-            # its HTTP ports on every interface.
-            with LocalCluster(n_workers=args.workers, threads_per_worker=1, processes=False,
-                              protocol="tcp", host="127.0.0.1",
-                              dashboard_address=None) as cluster, \
-                    Client(cluster) as client:
-                res = screening.screen_dask(args.buildings, ctx, client, out_csv=args.out)
-    else:
-        def progress(f, text):
-            if not args.quiet:
-                print(f"\r{f * 100:5.1f} %  {text:<40}", end="", file=sys.stderr, flush=True)
-        res = screening.screen_local(args.buildings, ctx, progress=progress)
+        # Thread workers in this process (process workers would re-run this command when
+        # they start). TCP on 127.0.0.1: without a host the in-process cluster still opens
+        # its HTTP ports on every interface.
+        with LocalCluster(n_workers=args.workers, threads_per_worker=1, processes=False,
+                          protocol="tcp", host="127.0.0.1",
+                          dashboard_address=None) as cluster, Client(cluster) as client:
+            return screening.screen_dask(args.buildings, ctx, client, out_csv=args.out)
+
+    def progress(f, text):
         if not args.quiet:
-            print(file=sys.stderr)
-        screening.write_ranked_csv(res.table, args.out)
-    dt = time.perf_counter() - t0
+            print(f"\r{f * 100:5.1f} %  {text:<40}", end="", file=sys.stderr, flush=True)
+    res = screening.screen_local(args.buildings, ctx, progress=progress, out_csv=args.out)
+    if not args.quiet:
+        print(file=sys.stderr)
+    return res
+
+
+def _report(args, res, seconds: float) -> int:
     for where, msg in res.problems:
         print(f"perch screen: {where}: {msg}", file=sys.stderr)
-    n_bad = len(res.bad_rows)
+    n_bad = res.n_left_out
     screened = res.n_rows - n_bad
-    print(f"perch screen: {screened} of {res.n_rows} buildings screened in {dt:.1f} s"
+    print(f"perch screen: {screened} of {res.n_rows} buildings screened in {seconds:.1f} s"
           f"{f'; {n_bad} bad row(s) left out (listed above)' if n_bad else ''}; ranked table "
           f"written to {args.out}", file=sys.stderr)
     print(f"perch screen: {CAUTION}", file=sys.stderr)
@@ -145,19 +280,57 @@ def cmd_screen(args) -> int:
     return 0
 
 
+def cmd_screen(args) -> int:
+    try:
+        check_arguments(args)
+        ctx = build_context(args.climate, args.turbines)
+        t0 = time.perf_counter()
+        res = _run(args, ctx)
+        return _report(args, res, time.perf_counter() - t0)
+    except OutputWriteError as e:
+        raise InputError([("--out", f"{e.path}: {m}") for _, m in e.problems]) from None
+    except InputError:
+        raise
+    except OSError as e:  # the output's own errors are OutputWriteError: this is a read
+        raise InputError([(str(args.buildings), f"cannot be read ({e.strerror or e}); check "
+                                                "the file and its folder")]) from None
+    except MemoryError:
+        if args.debug:
+            raise
+        print("perch screen: out of memory; screen the table in smaller files or on a Dask "
+              "cluster (--workers N)", file=sys.stderr)
+        return 1
+    except Exception as e:  # an internal fault: one line, the traceback with --debug
+        if args.debug:
+            raise
+        text = " ".join(str(e).split())[:300]
+        print(f"perch screen: internal error: {type(e).__name__}: {text} (run again "
+              "with --debug for the traceback)", file=sys.stderr)
+        return 1
+
+
 def register_screen(sub):
     p = sub.add_parser("screen", help="screen a buildings table (CSV or Parquet) for roofs "
                                       "worth a visit")
     p.add_argument("buildings", help="buildings table: CSV or Parquet (see docs/screening.md)")
-    p.add_argument("--out", required=True, help="ranked table to write (CSV)")
-    p.add_argument("--workers", type=int, default=0,
-                   help="run on a local Dask cluster of N workers (loopback only)")
+    p.add_argument("--out", required=True, help="ranked table to write (CSV), written whole "
+                                                "or not at all")
+    p.add_argument("--workers", type=int, default=None,
+                   help=f"run on a local Dask cluster of N (1-{MAX_WORKERS}) thread workers in "
+                        "this process (loopback only)")
     p.add_argument("--scheduler", default="",
-                   help="run on an existing Dask cluster at this scheduler address")
+                   help="run on an existing Dask cluster at tcp://HOST:PORT or tls://HOST:PORT. "
+                        f"Warning: {TRUST_HELP}. Accepted only with a tls:// address and the "
+                        "cluster's certificates in the Dask configuration, or with "
+                        "--trust-scheduler")
+    p.add_argument("--trust-scheduler", action="store_true",
+                   help="connect to --scheduler although its identity is not proven by TLS (a "
+                        "cluster you run yourself); its scheduler can run code in this process")
     p.add_argument("--turbines", default="",
                    help="comma-separated turbine ids (site file or turbine library)")
     p.add_argument("--climate", action="append", metavar="[ZONE=]FILE",
                    help="site file or climate JSON; ZONE=FILE for the rows of one zone "
                         "(repeatable)")
     p.add_argument("--quiet", action="store_true", help="no progress line")
+    p.add_argument("--debug", action="store_true", help="show the traceback of an internal error")
     p.set_defaults(func=cmd_screen)

@@ -227,8 +227,9 @@ def gaussian_average_segments(knots, alpha, beta, mean_ms, sigma_ms):
 def ti_grid_for(turbulence_intensity, step=TI_TABLE_STEP, ti_max=TI_MAX):
     """Grid of turbulence intensities covering the given values, on multiples of ``step`` [-]."""
     ti = np.clip(np.asarray(turbulence_intensity, float), 0.0, ti_max)
-    lo = math.floor(float(ti.min()) / step + 1e-9)
-    hi = math.ceil(float(ti.max()) / step - 1e-9)
+    top = math.floor(ti_max / step + 1e-9)  # the grid never runs past the table's top row,
+    lo = min(math.floor(float(ti.min()) / step + 1e-9), top - 1)  # so it is the same rows of
+    hi = min(math.ceil(float(ti.max()) / step - 1e-9), top)  # one table whatever the batch
     return np.arange(lo, max(hi, lo + 1) + 1) * step
 
 
@@ -918,7 +919,8 @@ def energy_and_sensitivity(setup: BinsSetup, hours=HOURS_PER_YEAR):
 def yield_arrays(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflow_skew_deg,
                  turbines, air_density_kgm3, losses, edges_ms=DEFAULT_EDGES_MS,
                  turbulence=True, reference_ti=None, sensitivity_step=0.0,
-                 energy_settings=None, no_credit=None, integration="exact"):
+                 energy_settings=None, no_credit=None, integration="exact",
+                 with_sensitivity=True):
     """Gross and net yield with every correction, and the speed sensitivity, arrays (P, T).
 
     Parameters are those of :func:`prepare_bins`, plus ``losses``
@@ -926,7 +928,8 @@ def yield_arrays(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
     sum, :func:`energy_and_sensitivity`; a step h > 0 the central difference,
     :func:`speed_sensitivity`) and ``integration``: "exact" (the closed-form integral of the
     piecewise-linear curve, :func:`engine.energy.exact.exact_energy_wh`) or "bins" (the
-    method of bins, IEC 61400-12-1).
+    method of bins, IEC 61400-12-1). ``with_sensitivity=False`` leaves the sensitivity out
+    (NaN), which halves the cost of the bins sums (the portfolio screening's choice).
 
     Notes
     -----
@@ -944,7 +947,10 @@ def yield_arrays(frequency, weibull_k, weibull_c_ms, turbulence_intensity, inflo
                          reference_ti, energy_settings, no_credit)
     plain = prepare_bins(frequency, weibull_k, weibull_c_ms, turbulence_intensity,
                          inflow_skew_deg, turbines, air_density_kgm3, edges_ms, False)
-    if sensitivity_step:
+    if not with_sensitivity:
+        bins = setup.energy_wh(1.0)
+        sens = np.full_like(bins, np.nan)
+    elif sensitivity_step:
         bins, sens = setup.energy_wh(1.0), speed_sensitivity(setup, sensitivity_step)
     else:
         bins, sens = energy_and_sensitivity(setup)

@@ -304,3 +304,12 @@ def json_schema() -> dict:
     schema["properties"]["format_version"]["const"] = model.FORMAT_VERSION
     del root
     return schema
+
+
+def dataclass_from_dict(cls, data, where: str = ""):
+    """Build and validate dataclass ``cls`` (e.g. :class:`engine.core.model.WindClimate`) from
+    parsed JSON; raise InputError with every problem, each under ``where``."""
+    problems = Problems()
+    obj = _build(cls, data, where, problems)
+    problems.raise_if_any()
+    return obj

@@ -10,7 +10,7 @@ smallest "last buffered key" of the files that still have rows to read, puts its
 front of its text and appends it to the CSV. Only (files x block) rows are ever held, whatever
 the table's length.
 
-The ranking key is that of :func:`engine.screening.core.rank_results`: suitability class ascending,
+The ranking key is that of :func:`engine.screening.compute.rank_results`: suitability class ascending,
 best net AEP descending, id ascending; rows equal in all three keep their order in the
 concatenated table (part by part, row by row), as a stable sort of the whole table would.
 """
@@ -26,7 +26,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-#: Ranking columns and directions, as in :func:`engine.screening.core.rank_results`.
+#: Ranking columns and directions, as in :func:`engine.screening.compute.rank_results`.
 RANK_KEYS = ("suitability_code", "best_aep_kwh", "id")
 RANK_ASCENDING = (True, False, True)
 #: Most rows a merge buffers over all its files, when the block size is not given.
@@ -77,7 +77,7 @@ def sort_part(table: pd.DataFrame) -> pd.DataFrame:
 
     Notes
     -----
-    The same order as :func:`engine.screening.core.rank_results` (:func:`ranking_order`), so a
+    The same order as :func:`engine.screening.compute.rank_results` (:func:`ranking_order`), so a
     part sorted here and a whole table ranked there agree row for row.
     """
     return table.take(ranking_order(*rank_key_arrays(table))).reset_index(drop=True)
@@ -134,7 +134,7 @@ def write_sorted_part(table: pd.DataFrame, path, block_rows: int = MAX_BLOCK_ROW
 
     Parameters
     ----------
-    table : unranked result rows of one part (:func:`engine.screening.core.screen_part`); ``rank``
+    table : unranked result rows of one part (:func:`engine.screening.compute.screen_part`); ``rank``
         is put first (and added when missing), as in the ranked table
     path : file to write (its folder is created if missing)
     block_rows : rows per Parquet row group, so a reader's block never needs a whole file
@@ -391,8 +391,6 @@ def merge_sorted_parts(paths, out_csv, columns=None, block_rows: int | None = No
     Knuth, D. E. (1998), *The Art of Computer Programming*, vol. 3, 2nd ed., section 5.4.1
     (multiway merging).
     """
-    import pyarrow as pa
-    import pyarrow.compute as pc
     import pyarrow.parquet as pq
 
     paths = [Path(p) for p in paths]
@@ -408,50 +406,12 @@ def merge_sorted_parts(paths, out_csv, columns=None, block_rows: int | None = No
         raise ValueError(f"sorted part files must all have the columns {columns} (rank first)")
     fd, tmp = tempfile.mkstemp(prefix=f".{out_csv.name}.", suffix=".tmp",
                                dir=out_csv.parent if str(out_csv.parent) else ".")
-    head_part, head_pos, n_done = [], [], 0
     try:
         os.chmod(tmp, (out_csv.stat().st_mode & 0o777) if out_csv.exists() else 0o644)
         files = [_SortedFile(p, i, block_rows) for i, p in enumerate(paths)]
         with os.fdopen(fd, "wb") as fh:
             fh.write(_csv_text(pd.DataFrame(columns=columns), header=True).encode("utf-8"))
-            while True:
-                for f in files:
-                    f.refill()
-                live = [f for f in files if not f.empty]
-                if not live:
-                    break
-                waiting = [f for f in live if f.left_to_read > 0]
-                if waiting:
-                    lasts = [f.last_key() for f in waiting]
-                    # Smallest last key: a lexsort over one row per waiting file.
-                    lk = [np.array([k[j] for k in lasts], dtype=object if j == 2 else None)
-                          for j in range(5)]
-                    limit = lasts[int(merge_order(*lk)[0])]
-                    counts = []
-                    for f in live:
-                        code, neg, ids = f.keys
-                        part = np.full(f.n, f.index, np.int64)
-                        counts.append(int(np.count_nonzero(
-                            key_at_most(code, neg, ids, part, f.pos(), limit))))
-                else:
-                    counts = [f.n for f in live]
-                pieces = [(f.index, f.take(n)) for f, n in zip(live, counts) if n > 0]
-                code = np.concatenate([t[0][0] for _, t in pieces])
-                neg = np.concatenate([t[0][1] for _, t in pieces])
-                ids = np.concatenate([t[0][2] for _, t in pieces])
-                part = np.concatenate([np.full(len(t[1]), i, np.int64) for i, t in pieces])
-                pos = np.concatenate([t[1] for _, t in pieces])
-                order = merge_order(code, neg, ids, part, pos)
-                lines = pa.concat_arrays([t[2] for _, t in pieces]).take(pa.array(order))
-                ranks = pa.array(np.arange(n_done + 1, n_done + len(order) + 1).astype(str),
-                                 type=pa.large_string())
-                fh.write(_array_bytes(pc.binary_join_element_wise(
-                    ranks, lines, pa.scalar(",", pa.large_string()))))
-                if n_done < head_rows:
-                    take = order[:head_rows - n_done]
-                    head_part.append(part[take])
-                    head_pos.append(pos[take])
-                n_done += len(order)
+            n_done, head_part, head_pos = _write_merged(fh, files, head_rows)
             fh.flush()
             os.fsync(fh.fileno())
         os.replace(tmp, out_csv)
@@ -466,6 +426,59 @@ def merge_sorted_parts(paths, out_csv, columns=None, block_rows: int | None = No
     else:
         head = pd.DataFrame(columns=columns)
     return MergeResult(n_rows=n_done, head=head, block_rows=block_rows)
+
+
+def _emit_counts(live) -> list:
+    """How many buffered rows of each live file can be emitted now (see
+    :func:`merge_sorted_parts`): those with a key at most the smallest last buffered key of
+    the files that still have rows to read, or all of them when none has."""
+    waiting = [f for f in live if f.left_to_read > 0]
+    if not waiting:
+        return [f.n for f in live]
+    lasts = [f.last_key() for f in waiting]
+    # Smallest last key: a lexsort over one row per waiting file.
+    lk = [np.array([k[j] for k in lasts], dtype=object if j == 2 else None) for j in range(5)]
+    limit = lasts[int(merge_order(*lk)[0])]
+    counts = []
+    for f in live:
+        code, neg, ids = f.keys
+        part = np.full(f.n, f.index, np.int64)
+        counts.append(int(np.count_nonzero(key_at_most(code, neg, ids, part, f.pos(), limit))))
+    return counts
+
+
+def _write_merged(fh, files, head_rows: int):
+    """The merge's rounds: emit, order and append rows until every file is read.
+
+    Returns (rows written, and the (part, position) arrays of the first ``head_rows``)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    head_part, head_pos, n_done = [], [], 0
+    while True:
+        for f in files:
+            f.refill()
+        live = [f for f in files if not f.empty]
+        if not live:
+            return n_done, head_part, head_pos
+        counts = _emit_counts(live)
+        pieces = [(f.index, f.take(n)) for f, n in zip(live, counts) if n > 0]
+        code = np.concatenate([t[0][0] for _, t in pieces])
+        neg = np.concatenate([t[0][1] for _, t in pieces])
+        ids = np.concatenate([t[0][2] for _, t in pieces])
+        part = np.concatenate([np.full(len(t[1]), i, np.int64) for i, t in pieces])
+        pos = np.concatenate([t[1] for _, t in pieces])
+        order = merge_order(code, neg, ids, part, pos)
+        lines = pa.concat_arrays([t[2] for _, t in pieces]).take(pa.array(order))
+        ranks = pa.array(np.arange(n_done + 1, n_done + len(order) + 1).astype(str),
+                         type=pa.large_string())
+        fh.write(_array_bytes(pc.binary_join_element_wise(
+            ranks, lines, pa.scalar(",", pa.large_string()))))
+        if n_done < head_rows:
+            take = order[:head_rows - n_done]
+            head_part.append(part[take])
+            head_pos.append(pos[take])
+        n_done += len(order)
 
 
 @contextmanager

@@ -6,7 +6,7 @@ import re
 import pytest
 
 from conftest import ARTIFACTS, ROOT
-from engine.screening import core as screening
+from engine import screening
 from engine.io import sitefile
 
 pytestmark = [pytest.mark.browser, pytest.mark.slow]

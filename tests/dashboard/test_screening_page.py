@@ -17,7 +17,7 @@ import pytest
 from streamlit.testing.v1 import AppTest
 
 from engine.chain import pipeline
-from engine.screening import core as screening
+from engine import screening
 from engine.io import sitefile
 
 ROOT = Path(__file__).resolve().parents[2]

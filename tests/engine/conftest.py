@@ -3,7 +3,7 @@ from pathlib import Path
 
 import pytest
 
-from engine.screening import core as screening
+from engine import screening
 from engine.io import sitefile
 
 ROOT = Path(__file__).resolve().parents[2]

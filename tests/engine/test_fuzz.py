@@ -81,7 +81,7 @@ def parse_climate(data: bytes, tmp_path):
 
 
 def parse_buildings(data: bytes, tmp_path):
-    screening = pytest.importorskip("engine.screening.core")
+    screening = pytest.importorskip("engine.screening")
     path = tmp_path / "buildings.csv"
     path.write_bytes(data)
     ctx = screening.context_from_assessment(sitefile.load(DEMO))

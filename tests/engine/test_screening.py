@@ -14,7 +14,8 @@ from scipy import integrate
 from engine import cli
 from engine.core import model
 from engine.chain import pipeline
-from engine.screening import core as screening
+from engine import screening
+from engine.report import screening_charts
 from engine.io import sitefile
 from engine.core.errors import InputError
 
@@ -35,7 +36,12 @@ def _compare_with_detailed(result, ctx, picks):
         row = result.table.iloc[i]
         ev = pipeline.evaluate(screening.assessment_for_building(row, ctx))
         det = ev.table.set_index("turbine_id")
+        side = min(row["length_m"], row["width_m"])
         for t in ctx.turbines:
+            if not t.rotor_diameter_m <= ctx.settings.max_rotor_to_roof_side * side + 1e-9:
+                # A rotor the roof cannot carry is not screened there.
+                assert math.isnan(row[f"aep_kwh_{t.id}"])
+                continue
             # Same functions, same inputs: equal to floating-point rounding.
             assert row[f"aep_kwh_{t.id}"] == pytest.approx(det.loc[t.id, "aep_kwh"], rel=1e-12)
             assert row[f"capacity_factor_{t.id}"] == pytest.approx(
@@ -67,10 +73,17 @@ def test_screening_equals_detailed_with_other_transfer(ctx, transfer):
 
 
 def test_mast_clears_turbulence_zone_with_largest_rotor(ctx, sample_result):
-    """The chosen mast keeps the largest rotor's lowest tip above the zone's top at the hub."""
+    """The chosen mast keeps the largest carried rotor's lowest tip above the zone's top at
+    the hub (every rotor's, with the roof's limits off)."""
     t = sample_result.table
+    for tb in ctx.turbines:
+        on = np.isfinite(t[f"aep_kwh_{tb.id}"])
+        assert np.all((t["mast_height_m"] - tb.rotor_radius_m >= t["min_clear_mast_m"] - 1e-9)
+                      [on])
     r = max(x.rotor_radius_m for x in ctx.turbines)
-    assert np.all(t["mast_height_m"] - r >= t["min_clear_mast_m"] - 1e-9)
+    c2 = replace(ctx, settings=screening.ScreeningSettings.without_limits())
+    t2 = screening.screen_local(SAMPLE, c2).table
+    assert np.all(t2["mast_height_m"] - r >= t2["min_clear_mast_m"] - 1e-9)
     assert np.all(t["mast_height_m"] >= 0.5)  # Position model: mast at least 0.5 m
 
 
@@ -78,10 +91,12 @@ def test_results_bounded_by_physics(ctx, sample_result):
     """Energy never exceeds rated power all year; speeds and fractions stay physical."""
     t = sample_result.table
     for tb in ctx.turbines:
-        # Common practice: AEP <= 8760 h x rated power; capacity factor in [0, 1].
-        assert np.all(t[f"aep_kwh_{tb.id}"] >= 0)
-        assert np.all(t[f"aep_kwh_{tb.id}"] <= 8760 * tb.rated_power_w / 1000)
-        assert np.all((t[f"capacity_factor_{tb.id}"] >= 0) & (t[f"capacity_factor_{tb.id}"] <= 1))
+        # Common practice: AEP <= 8760 h x rated power; capacity factor in [0, 1]. NaN only
+        # where the roof cannot carry the rotor (tested below).
+        aep = t[f"aep_kwh_{tb.id}"].dropna()
+        cf = t[f"capacity_factor_{tb.id}"].dropna()
+        assert len(aep) and np.all(aep >= 0) and np.all(aep <= 8760 * tb.rated_power_w / 1000)
+        assert np.all((cf >= 0) & (cf <= 1))
     assert np.all(t["mean_speed_ms"] >= 0)
     assert np.all((t["plan_area_fraction"] > 0) & (t["plan_area_fraction"] < 1))
     # Macdonald et al. (1998): 0 <= d < H and z0 > 0.
@@ -100,10 +115,12 @@ def test_ranking_by_class_then_yield(sample_result):
     assert all(r for r in t["reasons"])
 
 
-def test_classes_follow_capacity_factor_thresholds(ctx, sample_result):
-    """Class boundaries sit at the field-trial capacity factors of the settings (3, 5, 10 %)."""
-    t = sample_result.table
-    st = ctx.settings
+def test_classes_follow_capacity_factor_thresholds(ctx):
+    """Class boundaries sit at the field-trial capacity factors of the settings (3, 5, 10 %),
+    with the roof's own limits switched off."""
+    c2 = replace(ctx, settings=screening.ScreeningSettings.without_limits())
+    t = screening.screen_local(SAMPLE, c2).table
+    st = c2.settings
     # Energy Saving Trust (2009) best urban < 3 %; rural ~5 %; Warwick (2009) 4.15 %.
     assert (st.cf_unsuitable_below, st.cf_marginal_below) == (0.03, 0.05)
     ok = t["mast_height_m"] <= ctx.ranking.max_mast_height_m
@@ -111,7 +128,48 @@ def test_classes_follow_capacity_factor_thresholds(ctx, sample_result):
     assert np.all(t.loc[ok & (cf < 0.03), "suitability"] == "unsuitable")
     assert np.all(t.loc[ok & (cf >= 0.03) & (cf < 0.05), "suitability"] == "marginal")
     assert np.all(t.loc[ok & (cf >= 0.05) & (cf < 0.10), "suitability"] == "worth a visit")
-    assert np.all(t.loc[ok & (cf >= 0.10), "suitability"] == "promising")
+    assert np.all(t.loc[ok & (cf >= 0.10), "suitability"] == "exceptional: measure first")
+    assert np.all(t.loc[ok & (cf >= 0.10), "reasons"].str.contains("measure on the roof"))
+
+
+def test_slow_wind_is_unsuitable_whatever_the_capacity_factor(ctx, sample_result):
+    """Below the mean hub speed floor (4 m/s: US DOE/NREL small-wind consumer guide, from
+    memory) a roof is unsuitable, with the reason, even when its capacity factor is high."""
+    t = sample_result.table
+    assert ctx.settings.min_mean_speed_ms == 4.0
+    slow = t["mean_speed_ms"] < 4.0
+    assert slow.any() and (t.loc[slow, "best_capacity_factor"] >= 0.05).any()
+    assert np.all(t.loc[slow, "suitability"] == "unsuitable")
+    assert np.all(t.loc[slow, "reasons"].str.contains("mean hub speed below 4 m/s"))
+    assert not t.loc[~slow, "reasons"].str.contains("mean hub speed below").any()
+
+
+def test_turbine_limited_to_what_the_roof_carries(ctx, sample_result):
+    """A rotor wider than half the roof's smaller side is not screened there; the mast is
+    chosen for the largest rotor the roof carries; a mast over half the building's height
+    makes the roof unsuitable (derived, conservative settings)."""
+    t = sample_result.table
+    st = ctx.settings
+    assert (st.max_rotor_to_roof_side, st.max_mast_to_building_height) == (0.5, 0.5)
+    side = np.minimum(t["length_m"], t["width_m"]).to_numpy()
+    radius = {tb.id: tb.rotor_radius_m for tb in ctx.turbines}
+    carried_r = np.zeros(len(t))
+    for tb in ctx.turbines:
+        fits = tb.rotor_diameter_m <= 0.5 * side + 1e-9
+        assert np.array_equal(np.isnan(t[f"aep_kwh_{tb.id}"].to_numpy()), ~fits)
+        carried_r = np.where(fits, np.maximum(carried_r, tb.rotor_radius_m), carried_r)
+    assert (carried_r < max(radius.values())).any()  # some roofs carry only the smaller rotors
+    has = carried_r > 0
+    best_r = t["best_turbine_id"].map(radius).to_numpy()
+    assert np.all(best_r[has] <= carried_r[has])
+    # The hub clears the zone with the largest carried rotor (rounded up to 0.1 m, >= 0.5 m).
+    need = t["min_clear_mast_m"].to_numpy() + carried_r
+    assert np.all(t["mast_height_m"].to_numpy()[has] >= np.maximum(need, 0.5)[has] - 1e-9)
+    assert np.all(t["mast_height_m"].to_numpy()[has] < np.maximum(need, 0.5)[has] + 0.1 + 1e-9)
+    tall = t["mast_height_m"] > 0.5 * t["height_m"] + 1e-9
+    assert tall.any()
+    assert np.all(t.loc[tall, "suitability"] == "unsuitable")
+    assert np.all(t.loc[tall, "reasons"].str.contains("mast taller than 0.5 x the building"))
 
 
 def test_frontal_area_mean_is_cauchy_mean_projection():
@@ -155,12 +213,13 @@ def test_neighbourhood_matches_brute_force_and_any_split():
     parts = [screening.cell_sums(*(d[c].iloc[a:b] for c in ("x_m", "y_m", "length_m", "width_m",
                                                                 "height_m")))
              for a, b in ((0, 1000), (1000, 1001), (1001, 3000))]
-    old = screening.MAX_BAND_CELLS
+    from engine.screening import neighbourhood
+    old = neighbourhood.MAX_BAND_CELLS
     try:
-        screening.MAX_BAND_CELLS = 400  # force many bands
+        neighbourhood.MAX_BAND_CELLS = 400  # force many bands
         nb2 = screening.neighbourhood_lookup(screening.combine_cell_sums(parts))
     finally:
-        screening.MAX_BAND_CELLS = old
+        neighbourhood.MAX_BAND_CELLS = old
     assert all(np.array_equal(a, b) for a, b in zip(nb2.at(d.x_m, d.y_m), (lp, lf, hm)))
 
 
@@ -345,9 +404,9 @@ def test_local_and_dask_identical_on_ten_thousand(ctx, dask_client, tmp_path):
 def test_plan_chart_colours_by_class_and_thins_lower_classes(sample_result):
     """The plan chart colours points by class and keeps every point of the two best classes."""
     table = sample_result.table
-    spec = screening.plan_scatter_chart(table).to_dict()
+    spec = screening_charts.plan_scatter_chart(table).to_dict()
     assert spec["encoding"]["color"]["scale"]["domain"] == list(screening.CLASSES)
-    pts = screening.plan_points(table, max_points=300)
+    pts = screening_charts.plan_points(table, max_points=300)
     assert len(pts) == min(300, len(table))
     n_top = int((table["suitability_code"] <= 1).sum())
     assert int((pts["suitability_code"] <= 1).sum()) == min(n_top, 300)
