@@ -36,6 +36,11 @@ from engine.screening import table as table_layout
 from engine.screening.table import MAX_LISTED_ROWS, table_parts
 
 
+#: Rows the local engine's merge buffers over all sorted parts (about 1.5 kB each while
+#: held): the memory ceiling of the merge, whatever the table's length.
+LOCAL_MERGE_ROWS = 32_768
+
+
 def screen_local(source, ctx: ScreeningContext, progress=None, part_bytes: int = None,
                  part_rows: int = None, out_csv=None) -> ScreeningResult:
     """Screen a buildings table with pandas/numpy in this process.
@@ -161,7 +166,7 @@ def _spill_and_merge(parts, ctx, nb, rejected, origin, out_csv: Path, tell) -> p
     merge the sorted files into it; returns the first 1000 ranked rows."""
     zones = ctx.zones()
     with spill_dir(out_csv) as spill:
-        block = block_rows_for(len(parts))
+        block = block_rows_for(len(parts), LOCAL_MERGE_ROWS)
         paths = []
         for i, p in enumerate(parts):
             table = screen_part(read_check(p, zones, origin), ctx, nb, rejected)

@@ -101,6 +101,8 @@ def _arrow_schema(table: pd.DataFrame):
     return pa.schema(fields)
 
 
+#: Rows formatted as CSV text at once when a part is spilled.
+CSV_TEXT_ROWS = 16_384
 #: Column of a sorted part file holding each row's CSV text (after ``rank``, with its line end).
 LINE_COLUMN = "_csv_line"
 
@@ -117,7 +119,10 @@ def csv_lines(frame: pd.DataFrame):
     """
     import pyarrow as pa
 
-    text = _csv_text(frame, header=False).encode("utf-8")
+    # Formatted in slices: the formatter's per-cell strings of a whole part would cost several
+    # times the text itself (the same text: each row is formatted on its own).
+    text = b"".join(_csv_text(frame.iloc[a:a + CSV_TEXT_ROWS], header=False).encode("utf-8")
+                    for a in range(0, len(frame), CSV_TEXT_ROWS))
     b = np.frombuffer(text, dtype=np.uint8)
     nl = np.flatnonzero(b == 10)
     quotes_before = np.searchsorted(np.flatnonzero(b == 34), nl)  # no per-byte count array

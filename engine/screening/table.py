@@ -54,7 +54,7 @@ MAX_LISTED_ROWS = 200
 #: Most columns a buildings table may have (it uses a few dozen at most).
 MAX_COLUMNS = 1000
 #: Target size of one part of a CSV file [bytes] (a Dask partition, or a step of the local loop).
-PART_BYTES = 8 * 1024 * 1024
+PART_BYTES = 4 * 1024 * 1024
 #: Rows per part of an in-memory table.
 PART_ROWS = 250_000
 
