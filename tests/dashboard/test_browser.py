@@ -134,7 +134,7 @@ def test_screen_the_demo_district_and_open_the_top_building(page, dashboard_url)
     expect(metrics).to_have_count(5)
     expect(metrics.first).to_contain_text("Screened, of 1,000 rows")
     expect(metrics.first.get_by_test_id("stMetricValue")).to_have_text("1,000")
-    for name in ("Promising", "Worth a visit", "Marginal", "Unsuitable"):
+    for name in ("Exceptional: measure first", "Worth a visit", "Marginal", "Unsuitable"):
         expect(metrics.filter(has_text=name).first).to_be_visible()
     expect(page.get_by_role("heading", name="Shortlist")).to_be_visible()
     expect(page.get_by_test_id("stDataFrame")).to_be_visible()
