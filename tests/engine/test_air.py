@@ -23,7 +23,7 @@ def test_barometric_formula_other_altitude():
     p = 101325.0 * (1 - 0.0065 * 500 / 288.15) ** 5.2559  # ISO 2533 eq., hand evaluation
     rho = p / (287.05 * 283.15)
     assert air.air_density_kgm3(500.0, 10.0) == pytest.approx(rho, rel=1e-12)
-    assert rho == pytest.approx(1.1745, abs=5e-4)  # REFERENCES.md, derived
+    assert rho == pytest.approx(1.1745, abs=5e-4)  # ISO 2533 barometric formula, derived by hand
 
 
 def test_measured_pressure_overrides_isa():

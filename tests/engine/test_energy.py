@@ -130,7 +130,7 @@ def test_density_variants_agree_in_cubic_region():
 
 
 def test_turbulence_average_of_cube_is_exact():
-    """E[(V + X)³] = V³ (1 + 3 I²) for X ~ N(0, (I V)²) (REFERENCES.md, IEC 61400-12-1 annex idea)."""
+    """E[(V + X)³] = V³ (1 + 3 I²) for X ~ N(0, (I V)²) (Gaussian moments; IEC 61400-12-1 annex idea, from memory)."""
     v = np.array([3.0, 7.0, 12.0])
     for ti in (0.0, 0.1, 0.3, 0.6):
         got = energy.gaussian_average(lambda x: x ** 3, v, ti * v)

@@ -41,7 +41,7 @@ def test_transfer_to_rougher_site_follows_en1991_terrain_factor():
     a = open_field(z0=0.05, mast_m=20.0)
     a = dataclasses.replace(a, site=dataclasses.replace(a.site, terrain_roughness_m=1.0))
     ev = pipeline.evaluate(a)
-    # REFERENCES.md (derived from EN 1991-1-4 eq. 4.4/4.5): v_m(IV, 20 m)/v_m(II, 10 m) = 0.697
+    # (derived by hand from EN 1991-1-4 eq. 4.4/4.5): v_m(IV, 20 m)/v_m(II, 10 m) = 0.697
     assert ev.climate.free_c_ms[0, 0] / 6.0 == pytest.approx(0.697, abs=5e-4)
 
 

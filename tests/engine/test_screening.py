@@ -234,7 +234,7 @@ def test_given_fractions_use_macdonald():
     # Macdonald, Griffiths & Hall (1998), A = 4.43, beta = 1, C_D = 1.2, kappa = 0.4 (recomputed).
     d_h = 1 + 4.43 ** -0.2 * (0.2 - 1)
     z0_h = (1 - d_h) * math.exp(-(0.5 * 1.0 * 1.2 / 0.16 * (1 - d_h) * 0.2) ** -0.5)
-    assert d_h == pytest.approx(0.4060, abs=5e-5)  # REFERENCES.md, derived
+    assert d_h == pytest.approx(0.4060, abs=5e-5)  # derived by hand
     assert sur["displacement_m"][0] == pytest.approx(10 * d_h, rel=1e-12)
     assert sur["roughness_m"][0] == pytest.approx(10 * z0_h, rel=1e-12)
 

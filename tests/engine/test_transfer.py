@@ -21,7 +21,7 @@ def _clim(h=10.0, z0=0.05, k=2.0, c=6.0):
 
 def test_macdonald_derived_values():
     """Staggered arrays: λ 0.2 → d/H 0.4060, z0/H 0.1328; λ 0.5 → 0.7624, 0.0531."""
-    # Macdonald, Griffiths & Hall 1998 eqs. with A 4.43, β 1.0, C_D 1.2 (REFERENCES.md, derived)
+    # Macdonald, Griffiths & Hall 1998 eqs. with A 4.43, β 1.0, C_D 1.2 (derived by hand)
     z0, d = transfer.macdonald_roughness(0.2, 0.2, 1.0)
     assert d == pytest.approx(0.4060, abs=1e-4) and z0 == pytest.approx(0.1328, abs=1e-4)
     z0, d = transfer.macdonald_roughness(0.5, 0.5, 10.0)

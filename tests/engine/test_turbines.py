@@ -168,8 +168,8 @@ def test_imported_curve_on_a_turbine_is_checked_again():
 
 
 def test_power_coefficient_hand_value():
-    """C_P of 1140 W at 10 m/s on a 2 m rotor is 16/27 (REFERENCES.md derived Betz power)."""
+    """C_P of 1140 W at 10 m/s on a 2 m rotor is 16/27 (derived by hand Betz power)."""
     area = math.pi
-    betz_w = 0.5 * 1.225 * area * 1000.0 * 16.0 / 27.0  # = 1140.1 W (REFERENCES.md, derived)
+    betz_w = 0.5 * 1.225 * area * 1000.0 * 16.0 / 27.0  # = 1140.1 W (derived by hand)
     assert betz_w == pytest.approx(1140.0, abs=0.5)
     assert turbines.power_coefficient([10.0], [betz_w], area)[0] == pytest.approx(16.0 / 27.0)

@@ -10,7 +10,7 @@ from engine.climate import weibull
 
 def test_mean_and_power_density_closed_forms():
     """Mean c Γ(1+1/k) and power density ½ρc³Γ(1+3/k) for k 2, c 6."""
-    # Closed forms with math.gamma (Justus et al. 1978); REFERENCES.md derived 5.3174 m/s, 175.87 W/m²
+    # Closed forms with math.gamma (Justus et al. 1978); derived by hand 5.3174 m/s, 175.87 W/m²
     assert weibull.weibull_mean_ms(2.0, 6.0) == pytest.approx(6 * math.gamma(1.5), rel=1e-12)
     assert weibull.weibull_mean_ms(2.0, 6.0) == pytest.approx(5.3174, abs=1e-4)
     pd_ = weibull.weibull_power_density_wm2(2.0, 6.0, 1.225)
@@ -36,7 +36,7 @@ def test_rayleigh_energy_pattern_factor():
     c = weibull.weibull_scale_from_mean(5.0, 2.0)
     epf = weibull.weibull_power_density_wm2(2.0, c, 2.0) / 5.0 ** 3
     assert epf == pytest.approx(6 / math.pi, rel=1e-12)
-    # Rayleigh mean 5 m/s at 1.225 kg/m³ -> 146.2 W/m² (REFERENCES.md, derived)
+    # Rayleigh mean 5 m/s at 1.225 kg/m³ -> 146.2 W/m² (derived by hand)
     assert weibull.weibull_power_density_wm2(2.0, c) == pytest.approx(146.2, abs=0.05)
 
 
