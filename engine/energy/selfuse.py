@@ -211,6 +211,10 @@ def self_consumed_kwh(generation_kwh, load_kwh, block_rows=256):
 TABLE_STEP_MS = 0.01
 
 
+MIN_HOURLY_SUM_W = 1e-6
+"""Below this sum of hourly power [W] a row's series is taken as no generation."""
+
+
 def _used_on_site(mean_speed_ms, unit, net, curve_speed_ms, curve_power_w, load, scratch):
     """Sum over hours of min(G_t, L_t) for one turbine at P positions [kWh/year], (P,).
 
@@ -230,8 +234,10 @@ def _used_on_site(mean_speed_ms, unit, net, curve_speed_ms, curve_power_w, load,
     np.copyto(i, v, casting="unsafe")  # floor (v >= 0)
     np.take(table, i, out=p0)  # power in each hour [W]
     total = p0.sum(axis=1, dtype=float)
-    p0 *= np.divide(net, total, out=np.zeros_like(total), where=total > 0)[:, None].astype(
-        p0.dtype)
+    # A curve that reads below a microwatt in every hour makes nothing to use on site; the
+    # floor also keeps net / total inside float32 (a 1e-44 W curve knot once overflowed it).
+    p0 *= np.divide(net, total, out=np.zeros_like(total), where=total > MIN_HOURLY_SUM_W)[
+        :, None].astype(p0.dtype)
     np.minimum(p0, load.astype(p0.dtype)[None, :], out=p0)
     return p0.sum(axis=1, dtype=float)
 

@@ -1,4 +1,6 @@
 """Self-consumption from hourly generation against an hourly load."""
+import warnings
+
 import numpy as np
 import pytest
 
@@ -106,3 +108,20 @@ def test_fast_path_equals_the_reference_composition():
     gen = selfuse.generation_shares(mean, unit, tur.curve_speed_ms, tur.curve_power_w) * net
     ref = selfuse.self_consumed_kwh(gen, selfuse.typical_load_kwh("office", 5000.0)) / net[:, 0]
     assert fast[:, 0] == pytest.approx(ref, abs=1e-4)
+
+
+def test_a_curve_of_next_to_no_power_uses_nothing_and_does_not_overflow():
+    """A curve knot of 2.6e-44 W (a case the property search found) once made net / total
+    overflow single precision. Below a microwatt in every hour nothing is used on site, and
+    no warning is raised (warnings are errors here)."""
+    tur = model.Turbine(id="t", name="t", axis="horizontal", rated_power_w=100.0,
+                        curve_speed_ms=(0.0, 4.8e-15, 9.0, 10.0),
+                        curve_power_w=(0.0, 0.0, 2.6e-44, 100.0),
+                        cut_in_ms=0.0, rated_speed_ms=1.0, cut_out_ms=10.0,
+                        rotor_diameter_m=1.0)
+    e = model.Economics(load_profile="household", annual_load_kwh=3500.0)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        s = selfuse.self_consumed_share([0.18], [0.5], np.array([[0.007]]), [tur], e)
+    assert np.all(np.isfinite(s)) and np.all((s >= 0) & (s <= 1))
+
