@@ -190,6 +190,10 @@ class ConsentSettings:
     boundary_y_m: tuple[float, ...] = ()
     #: Natural frequency range of the supporting structure [Hz], where the user knows it.
     structure_frequency_hz: tuple[float, ...] = ()
+    #: One-sigma power-curve energy uncertainty for a turbine without certified test data
+    #: (wider than a tested curve; 0.15 is an assumed value, from memory of field trials of
+    #: small turbines that fell short of their makers' curves).
+    uncertified_curve_uncertainty: float = 0.15
 
     def __post_init__(self):
         p = Problems()
@@ -208,6 +212,7 @@ class ConsentSettings:
                                             f"{len(self.structure_frequency_hz)} values")
         for i, v in enumerate(self.structure_frequency_hz):
             check_range(p, f"structure_frequency_hz[{i}]", v, 0, 1000, "Hz", lo_open=True)
+        check_range(p, "uncertified_curve_uncertainty", self.uncertified_curve_uncertainty, 0, 1)
         p.raise_if_any()
 
 
@@ -231,6 +236,11 @@ def turbine_problems(t) -> Problems:
     check_range(p, "declared_sound_power_db", t.declared_sound_power_db, 0, 130, "dB(A)")
     _check_curve(p, "sound_power_speed_ms", t.sound_power_speed_ms, "sound_power_by_speed_db",
                  t.sound_power_by_speed_db, 30, 130)
+    if len(t.rotor_speed_rpm) not in (0, 2):
+        p.add("rotor_speed_rpm", f"must be empty or [lowest, highest] in rpm, got "
+                                 f"{len(t.rotor_speed_rpm)} values")
+    for i, v in enumerate(t.rotor_speed_rpm):
+        check_range(p, f"rotor_speed_rpm[{i}]", v, 0, 5000, "rpm", lo_open=True)
     if t.certified and not (t.test_standard.strip() and t.test_body.strip()):
         p.add("test_standard", "a certified turbine must name its test standard and test_body "
                                "(e.g. IEC 61400-2 and the certifying body)")

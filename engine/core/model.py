@@ -269,6 +269,8 @@ class Turbine:
     declared_sound_power_db: float = 0.0
     sound_power_speed_ms: tuple[float, ...] = ()
     sound_power_by_speed_db: tuple[float, ...] = ()
+    #: Rotor speed range [rpm] as (lowest, highest) in operation, where known (vibration).
+    rotor_speed_rpm: tuple[float, ...] = ()
 
     def __post_init__(self):
         p = Problems()
