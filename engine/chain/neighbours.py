@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
+import pandas as pd
 
 from engine.chain import rules
 from engine.energy import flicker, noise_bands, uncertainty
@@ -140,3 +141,56 @@ def consent_columns(assessment, eff, table) -> dict:
     out["vibration_caution"] = list(np.tile([vibration_text(t, structure)
                                              for t in assessment.turbines], P))
     return out
+
+
+def _indices(evaluation, position_id, turbine_id):
+    a = evaluation.assessment
+    p = [q.id for q in a.positions].index(position_id)
+    t = [q.id for q in a.turbines].index(turbine_id)
+    return p, t
+
+
+def noise_speed_table(evaluation, position_id, turbine_id):
+    """Per receptor and hub-speed bin: hours, turbine level, background, criterion, margin.
+
+    Long format for the summary's receptor table and the level-vs-background chart.
+    """
+    a = evaluation.assessment
+    p, t = _indices(evaluation, position_id, turbine_id)
+    res = noise_result(a, evaluation.climate)
+    rows = []
+    for r, rec in enumerate(a.receptors):
+        lv = res.level_db[p, t, r]
+        rows.append(pd.DataFrame({
+            "receptor_id": rec.id, "speed_ms": res.speeds_ms, "hours": res.hours[p],
+            "turbine_db": np.where(np.isfinite(lv), lv, np.nan),
+            "background_db": res.background_db[r], "limit_db": res.limit_db[r],
+            "margin_db": np.where(np.isfinite(res.margin_db[p, t, r]), res.margin_db[p, t, r],
+                                  np.nan),
+            "over_limit": res.over[p, t, r]}))
+    cols = ["receptor_id", "speed_ms", "hours", "turbine_db", "background_db", "limit_db",
+            "margin_db", "over_limit"]
+    return pd.concat(rows, ignore_index=True) if rows else pd.DataFrame(columns=cols)
+
+
+def flicker_day_table(evaluation, position_id, turbine_id):
+    """Worst-case flicker minutes per day of year at each window (long format); empty
+    without windows or a site location."""
+    fl = flicker_result(evaluation.assessment, evaluation.climate)
+    if fl is None:
+        return pd.DataFrame(columns=["window_id", "day_of_year", "minutes"])
+    p, t = _indices(evaluation, position_id, turbine_id)
+    W = len(fl.window_ids)
+    return pd.DataFrame({"window_id": np.repeat(fl.window_ids, 366),
+                         "day_of_year": np.tile(np.arange(1, 367), W),
+                         "minutes": fl.daily_minutes[p, t].ravel()})
+
+
+def rule_table(evaluation, position_id, turbine_id):
+    """One row per chosen rule: id, kind, limit, result text for one position x turbine."""
+    tab = evaluation.table
+    row = tab[(tab["position_id"] == position_id) & (tab["turbine_id"] == turbine_id)].iloc[0]
+    return pd.DataFrame([{"rule_id": r.id, "kind": r.kind, "limit": r.limit, "note": r.note,
+                          "result": row["rule_results"].get(r.id, "")}
+                         for r in evaluation.assessment.consent.rules],
+                        columns=["rule_id", "kind", "limit", "note", "result"])
