@@ -146,7 +146,6 @@ def rule_columns(assessment) -> dict:
         value = metrics[rule.kind].ravel()
         is_max = "_max_" in rule.kind
         ok = value <= rule.limit + 1e-9 if is_max else value >= rule.limit - 1e-9
-        sign = "<=" if is_max else ">="
         missing = _why_missing(rule.kind, assessment)
         for i, v in enumerate(value):  # one short text per row and rule
             if not np.isfinite(v):
@@ -154,5 +153,5 @@ def rule_columns(assessment) -> dict:
                 continue
             state = "met" if ok[i] else "broken"
             (met if ok[i] else broken)[i].append(rule.id)
-            results[i][rule.id] = f"{state}: {v:.2f} {sign} {rule.limit:g} ({RULE_KINDS[rule.kind]})"
+            results[i][rule.id] = f"{state}: {v:.2f}; {RULE_KINDS[rule.kind]} {rule.limit:g}"
     return {"rules_met": met, "rules_broken": broken, "rule_results": results}

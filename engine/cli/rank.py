@@ -3,10 +3,11 @@ from __future__ import annotations
 
 import json
 import sys
+from dataclasses import replace
 
 import pandas as pd
 
-from engine.chain import pipeline
+from engine.chain import pipeline, rules
 from engine.chain.documents import rank_document
 from engine.io import sitefile
 
@@ -21,7 +22,12 @@ def _table_text(table: pd.DataFrame) -> str:
 
 
 def cmd_rank(args) -> int:
-    ev = pipeline.evaluate(sitefile.load(args.site))
+    assessment = sitefile.load(args.site)
+    if getattr(args, "rules", None):
+        name, _, chosen = rules.load_rule_set(args.rules)
+        assessment = replace(assessment, consent=replace(assessment.consent, rules=chosen,
+                                                         rule_set_name=name))
+    ev = pipeline.evaluate(assessment)
     if args.format == "json":
         print(json.dumps(rank_document(ev), indent=2, ensure_ascii=False))
     elif args.format == "csv":
@@ -41,6 +47,7 @@ def register_rank(sub):
     p = sub.add_parser("rank", help="rank candidate positions x turbines for a site file")
     p.add_argument("site", help="site file (JSON)")
     p.add_argument("--format", choices=("table", "json", "csv"), default="table")
+    p.add_argument("--rules", help="local rule-set file (JSON) replacing the site file's rules")
     p.set_defaults(func=cmd_rank)
 
 

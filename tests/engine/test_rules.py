@@ -117,3 +117,24 @@ def test_vibration_caution_defers_to_structural_engineer():
     assert est
     text = neighbours.vibration_text(t, (5.0, 8.0))
     assert "OVERLAPS" in text and "structural engineer" in text
+
+
+DEMO = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
+
+
+def test_cli_rank_with_rules(tmp_path, capsys):
+    """``rank --rules`` shows met/broken per position in the JSON; a broken rule file exits 2
+    with a message naming the rule."""
+    from engine.cli import main
+    assert main(["rank", str(DEMO), "--rules", str(EXAMPLE), "--format", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    row = doc["positions"][0]
+    assert set(row["rule_results"]) == {r.id for r in rules.load_rule_set(EXAMPLE)[2]}
+    assert all(v.split(":")[0] in ("met", "broken") or v.startswith("not ")
+               for v in row["rule_results"].values())
+    assert "permitted" not in json.dumps(doc)
+    bad = tmp_path / "bad.json"
+    bad.write_text(json.dumps({"rules": [{"id": "area", "kind": "swept_area_max_m2",
+                                          "limit": "big"}]}), encoding="utf-8")
+    assert main(["rank", str(DEMO), "--rules", str(bad)]) == 2
+    assert "rules[0] (area).limit" in capsys.readouterr().err
