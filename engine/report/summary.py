@@ -199,6 +199,11 @@ COLUMN_FORMATS = {
     "noise_exceeds_limit": ("Noise over limit", fmt_value),
     "noise_db_at_receptors": ("Noise at receptors [dB(A)]", lambda v: "; ".join(
         f"{k} {fmt_fixed(x, 1)}" for k, x in v.items()) if v else DASH),
+    "noise_hours_over_limit": ("Noise over criterion [h/yr]", lambda v: fmt_fixed(v, 0)),
+    "flicker_worst_hours": ("Flicker, worst case [h/yr]", lambda v: fmt_fixed(v, 1)),
+    "flicker_expected_hours": ("Flicker, expected [h/yr]", lambda v: fmt_fixed(v, 1)),
+    "rules_broken": ("Chosen rules broken", lambda v: ", ".join(v) if v else "none"),
+    "certification": ("Power-curve certification", str),
     "in_recirculation_zone": ("In recirculation zone", fmt_value),
     "in_turbulence_zone": ("In high-turbulence zone", fmt_value),
     "in_roof_wake": ("In roof wake", fmt_value),
