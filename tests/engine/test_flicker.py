@@ -107,3 +107,30 @@ def test_columns_flag_limits(result):
         expected_hours_per_year_limit=1e3))
     assert tight["flicker_over_limit"][0] and not loose["flicker_over_limit"][0]
     assert tight["flicker_worst_window"] == ["w"]
+
+
+def test_vertical_axis_rotor_is_a_cylinder():
+    """A vertical-axis rotor (diameter 3 m, height 3 m) seen from the window: worst and
+    expected cases share the geometry (no yaw), so expected = worst x sunshine x operating
+    share; and its shadow hours are bounded by those of a sphere of radius √(1.5² + 1.5²)
+    that contains the cylinder (geometry by hand)."""
+    va = model.Turbine(id="v", name="v", axis="vertical", rated_power_w=1000.0,
+                       curve_speed_ms=(0.0, 3.0, 11.0, 25.0),
+                       curve_power_w=(0.0, 0.0, 1000.0, 1000.0), cut_in_ms=3.0,
+                       rated_speed_ms=11.0, cut_out_ms=25.0, rotor_diameter_m=3.0,
+                       rotor_height_m=3.0)
+    res = flicker.window_flicker(HUB, (WINDOW,), (va,), CLIMATE, SITE, SETTINGS)
+    op = [stats.weibull_min.cdf(25.0, 2.0, scale=c) - stats.weibull_min.cdf(3.0, 2.0, scale=c)
+          for c in (5.0, 6.0, 5.0, 7.0)]
+    share = 0.4 * sum(f * o for f, o in zip((0.2, 0.3, 0.2, 0.3), op))
+    assert res.worst_hours[0, 0, 0] > 0
+    assert res.expected_hours[0, 0, 0] == pytest.approx(res.worst_hours[0, 0, 0] * share, rel=1e-9)
+    times, az, el = flicker.sun_path(LAT, LON, 2025, 5.0, 0.0)
+    keep = el >= 3.0
+    sun = flicker.sun_vectors(az[keep], el[keep])
+    d = np.array([25.0, 0.0, 8.0])
+    dist = np.linalg.norm(d)
+    angle = np.degrees(np.arccos(np.clip(sun @ (d / dist), -1, 1)))
+    sphere_h = np.sum((angle <= np.degrees(np.arcsin(math.hypot(1.5, 1.5) / dist)))
+                      & (sun[:, 0] > 0)) * 5.0 / 60.0
+    assert res.worst_hours[0, 0, 0] <= sphere_h + 1e-9
