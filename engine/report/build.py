@@ -29,7 +29,8 @@ def ranking_limits(a) -> list:
     if rs.require_clear_of_turbulence_zone:
         limits.append("rotors clear of the roofs' high-turbulence zones")
     if rs.apply_noise_limits and a.receptors:
-        limits.append(f"noise within the limits at {len(a.receptors)} receptor(s)")
+        limits.append(f"noise within the criteria at {len(a.receptors)} receptor(s) at every "
+                      f"hub wind speed up to {a.consent.noise.max_assessed_speed_ms:g} m/s")
     if rs.max_thrust_n > 0:
         limits.append(f"extreme thrust up to {rs.max_thrust_n:g} N")
     return limits

@@ -5,6 +5,9 @@ says what to do and who decides (local codes, a structural engineer, licensed in
 """
 from __future__ import annotations
 
+from engine.chain import neighbours, rules
+from engine.energy import flicker, noise_bands
+
 #: (title, text) of every caution, in the order they are shown.
 CAUTIONS = (
     ("Working at height", "Roof and mast work is dangerous. Only trained people with fall "
@@ -19,11 +22,13 @@ CAUTIONS = (
     ("Electrical work", "Connection to the building's wiring or the grid must be "
      "designed, installed and certified by a licensed installer, with the network "
      "operator's consent where the local rules ask for it."),
+    ("Vibration", neighbours.VIBRATION_CAUTION),
     ("Noise for neighbours", "Turbine noise and vibration carry, more so at night. Check the "
      "levels against the local limits at the nearest windows and gardens and talk to "
-     "neighbours before choosing a position."),
+     "neighbours before choosing a position. " + noise_bands.CAUTION),
+    ("Shadow flicker", flicker.CAUTION),
     ("Planning permission", "Most places need planning or building consent for a turbine on "
-     "or near a building. Ask the local planning authority before buying."),
+     "or near a building. Ask the local planning authority before buying. " + rules.CAUTION),
     ("Local codes come first", "Where these figures and a local code, a structural engineer "
      "or a licensed installer disagree, follow the code, the engineer and the installer."),
     ("Yield estimates", "Building-mounted turbines in field trials produced far less than "
@@ -35,8 +40,8 @@ CAUTIONS = (
 #: The one-line reminder shown above the first section of the summary.
 CAUTIONS_SHORT = (
     "Roof and mast work, roof structure, mast loads and electrical connection need a "
-    "structural engineer and licensed installers; check noise for neighbours and planning "
-    "permission; local codes come first (the cautions section lists every caution).",
+    "structural engineer and licensed installers; check noise, shadow flicker and vibration "
+    "for neighbours and planning permission; local codes come first (the cautions section lists every caution).",
 )
 
 
