@@ -11,10 +11,12 @@ wind blows towards them, the sceptical case).
 * ``A_div = 20 lg(d / 1 m) + 11`` geometric divergence;
 * ``A_atm = α d / 1000`` with α [dB/km] from ISO 9613-1 at the set temperature and humidity;
 * ``A_gr`` the general method (ISO 9613-2 section 7.3.1, Table 3) with one ground factor G;
-* ``A_bar`` screening by the site's own buildings: diffraction over the roof only, single or
-  double (ISO 9613-2 section 7.4), the most screening building per path; lateral paths round
-  the building are not counted, so screening by narrow buildings is over-stated: switch it off
-  (``NoiseSettings.building_screening``) to see its effect, shown as ``noise_screening_db``.
+* ``A_bar`` screening by the site's own buildings: diffraction over the roof, single or
+  double, and round the building's vertical edges (ISO 9613-2 section 7.4), the paths added
+  as energies, the most screening building per path. The side paths are lower bounds of the
+  real detours (:func:`engine.energy.noise_paths.lateral_paths`), so screening is never
+  over-credited for a short building; switch it off (``NoiseSettings.building_screening``) to
+  see its effect, shown as ``noise_screening_db``.
 
 Real levels also depend on tonality, amplitude modulation, reflections from facades and the
 turbine's condition; compare with the local authority's criteria and have a qualified
@@ -37,7 +39,7 @@ import numpy as np
 
 from engine.core.consent import (DEFAULT_BACKGROUND_DB, DEFAULT_BACKGROUND_SPEED_MS,
                                  OCTAVE_HZ)
-from engine.energy.noise_paths import barrier_dz_db, building_screening_paths
+from engine.energy.noise_paths import barrier_dz_db, building_screening_paths, lateral_paths
 
 FREQ_HZ = np.asarray(OCTAVE_HZ)
 #: Speed of sound for the wavelength in the barrier term [m/s] (ISO 9613-2 uses 340 m/s).
@@ -243,11 +245,34 @@ def propagation(hub_xyz_m, receptor_xyz_m, buildings, settings) -> Propagation:
         wavelength = SOUND_SPEED_MS / FREQ_HZ
         dz = barrier_dz_db(paths.dss_m[..., None], paths.dsr_m[..., None], paths.e_m[..., None],
                            d[..., None, None], paths.z_m[..., None], wavelength,
-                           paths.double[..., None])                       # (P, R, B, 8)
-        dz = np.where(paths.blocked[..., None], dz, 0.0).max(axis=2)
-        screen = np.maximum(dz - a_gr, 0.0)
+                           paths.double[..., None])                       # (P, R, B, 8) top
+        screen = _screening_db(dz, paths, lateral_paths(h[:, 0, :], r[0], buildings),
+                               d, a_gr, wavelength)
     return Propagation(attenuation_db=a_div + a_atm + a_gr + screen, screening_db=screen,
                        distance_m=d)
+
+
+def _screening_db(dz_top, paths, lateral, d, a_gr, wavelength):
+    """A_bar of the most screening building per band (P, R, 8) [dB], over the top and round
+    the sides together.
+
+    Notes
+    -----
+    Over the top the path loses max(D_z, A_gr) in place of A_gr (eq. 12); round a vertical
+    edge it loses D_z on top of A_gr (eq. 13). The paths add as energies (common practice,
+    from memory): A_bar = -10 lg[10^(-max(D_z,top - A_gr, 0)/10) + Σ_sides 10^(-D_z,side/10)],
+    held between 0 and the over-the-top value alone. The side paths are uncapped: only the
+    sum is capped (by the over-the-top value, itself capped). Where the hub stands on the
+    building (it is inside its footprint) the sound leaves over the roof edge only.
+    """
+    top = np.maximum(dz_top - a_gr[:, :, None, :], 0.0)                     # (P, R, B, 8)
+    side = barrier_dz_db(lateral.dss_m[..., None], lateral.dsr_m[..., None], 0.0,
+                         d[None, ..., None, None], lateral.z_m[..., None], wavelength,
+                         False, cap=False)                                  # (2, P, R, B, 8)
+    own = paths.source_inside[..., None]
+    energy = 10.0 ** (-top / 10.0) + np.where(own, 0.0, np.sum(10.0 ** (-side / 10.0), axis=0))
+    both = np.clip(-10.0 * np.log10(energy), 0.0, top)
+    return np.where(paths.blocked[..., None], both, 0.0).max(axis=2)
 
 
 def speed_bins_ms(settings):

@@ -7,6 +7,12 @@ of the building a turbine stands on) or twice (over both edges of a building bet
 ISO 9613-2 double diffraction with the roof depth ``e``). A building that contains the
 receptor (a window on its own facade) does not screen it.
 
+Sound also bends round the building's vertical edges (ISO 9613-2 section 7.4, eq. 13).
+:func:`lateral_paths` gives, on each side of the line of sight, the path round the corner
+with the shortest detour. That path is never longer than the taut path round the building,
+so its path difference, and the screening it allows, is a lower bound: the sceptical side
+for a neighbour.
+
 References
 ----------
 ISO 9613-2:1996, section 7.4 (screening: path difference z, equations 14, 16, 18).
@@ -32,9 +38,10 @@ class ScreeningPaths:
     dsr_m: np.ndarray    # (last) diffraction edge to receiver
     e_m: np.ndarray      # between the two edges (0 for one edge)
     z_m: np.ndarray      # path difference: dss + e + dsr - d
+    source_inside: np.ndarray  # the hub is inside the building's footprint (on its roof)
 
 
-def barrier_dz_db(dss_m, dsr_m, e_m, d_m, z_m, wavelength_m, double):
+def barrier_dz_db(dss_m, dsr_m, e_m, d_m, z_m, wavelength_m, double, cap=True):
     """Barrier attenuation D_z [dB] of diffraction over a top edge (ISO 9613-2 eq. 14).
 
     Parameters
@@ -45,6 +52,7 @@ def barrier_dz_db(dss_m, dsr_m, e_m, d_m, z_m, wavelength_m, double):
     z_m : path difference [m]
     wavelength_m : λ at the band's nominal mid frequency [m]
     double : True for double diffraction
+    cap : apply the caps (False for one of several paths whose sum is capped instead)
 
     Notes
     -----
@@ -68,7 +76,7 @@ def barrier_dz_db(dss_m, dsr_m, e_m, d_m, z_m, wavelength_m, double):
                                                / (2.0 * np.where(z > 0, z, 1.0))) / 2000.0), 1.0)
     arg = np.maximum(3.0 + 20.0 / lam * c3 * z * kmet, 1e-12)
     dz = 10.0 * np.log10(arg)
-    return np.minimum(dz, np.where(double, DZ_MAX_DOUBLE_DB, DZ_MAX_SINGLE_DB))
+    return np.minimum(dz, np.where(double, DZ_MAX_DOUBLE_DB, DZ_MAX_SINGLE_DB)) if cap else dz
 
 
 def segment_box_interval(p0_xy, p1_xy, buildings):
@@ -139,4 +147,59 @@ def building_screening_paths(hub_xyz_m, receptor_xyz_m, buildings) -> ScreeningP
     dsr = np.where(use2, e2_r, e1_r)
     e = np.where(double, b - a, 0.0)
     z = np.where(blocked, dss + e + dsr - d, 0.0)
-    return ScreeningPaths(blocked=blocked, double=double, dss_m=dss, dsr_m=dsr, e_m=e, z_m=z)
+    return ScreeningPaths(blocked=blocked, double=double, dss_m=dss, dsr_m=dsr, e_m=e, z_m=z,
+                          source_inside=np.broadcast_to(src_in, blocked.shape))
+
+
+@dataclass(frozen=True)
+class LateralPaths:
+    """Paths round the vertical edges of every building, arrays (2 sides, P, R, B)."""
+
+    dss_m: np.ndarray  # source to the corner
+    dsr_m: np.ndarray  # corner to receiver
+    z_m: np.ndarray    # path difference: dss + dsr - d
+
+
+def lateral_paths(hub_xyz_m, receptor_xyz_m, buildings) -> LateralPaths:
+    """Round each building's corners on each side of the line hub -> receptor (P, 3), (R, 3).
+
+    Notes
+    -----
+    For the corners c on one side (sign of the cross product (R - S) x (c - S) on the plan),
+    the shortest plan detour L = min_c (|S c| + |c R|); the taut path round a convex box
+    passes through at least one such corner and is never shorter. The path rises evenly
+    from h_s to h_r, so its length is √(L² + (h_s - h_r)²) and z = that - d. A side without
+    a corner gets z = +inf (no path).
+    """
+    hub = np.asarray(hub_xyz_m, float)[:, None, None, :]      # (P, 1, 1, 3)
+    rec = np.asarray(receptor_xyz_m, float)[None, :, None, :]  # (1, R, 1, 3)
+    cx = np.array([b.x_m for b in buildings], float)
+    cy = np.array([b.y_m for b in buildings], float)
+    th = np.radians([b.orientation_deg for b in buildings])
+    hl = np.array([b.length_m / 2.0 for b in buildings], float)
+    hw = np.array([b.width_m / 2.0 for b in buildings], float)
+    signs = np.array([[1, 1], [1, -1], [-1, 1], [-1, -1]], float)            # (4, 2)
+    ux = signs[:, :1] * hl * np.sin(th) + signs[:, 1:] * hw * np.cos(th)     # (4, B)
+    uy = signs[:, :1] * hl * np.cos(th) - signs[:, 1:] * hw * np.sin(th)
+    corner = np.stack([cx + ux, cy + uy], -1)                                 # (4, B, 2)
+    s_xy, r_xy = hub[..., None, :, :2], rec[..., None, :, :2]                 # (.., 1, 1, 2)
+    c_xy = corner.transpose(1, 0, 2)[None, None]                              # (1, 1, B, 4, 2)
+    leg1 = np.linalg.norm(c_xy - s_xy, axis=-1)
+    leg2 = np.linalg.norm(r_xy - c_xy, axis=-1)                               # (P, R, B, 4)
+    sr, sc = r_xy - s_xy, c_xy - s_xy
+    side = sr[..., 0] * sc[..., 1] - sr[..., 1] * sc[..., 0] >= 0.0
+    plan = np.linalg.norm(r_xy - s_xy, axis=-1)[..., 0]                       # (P, R, 1)
+    dh = (hub[..., 2] - rec[..., 2])                                          # (P, R, 1)
+    d = np.sqrt(plan ** 2 + dh ** 2)
+    out = []
+    for mask in (side, ~side):
+        detour = np.where(mask, leg1 + leg2, np.inf)
+        k = np.argmin(detour, axis=-1)[..., None]
+        best = np.take_along_axis(detour, k, -1)[..., 0]
+        first = np.take_along_axis(leg1, k, -1)[..., 0]
+        with np.errstate(invalid="ignore"):
+            length = np.sqrt(best ** 2 + dh ** 2)
+            share = np.where(np.isfinite(best), first / np.where(best > 0, best, 1.0), 0.5)
+        out.append((share * length, (1.0 - share) * length, length - d))
+    dss, dsr, z = (np.stack(x) for x in zip(*out))
+    return LateralPaths(dss_m=dss, dsr_m=dsr, z_m=np.maximum(z, 0.0))
