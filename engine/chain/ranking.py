@@ -64,7 +64,7 @@ def exclusion_reasons(table: pd.DataFrame, settings) -> list:
             speed = (table["noise_worst_speed_ms"].to_numpy(dtype=float)
                      if "noise_worst_speed_ms" in table else np.full(n, np.nan))
             add(mask, lambda idx: {i: f"noise {-margin[i]:.1f} dB(A) above the limit at "
-                                      f"{worst[i]}" + (f" at {speed[i]:g} m/s hub wind"
+                                      f"{worst[i]}" + (f" at {speed[i]:g} m/s"
                                                        if np.isfinite(speed[i]) else "")
                                    for i in idx})
         else:
