@@ -61,8 +61,12 @@ def exclusion_reasons(table: pd.DataFrame, settings) -> list:
         if {"noise_margin_db", "noise_worst_receptor"} <= set(table.columns):
             margin = table["noise_margin_db"].to_numpy(dtype=float)
             worst = table["noise_worst_receptor"].to_numpy()
+            speed = (table["noise_worst_speed_ms"].to_numpy(dtype=float)
+                     if "noise_worst_speed_ms" in table else np.full(n, np.nan))
             add(mask, lambda idx: {i: f"noise {-margin[i]:.1f} dB(A) above the limit at "
-                                      f"{worst[i]}" for i in idx})
+                                      f"{worst[i]}" + (f" at {speed[i]:g} m/s"
+                                                       if np.isfinite(speed[i]) else "")
+                                   for i in idx})
         else:
             add(mask, "noise above a receptor's limit")
     if settings.max_thrust_n > 0 and "thrust_extreme_n" in table:
