@@ -210,9 +210,65 @@ def complete(step: str) -> bool:
     return not step_problems(step)
 
 
+def steps_needing_attention() -> list:
+    """(key, title) of the input steps with problems; the summary is not a step of its own."""
+    return [(k, t) for k, t, _ in STEPS if k != "summary" and not complete(k)]
+
+
+def status_signature() -> tuple:
+    """Everything the status marks and banners are drawn from, to notice a change."""
+    ss = st.session_state
+    return (tuple(map(tuple, ss["problems"])),
+            tuple((k, tuple(map(tuple, v))) for k, v in sorted(ss["local_problems"].items())))
+
+
 def any_problems() -> bool:
     ss = st.session_state
     return bool(ss["problems"]) or any(ss["local_problems"].values())
+
+
+# ---------------------------------------------------------------- renames
+
+def renamed_ids(before: list, after: list) -> dict:
+    """``{old id: new id}`` for rows of a table renamed in one edit (same row, new id).
+
+    Only a table that kept its number of rows is read this way; an id that still names
+    another row, or a new id that already named a row, is not a rename.
+    """
+    if len(before) != len(after):
+        return {}
+    old_ids = {str(r.get("id")) for r in before if isinstance(r, dict)}
+    new_ids = {str(r.get("id")) for r in after if isinstance(r, dict)}
+    out = {}
+    for b, a in zip(before, after):
+        old, new = str(b.get("id") or ""), str(a.get("id") or "")
+        if old and new and old != new and old not in new_ids and new not in old_ids:
+            out[old] = new
+    return out
+
+
+def carry_renames(draft: dict, positions: dict, buildings: dict) -> bool:
+    """Make the rows that name a renamed position or building name it by its new id.
+
+    Spot readings name positions; roof and gap positions name buildings. Returns True when
+    anything changed.
+    """
+    changed = False
+    for r in draft.get("spot_readings", []) or []:
+        if isinstance(r, dict) and r.get("position_id") in positions:
+            r["position_id"] = positions[r["position_id"]]
+            changed = True
+    for p in draft.get("positions", []) or []:
+        if not isinstance(p, dict):
+            continue
+        if p.get("building_id") in buildings:
+            p["building_id"] = buildings[p["building_id"]]
+            changed = True
+        gap = p.get("gap_buildings") or []
+        if any(g in buildings for g in gap):
+            p["gap_buildings"] = [buildings.get(g, g) for g in gap]
+            changed = True
+    return changed
 
 
 # ---------------------------------------------------------------- replacing the whole draft

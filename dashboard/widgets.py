@@ -254,15 +254,28 @@ def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> 
 
 
 def step_banner(step: str, title: str) -> None:
-    """Heading with the step's state."""
-    ok = state.complete(step)
+    """Heading with the step's state: one banner, green only when nothing needs attention.
+
+    The results and the summary also say which earlier steps need attention (their figures
+    then come from the last complete inputs). Presentation mode shows the heading alone.
+    """
     st.title(title)
-    if ok:
-        st.success("Complete: this step's inputs are consistent.", icon=":material/check_circle:")
+    if not editing():
+        return
+    own = state.step_problems(step)
+    earlier = []
+    if step in ("results", "summary"):
+        earlier = [t for k, t in state.steps_needing_attention() if k != step]
+    if own:
+        st.warning(f"Needs attention: {len(own)} problem(s) below. The results keep using the "
+                   "last complete inputs until they are fixed.", icon=":material/warning:")
+    elif earlier:
+        st.warning("Shown from the last complete inputs. Needs attention: "
+                   + ", ".join(earlier) + ".", icon=":material/warning:")
+    elif step == "summary":
+        st.success("Every step is complete.", icon=":material/check_circle:")
     else:
-        n = len(state.step_problems(step))
-        st.warning(f"Needs attention: {n} problem(s) below. The results keep using the last "
-                   "complete inputs until they are fixed.", icon=":material/warning:")
+        st.success("Complete: this step's inputs are consistent.", icon=":material/check_circle:")
 
 
 def editing() -> bool:

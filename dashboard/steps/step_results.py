@@ -9,13 +9,30 @@ ss = st.session_state
 widgets.step_banner("results", "5. Results")
 S, L = state.units_now()
 
-bad = [(k, t) for k, t, _ in state.STEPS[:4] if not state.complete(k)]
-if bad:
-    st.warning("Shown from the last complete inputs. Needs attention: "
-               + ", ".join(t for _, t in bad) + ".", icon=":material/warning:")
-
 OBJECTIVE_NAMES = {"net_aep": "net energy", "p90_aep": "P90 energy", "lcoe": "cost per kWh",
                    "payback": "payback time"}
+
+
+def _mast_what_if() -> None:
+    """The what-if position and its mast, from the working copy (which may differ from the
+    last valid assessment: a position deleted or renamed there is not offered here)."""
+    draft_pos = [(i, str(p.get("id"))) for i, p in enumerate(ss["draft"].get("positions", []))
+                 if isinstance(p, dict) and p.get("id")]
+    ids = [pid for _, pid in draft_pos]
+    if not ids:
+        st.info("The working copy has no positions: add one on Buildings & positions.",
+                icon=":material/info:")
+        return
+    if ss.get("whatif_position") not in ids:
+        ss["whatif_position"] = ids[0]
+    if ss.get("whatif_position_w") not in ids:
+        ss.pop("whatif_position_w", None)
+    wp = st.selectbox("Position", ids, index=ids.index(ss["whatif_position"]),
+                      key="whatif_position_w")
+    ss["whatif_position"] = wp
+    i = dict((pid, j) for j, pid in draft_pos)[wp]
+    widgets.number("Mast height", f"positions.{i}.mast_height_m", "length", "%.1f",
+                   step=0.5, scope="whatif")
 
 
 # The what-if controls and the ranking form one fragment: a change there reruns only this
@@ -23,23 +40,17 @@ OBJECTIVE_NAMES = {"net_aep": "net energy", "p90_aep": "P90 energy", "lcoe": "co
 @st.fragment
 def whatif_and_ranking():
     S, L = state.units_now()
-    a = ss["valid"]
-    pos_ids = [p.id for p in a.positions]
+    if not ss.get("full_run", True):
+        # A rerun of this part alone: take the new values in before drawing, so each
+        # field's message shows beneath it at once.
+        state.sync_widgets()
+        state.validate()
     if widgets.editing():
         with st.container(border=True):
             st.markdown("**What if…** change a value and the ranking follows at once.")
             c1, c2, c3, c4 = st.columns(4)
             with c1:
-                if ss.get("whatif_position") not in pos_ids:
-                    ss["whatif_position"] = pos_ids[0]
-                wp = st.selectbox("Position", pos_ids,
-                                  index=pos_ids.index(ss["whatif_position"]),
-                                  key="whatif_position_w")
-                ss["whatif_position"] = wp
-                i = next(j for j, p in enumerate(ss["draft"]["positions"])
-                         if p.get("id") == wp)
-                widgets.number("Mast height", f"positions.{i}.mast_height_m", "length", "%.1f",
-                               step=0.5, scope="whatif")
+                _mast_what_if()
             with c2:
                 widgets.choice("Rank by", "ranking.objective", ["net_aep", "p90_aep", "lcoe",
                                                                  "payback"],
@@ -70,7 +81,7 @@ def whatif_and_ranking():
                 widgets.toggle("Exclude positions louder than a receptor's limit",
                                "ranking.apply_noise_limits", scope="whatif")
         state.validate()
-        a = ss["valid"]
+    a = ss["valid"]
 
     text = state.draft_text()
     ev = cache.evaluate_text(text)
@@ -96,8 +107,9 @@ def whatif_and_ranking():
     st.subheader("Ranked positions")
     st.table(results_view.top_rows(table, S, L, n=5), hide_index=False)
 
-    if not ss.get("full_run", True) and ss.get("charts_text") != text:
-        st.rerun(scope="app")  # bring the plan and charts up to date
+    if not ss.get("full_run", True) and (ss.get("charts_text") != text
+                                         or state.status_signature() != ss.get("drawn_status")):
+        st.rerun(scope="app")  # bring the plan, the charts and the step marks up to date
 
 
 ss["full_run"] = True
