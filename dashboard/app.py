@@ -78,10 +78,9 @@ def _sidebar() -> None:
                      format_func=lambda u: {"m": "metres", "ft": "feet"}[u])
             st.caption("Inside, everything is SI; exports keep SI with the unit in each "
                        "column name.")
-    found = st.session_state.get("autosave_found")
+    found = state.earlier_work()
     if found:
-        st.info(f"Work from an earlier session was autosaved on "
-                f"{found[1]:%Y-%m-%d %H:%M} UTC.")
+        st.info(found)
         # One above the other: side by side the sidebar cut the second label short.
         st.button("Restore it", key="autosave_restore", on_click=state.restore_autosave,
                   width="stretch")

@@ -16,7 +16,7 @@ import streamlit as st
 from engine import autosave, sitefile, units
 from engine.errors import InputError
 
-from . import cache
+from . import cache, scenario_store
 
 #: (key, title, where-prefixes of the site file the step edits)
 STEPS = (
@@ -62,6 +62,41 @@ def init() -> None:
         ss["autosave_error"] = e.problems[0][1]
     if found is not None and autosave.draft_text(found[0]) != ss["autosaved_text"]:
         ss["autosave_found"] = found
+    _find_saved_scenarios()
+
+
+def _find_saved_scenarios() -> None:
+    """Scenarios saved in an earlier session are offered with the working copy."""
+    ss = st.session_state
+    try:
+        found = scenario_store.read()
+    except InputError as e:
+        ss["autosave_error"] = e.problems[0][1]
+        return
+    if found is None:
+        return
+    scenarios, saved_at, problems = found
+    if problems:
+        ss["autosave_error"] = "; ".join(f"{w}: {m}" for w, m in problems)
+    if scenarios:
+        ss["autosave_found_scenarios"] = (scenarios, saved_at)
+
+
+def earlier_work() -> str:
+    """What an earlier session left to restore, in words ('' when nothing)."""
+    ss = st.session_state
+    draft, scen = ss.get("autosave_found"), ss.get("autosave_found_scenarios")
+    parts, times = [], []
+    if draft:
+        parts.append("the working copy")
+        times.append(draft[1])
+    if scen:
+        parts.append(f"{len(scen[0])} saved scenario(s)")
+        times.append(scen[1])
+    if not parts:
+        return ""
+    return f"{' and '.join(parts).capitalize()} from an earlier session (autosaved " \
+           f"{max(times):%Y-%m-%d %H:%M} UTC)."
 
 
 def units_now() -> tuple[str, str]:
@@ -170,14 +205,20 @@ def _autosave() -> None:
 
 
 def restore_autosave() -> None:
-    """Make the autosaved working copy from an earlier session the working copy."""
+    """Make the earlier session's working copy and scenarios the current ones."""
     ss = st.session_state
-    data, saved_at = ss.pop("autosave_found")
-    replace_draft(data, f"autosave of {saved_at:%Y-%m-%d %H:%M} UTC")
+    found = ss.pop("autosave_found", None)
+    scen = ss.pop("autosave_found_scenarios", None)
+    if scen is not None:
+        ss["scenarios"] = {**scen[0], **ss["scenarios"]}
+    if found is not None:
+        data, saved_at = found
+        replace_draft(data, f"autosave of {saved_at:%Y-%m-%d %H:%M} UTC")
 
 
 def dismiss_autosave() -> None:
     st.session_state.pop("autosave_found", None)
+    st.session_state.pop("autosave_found_scenarios", None)
 
 
 def set_local_problems(step: str, problems: list) -> None:
@@ -308,10 +349,20 @@ def evaluation():
 
 # ---------------------------------------------------------------- what-if scenarios
 
+def _store_scenarios() -> None:
+    ss = st.session_state
+    try:
+        scenario_store.write(ss["scenarios"])
+    except OSError as e:
+        ss["autosave_error"] = (f"scenarios not saved to disk ({e.strerror}); save the site "
+                                "file by hand")
+
+
 def save_scenario(name: str) -> str:
-    """Save the last valid assessment under ``name``; returns the name used."""
+    """Save the last valid assessment under ``name`` (kept on disk too); returns the name."""
     name = name.strip() or f"Scenario {len(st.session_state['scenarios']) + 1}"
     st.session_state["scenarios"][name] = draft_text()
+    _store_scenarios()
     return name
 
 
@@ -322,3 +373,4 @@ def restore_scenario(name: str) -> None:
 
 def delete_scenario(name: str) -> None:
     st.session_state["scenarios"].pop(name, None)
+    _store_scenarios()
