@@ -6,12 +6,22 @@ import pandas as pd
 
 from engine import units
 
-#: Columns shown in the ranked table, in this order, when the chain provides them.
-SHOWN = ("rank", "position_id", "turbine_id", "kind", "hub_height_m", "mean_speed_ms",
-         "speedup", "turbulence_intensity", "aep_kwh", "p50_aep_kwh", "p90_aep_kwh",
-         "capacity_factor", "lcoe_per_kwh", "payback_years", "min_clear_mast_m",
-         "in_recirculation_zone", "in_turbulence_zone", "spilled_fraction", "noise_margin_db",
-         "thrust_extreme_n", "excluded", "flags")
+#: Columns shown in the ranked table, in this order, when the chain provides them: what a
+#: client asks first (where, which turbine, how much, at what cost, allowed or not) in view.
+SHOWN = ("rank", "position_id", "turbine_id", "aep_kwh", "p90_aep_kwh", "lcoe_per_kwh",
+         "excluded", "hub_height_m", "mean_speed_ms", "kind", "payback_years",
+         "capacity_factor", "p50_aep_kwh", "speedup", "turbulence_intensity",
+         "min_clear_mast_m", "in_recirculation_zone", "in_turbulence_zone", "spilled_fraction",
+         "noise_margin_db", "thrust_extreme_n", "flags")
+
+#: Display format of each numeric column (printf style, as the table draws it).
+FORMATS = {"rank": "%d", "aep_kwh": "%.0f", "p50_aep_kwh": "%.0f", "p90_aep_kwh": "%.0f",
+           "lcoe_per_kwh": "%.2f", "payback_years": "%.1f", "capacity_factor": "%.3f",
+           "hub_height_m": "%.1f", "mean_speed_ms": "%.2f", "speedup": "%.2f",
+           "turbulence_intensity": "%.3f", "min_clear_mast_m": "%.1f",
+           "spilled_fraction": "%.2f", "noise_margin_db": "%.1f", "thrust_extreme_n": "%.0f"}
+#: Columns kept in view while the wide table scrolls sideways.
+PINNED = ("rank", "position_id", "turbine_id")
 
 HEADERS = {
     "rank": "rank", "position_id": "position", "turbine_id": "turbine", "kind": "kind",
@@ -42,6 +52,25 @@ def display_table(table: pd.DataFrame, speed_unit: str, length_unit: str,
         if df[c].dtype == float:
             df[c] = df[c].replace([np.inf, -np.inf], np.nan)
     return df.rename(columns={c: header(c, speed_unit, length_unit) for c in df.columns})
+
+
+def display_config(table: pd.DataFrame, speed_unit: str, length_unit: str,
+                   columns=SHOWN) -> dict:
+    """``st.column_config`` arguments for :func:`display_table`'s frame: a format for every
+    number (no raw floats), the first columns pinned, the notes column wide. Returned as
+    ``{header: (kind, options)}`` so this module does not import streamlit."""
+    out = {}
+    for c in columns:
+        if c not in table.columns:
+            continue
+        h = header(c, speed_unit, length_unit)
+        if c in FORMATS:
+            out[h] = ("number", {"format": FORMATS[c], "pinned": c in PINNED})
+        elif c == "flags":
+            out[h] = ("text", {"width": "large"})
+        elif c in PINNED:
+            out[h] = ("text", {"pinned": True})
+    return out
 
 
 def top_rows(table: pd.DataFrame, speed_unit: str, length_unit: str, n: int = 5) -> pd.DataFrame:

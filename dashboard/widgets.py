@@ -229,8 +229,11 @@ def table(name: str, rows: list, columns: list, *, dynamic: bool = True,
     return out
 
 
-def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> None:
-    """Messages for rows of a table, as ``Row 3 (mill), height (m): ...``."""
+def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> int:
+    """Messages for rows of a table, as ``Buildings, row 3 (mill), height (m): ...`` (the
+    table named, so a spot reading's message never reads like a position's); returns how many
+    were shown."""
+    table_name = group.replace("_", " ").capitalize()
     prefix = f"{group}["
     shown = 0
     for where, msg in st.session_state["problems"]:
@@ -243,12 +246,13 @@ def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> 
         field = where.split("].", 1)[1] if "]." in where else ""
         rid = rows[i].get(id_field) if i < len(rows) else ""
         label = labels.get(field.split("[")[0], field.replace("_", " ")) if field else ""
-        st.error(f"**Row {i + 1}{f' ({rid})' if rid else ''}{', ' + label if label else ''}:** "
+        st.error(f"**{table_name}, row {i + 1}{f' ({rid})' if rid else ''}"
+                 f"{', ' + label if label else ''}:** "
                  f"{msg}", icon=":material/error:")
         shown += 1
     for where, msg in st.session_state["problems"]:
         if where == group:
-            st.error(f"**{group.capitalize()}:** {msg}", icon=":material/error:")
+            st.error(f"**{table_name}:** {msg}", icon=":material/error:")
             shown += 1
     return shown
 

@@ -136,7 +136,7 @@ widgets.row_messages("spot_readings", srow, SP_LABELS, id_field="position_id")
 
 if not state.step_problems("layout"):
     st.vega_lite_chart(cache.chart_spec("plan", state.draft_text(), state.unit_of("speed"), L),
-                       width="content", theme=None)
+                       width="stretch", theme=None)
 else:
     st.info("The plan is drawn again once the tables above have no problems.",
             icon=":material/info:")

@@ -95,11 +95,12 @@ def whatif_and_ranking():
     if best is not None:
         c1.metric("Best position", f"{best['position_id']}", f"with {best['turbine_id']}",
                   delta_color="off", delta_arrow="off")
-        c2.metric("Net energy, P50", f"{best['aep_kwh']:,.0f} kWh/yr")
+        # Units in the labels: a value with its unit is cut short in a narrow column.
+        c2.metric("Net energy, P50 (kWh/yr)", f"{best['aep_kwh']:,.0f}")
         if "p90_aep_kwh" in best.index:
-            c3.metric("P90 (exceeded 9 years in 10)", f"{best['p90_aep_kwh']:,.0f} kWh/yr")
+            c3.metric("P90, exceeded 9 years in 10 (kWh/yr)", f"{best['p90_aep_kwh']:,.0f}")
         if "lcoe_per_kwh" in best.index and np.isfinite(best["lcoe_per_kwh"]):
-            c4.metric("Cost per kWh", f"{best['lcoe_per_kwh']:.2f} {a.economics.currency}")
+            c4.metric(f"Cost per kWh ({a.economics.currency})", f"{best['lcoe_per_kwh']:.2f}")
     else:
         st.error("Every position is excluded by a constraint; see the reasons in the table.",
                  icon=":material/error:")
@@ -123,7 +124,11 @@ table = ev.table
 ok = table[~table["excluded"]]
 best = ok.iloc[0] if len(ok) else None
 with st.expander(f"All {len(table)} rows with every figure and reason", expanded=False):
-    st.dataframe(results_view.display_table(table, S, L), hide_index=True, width="stretch")
+    kinds = {"number": st.column_config.NumberColumn, "text": st.column_config.TextColumn}
+    config = {h: kinds[k](h, **opts)
+              for h, (k, opts) in results_view.display_config(table, S, L).items()}
+    st.dataframe(results_view.display_table(table, S, L), hide_index=True, width="stretch",
+                 column_config=config)
 
 # ---------------------------------------------------------------- plan and detail
 st.subheader("Plan and position detail")
@@ -157,14 +162,14 @@ with c2:
     m2.metric(f"Hub height ({L})", f"{units.length_from_si(row['hub_height_m'], L):.1f}")
     m1.metric(f"Mean speed at hub ({S})",
               f"{units.speed_from_si(row['mean_speed_ms'], S):.2f}")
-    m2.metric("Net energy", f"{row['aep_kwh']:,.0f} kWh/yr")
+    m2.metric("Net energy (kWh/yr)", f"{row['aep_kwh']:,.0f}")
     if "min_clear_mast_m" in row.index and np.isfinite(row["min_clear_mast_m"]):
         st.caption(f"Shortest mast that clears the roof zones: "
                    f"{units.length_from_si(row['min_clear_mast_m'], L):.1f} {L}")
     for f in row["flags"]:
         st.markdown(f"- {f}")
 with c1:
-    st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="content", theme=None,
+    st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="stretch", theme=None,
                        on_select="rerun", selection_mode="pick", key="plan_pick")
     st.caption("Colour: the position's place in the ranking (dark blue is best); grey: every "
                "turbine there is excluded by a constraint. Ring: the position in detail; "
@@ -180,7 +185,7 @@ ss["detail_view"] = view or ss["detail_view"]
 view = ss["detail_view"]
 spec = cache.chart_spec(view, text, S, L, dp, dt)
 if spec:
-    st.vega_lite_chart(spec, width="content", theme=None)
+    st.vega_lite_chart(spec, width="stretch", theme=None)
 elif view == "monthly":
     st.info("This climate has no monthly mean speeds, so the year is not split into months. "
             "A measured record gives them.", icon=":material/info:")

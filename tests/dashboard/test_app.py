@@ -114,7 +114,7 @@ def test_invalid_table_row_is_named_by_row():
     at.session_state["gen"] = at.session_state["gen"] + 1
     at = _go(at, "steps/step_layout.py")
     errs = " ".join(_texts(at, "error"))
-    assert "Row 2 (tower)" in errs and "height" in errs
+    assert "Buildings, row 2 (tower)" in errs and "height" in errs
 
 
 def test_mast_height_change_reranks():
@@ -291,3 +291,19 @@ def test_power_curve_file_replaces_the_curve():
     t = at.session_state["valid"].turbines[0]
     assert t.curve_speed_ms == (3.0, 5.0, 8.0, 11.0, 25.0)
     assert t.curve_power_w == pytest.approx((30.0, 150.0, 620.0, 1500.0, 1500.0))  # SI prefix
+
+
+def test_all_rows_table_formats_every_number_and_leads_with_key_columns(demo_eval):
+    """Every numeric column of the all-rows table has a display format (no raw floats); the
+    position, turbine, energy, P90, cost and exclusion come first."""
+    shown = results_view.display_table(demo_eval.table, "m/s", "m")
+    config = results_view.display_config(demo_eval.table, "m/s", "m")
+    numeric = [c for c in shown.columns if pd.api.types.is_float_dtype(shown[c])
+               or pd.api.types.is_integer_dtype(shown[c])]
+    assert numeric
+    for c in numeric:
+        assert config.get(c, ("", {}))[1].get("format"), c
+    assert list(shown.columns[:7]) == ["rank", "position", "turbine", "net energy (kWh/yr)",
+                                       "P90 (kWh/yr)", "cost per kWh", "excluded"]
+    at = _go(_app(), "steps/step_results.py")
+    assert list(at.dataframe[0].value.columns[:3]) == ["rank", "position", "turbine"]

@@ -148,3 +148,27 @@ def test_first_screen_points_a_newcomer_to_results(page, dashboard_url):
     page.get_by_role("link", name="Go to 5. Results").click()
     idle(page)
     expect(page.get_by_role("heading", name="5. Results")).to_be_visible()
+
+
+def test_a_bad_what_if_value_is_named_where_it_was_typed(page, dashboard_url):
+    """A negative mast typed on Results shows its message beneath that field at once, and the
+    step marks follow; a good value clears both."""
+    from playwright.sync_api import expect
+
+    page.goto(f"{dashboard_url}/results")
+    idle(page)
+    mast = page.get_by_role("spinbutton", name="Mast height (m)")
+    mast.fill("-1")
+    mast.press("Enter")
+    idle(page)
+    message = page.get_by_role("alert").filter(has_text=re.compile(r"Mast height \(m\)\s*must be"))
+    expect(message).to_be_visible()
+    expect(page.get_by_text("Needs attention: Buildings & positions")).to_be_visible()
+    expect(page.get_by_test_id("stSidebar").get_by_text("1 step(s) need attention")).to_be_visible()
+    page.mouse.move(0, 0)
+    shot(page, "browser-13-bad-what-if")
+    mast.fill("6")
+    mast.press("Enter")
+    idle(page)
+    expect(message).to_have_count(0)
+    expect(page.get_by_test_id("stSidebar").get_by_text("All steps complete.")).to_be_visible()
