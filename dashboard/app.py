@@ -100,7 +100,10 @@ def _sidebar() -> None:
 with st.sidebar:
     _sidebar()
 drawn = st.session_state["drawn_status"] = state.status_signature()
-nav.run()
+try:
+    nav.run()
+finally:
+    state.flush_autosave()  # also when a page stops or reruns early
 # A page's action (a table edit, a button) can change the steps' state after the sidebar, the
 # marks and the banner were drawn: draw once more so the status says what is true now.
 if state.status_signature() != drawn and not st.session_state.get("status_rerun"):

@@ -54,6 +54,7 @@ def init() -> None:
     # An autosave from an earlier session is offered, not applied; it is not overwritten until
     # the working copy changes (and even then its previous version stays as .bak).
     ss["autosaved_text"] = autosave.draft_text(ss["draft"])
+    ss["validated_text"] = ss["autosaved_text"]  # ``valid`` was built from this very text
     ss["autosave_error"] = ""
     try:
         found = autosave.read_draft()
@@ -180,21 +181,32 @@ def sync_widgets() -> None:
 
 
 def validate() -> None:
-    """Rebuild the assessment from the draft; keep the last valid one when there are problems."""
+    """Rebuild the assessment from the draft; keep the last valid one when there are problems.
+
+    The draft's text is compared first: a run that changed nothing (most reruns) skips the
+    rebuild and the autosave.
+    """
     ss = st.session_state
+    text = autosave.draft_text(ss["draft"])
+    if text == ss.get("validated_text"):
+        return
     try:
         ss["valid"] = sitefile.assessment_from_dict(ss["draft"])
         ss["problems"] = []
     except InputError as e:
         ss["problems"] = list(e.problems)
-    _autosave()
+    ss["validated_text"] = text
 
 
-def _autosave() -> None:
-    """Write the working copy to the autosave file when it has changed since the last write."""
+def flush_autosave() -> None:
+    """Write the working copy to the autosave file when it has changed since the last write.
+
+    Called at the end of a run, after the page is drawn, so the write (with its fsync) is not
+    between a change and its result; a run cut short by a rerun leaves it to the next one.
+    """
     ss = st.session_state
-    text = autosave.draft_text(ss["draft"])
-    if text == ss.get("autosaved_text"):
+    text = ss.get("validated_text")
+    if text is None or text == ss.get("autosaved_text"):
         return
     try:
         autosave.write_draft(ss["draft"])
@@ -338,8 +350,12 @@ def replace_draft(data: dict, loaded_from: str, notes=()) -> None:
 
 
 def draft_text() -> str:
-    """Site-file text of the last valid assessment."""
-    return sitefile.dumps(st.session_state["valid"])
+    """Site-file text of the last valid assessment (written once per assessment)."""
+    ss = st.session_state
+    memo = ss.get("valid_text")
+    if memo is None or memo[0] is not ss["valid"]:
+        memo = ss["valid_text"] = (ss["valid"], sitefile.dumps(ss["valid"]))
+    return memo[1]
 
 
 def evaluation():
