@@ -27,10 +27,10 @@ st.set_page_config(page_title="Perch: small wind siting", page_icon=str(HERE / "
 
 level, message = serving.exposure(st.get_option("server.address"), os.environ)
 if level == "refuse":
-    st.error(message, icon="🛑")
+    st.error(message, icon=":material/block:")
     st.stop()
 elif level == "warn":
-    st.warning(message, icon="⚠️")
+    st.warning(message, icon=":material/warning:")
 
 state.init()
 state.sync_widgets()

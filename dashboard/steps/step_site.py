@@ -17,8 +17,8 @@ if st.session_state["loaded_from"] == "built-in demo site":
             "climate, buildings, candidate positions and turbines already entered. Look at "
             "**5. Results** first for the ranked positions, the plan and each position's "
             "detail; change anything on the steps and the results follow. Open your own site "
-            "file below to start a real assessment.", icon="👋")
-    st.page_link("steps/step_results.py", label="Go to 5. Results", icon="➡️")
+            "file below to start a real assessment.", icon=":material/waving_hand:")
+    st.page_link("steps/step_results.py", label="Go to 5. Results", icon=":material/bar_chart:")
 st.caption("Where the site is and what surrounds it. Heights and roughness set how the "
            "reference wind is carried to each rotor.")
 
