@@ -43,7 +43,7 @@ def exclusion_reasons(table: pd.DataFrame, settings) -> list:
         need = table["mast_to_clear_turbulence_m"].to_numpy(dtype=float)
         add(table["rotor_in_turbulence_zone"].to_numpy(dtype=bool),
             lambda idx: {i: "rotor in the roof's high-turbulence zone; a mast of at least "
-                            f"{need[i]:.1f} m clears it" for i in idx})
+                            f"{need[i]:.1f} m clears it with the whole rotor" for i in idx})
     elif settings.require_clear_of_turbulence_zone and "in_turbulence_zone" in table:
         add(table["in_turbulence_zone"].to_numpy(dtype=bool),
             "rotor in the roof's high-turbulence zone; raise the mast or move the position")
@@ -79,7 +79,26 @@ def rank(table: pd.DataFrame, settings) -> pd.DataFrame:
     out = table.copy()
     reasons = exclusion_reasons(out, settings)
     out["excluded"] = [bool(r) for r in reasons]
-    out["flags"] = [list(f) + [r for r in rs if r not in f] for f, rs in zip(out["flags"], reasons)]
+    # One piece of advice per matter: where the rotor check gives the mast that clears the
+    # whole rotor, the building model's hub-only mast figure goes (an assessor following it
+    # was still excluded); a recirculation exclusion replaces the zone's plain note.
+    need = (out["mast_to_clear_turbulence_m"].to_numpy(dtype=float)
+            if "mast_to_clear_turbulence_m" in out else None)
+    rotor_in = (out["rotor_in_turbulence_zone"].to_numpy(dtype=bool)
+                if "rotor_in_turbulence_zone" in out else np.zeros(len(out), bool))
+    merged = []
+    for i, (f, rs) in enumerate(zip(out["flags"], reasons)):
+        f = list(f)
+        if need is not None and np.isfinite(need[i]):
+            f = [x for x in f if not (x.startswith("a mast of ") and "puts the hub above" in x)]
+            if rotor_in[i] and not any(r.startswith("rotor in the roof's high-turbulence")
+                                       for r in rs):
+                f.append("rotor in the roof's high-turbulence zone; a mast of at least "
+                         f"{need[i]:.1f} m clears it with the whole rotor")
+        if "hub in a recirculation zone" in rs:
+            f = [x for x in f if x != "in roof recirculation zone"]
+        merged.append(f + [r for r in rs if r not in f])
+    out["flags"] = merged
     key = out[col].to_numpy(dtype=float)
     key = np.where(np.isfinite(key), key, -np.inf if larger_better else np.inf)
     score = -key if larger_better else key

@@ -147,9 +147,13 @@ def _detail(a, table, text: str, best, S: str, L: str) -> tuple:
         m1.metric(f"Mean speed at hub ({S})",
                   f"{units.speed_from_si(row['mean_speed_ms'], S):.2f}")
         m2.metric("Net energy (kWh/yr)", f"{row['aep_kwh']:,.0f}")
-        if "min_clear_mast_m" in row.index and np.isfinite(row["min_clear_mast_m"]):
-            st.caption(f"Shortest mast that clears the roof zones: "
-                       f"{units.length_from_si(row['min_clear_mast_m'], L):.1f} {L}")
+        # One minimum mast, the one the ranking uses: the whole rotor clear of the zones
+        # for this turbine (the hub-only figure is lower and would still be excluded).
+        clear = next((float(row[c]) for c in ("mast_to_clear_turbulence_m", "min_clear_mast_m")
+                      if c in row.index and np.isfinite(row[c])), None)
+        if clear is not None:
+            st.caption(f"Shortest mast that keeps the whole rotor clear of the roof's "
+                       f"high-turbulence zone: {units.length_from_si(clear, L):.1f} {L}")
         for f in row["flags"]:
             st.markdown(f"- {f}")
     with c1:
