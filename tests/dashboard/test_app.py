@@ -117,7 +117,7 @@ def test_invalid_table_row_is_named_by_row():
     at.session_state["gen"] = at.session_state["gen"] + 1
     at = _go(at, "steps/step_layout.py")
     errs = " ".join(_texts(at, "error"))
-    assert "Row 2 (tower)" in errs and "height" in errs
+    assert "Buildings, row 2 (tower)" in errs and "height" in errs
 
 
 def test_mast_height_change_reranks():
@@ -311,3 +311,21 @@ def test_results_label_one_year_and_life_p90_and_turbulence_effect(demo_eval):
     assert float(shown["P90, a single year (kWh/yr)"].iloc[0].replace(",", "")) == \
         pytest.approx(best["p90_one_year_aep_kwh"], abs=0.5)
     assert shown["turbulence effect"].iloc[0][0] in "+−"
+
+
+def test_all_rows_table_formats_every_number_and_leads_with_key_columns(demo_eval):
+    """Every numeric column of the all-rows table has a display format (no raw floats); the
+    position, turbine, energy, P90, cost and exclusion come first."""
+    shown = results_view.display_table(demo_eval.table, "m/s", "m")
+    config = results_view.display_config(demo_eval.table, "m/s", "m")
+    numeric = [c for c in shown.columns if pd.api.types.is_float_dtype(shown[c])
+               or pd.api.types.is_integer_dtype(shown[c])]
+    assert numeric
+    for c in numeric:
+        assert config.get(c, ("", {}))[1].get("format"), c
+    lead = ["rank", "position_id", "turbine_id", "aep_kwh", "p90_aep_kwh",
+            "p90_one_year_aep_kwh", "lcoe_per_kwh", "excluded"]
+    assert list(shown.columns[:8]) == [results_view.header(c, "m/s", "m") for c in lead]
+    at = _go(_app(), "steps/step_results.py")
+    assert list(at.dataframe[0].value.columns[:3]) == [
+        results_view.header(c, "m/s", "m") for c in lead[:3]]

@@ -150,6 +150,10 @@ def test_screen_the_demo_district_and_open_the_top_building(page, dashboard_url)
     open_button.scroll_into_view_if_needed()
     open_button.click()
     idle(page)
+    # it asks first, and keeps the working copy as a scenario
+    expect(page.get_by_text(re.compile("replaces the working copy"))).to_be_visible()
+    page.get_by_role("button", name=re.compile("^Keep it as")).click()
+    idle(page)
     # the engine's own top building for the demo assessment, ranked beside the page
     ranked = screening.screen_local(ROOT / "demo_sites" / "district_1000.csv",
                                     screening.context_from_assessment(
@@ -157,6 +161,8 @@ def test_screen_the_demo_district_and_open_the_top_building(page, dashboard_url)
     top = ranked.table.iloc[0]["id"]
     expect(page.get_by_text(f"Building {top} is now the working assessment")).to_be_visible()
     expect(page.get_by_test_id("stSidebar")).to_contain_text(f"screening: building {top}")
+    expect(page.get_by_text(f"kept as the scenario “before screening building {top}”",
+                            exact=False)).to_be_visible()
     page.mouse.move(0, 0)  # no hover toolbar in the picture
     shot(page, "browser-7b-screening-opened")
 
