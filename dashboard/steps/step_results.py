@@ -139,7 +139,7 @@ def _uncertainty_metrics(row, m1, m2) -> None:
         life = float(row.get("project_life_years", 20))
         m2.metric("P90, single year (kWh/yr)", f"{row['p90_one_year_aep_kwh']:,.0f}",
                   help="Exceeded in nine years out of ten")
-        m1.metric(f"P90 over {life:g}-year life (kWh/yr)", f"{row['p90_aep_kwh']:,.0f}",
+        m1.metric(f"P90, {life:g}-year life (kWh/yr)", f"{row['p90_aep_kwh']:,.0f}",
                   help=f"The average year over {life:g} years, exceeded with 90 % probability")
 
 

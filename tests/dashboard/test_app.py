@@ -302,7 +302,7 @@ def test_results_label_one_year_and_life_p90_and_turbulence_effect(demo_eval):
     at = _go(_app(), "steps/step_results.py")
     labels = [m.label for m in at.metric]
     assert any("single year" in lab for lab in labels)
-    assert any(lab.startswith("P90 over") and "life" in lab for lab in labels)
+    assert any(lab.startswith("P90, ") and "-year life" in lab for lab in labels)
     assert any("Turbulence effect" in lab for lab in labels)
     shown = at.table[0].value
     best = demo_eval.table.iloc[0]

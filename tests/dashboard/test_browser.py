@@ -224,12 +224,21 @@ def test_results_show_the_two_p90s_and_the_turbulence_effect(page, dashboard_url
     idle(page)
     page.get_by_role("link", name=re.compile("^5. Results")).click()
     idle(page)
-    expect(page.get_by_text("P90, a single year", exact=True).first).to_be_visible()
+    expect(page.get_by_text("P90, a single year (kWh/yr)", exact=True).first).to_be_visible()
     expect(page.get_by_text("Turbulence effect", exact=True)).to_be_visible()
-    expect(page.get_by_text(re.compile(r"^P90 over \d+-year life$"))).to_be_visible()
+    expect(page.get_by_text(re.compile(r"^P90, \d+-year life \(kWh/yr\)$"))).to_be_visible()
     expect(page.get_by_text(re.compile(r"^P90, average year over \d+ years \(kWh/yr\)$")).first
            ).to_be_visible()
     value = page.locator('[data-testid="stMetric"]', has_text="Turbulence effect")
     expect(value.locator('[data-testid="stMetricValue"]')).to_have_text(
         re.compile(r"^[+\u2212]\d+\.\d %$"))
     shot(page, "browser-11-p90-and-turbulence")
+    assert cut_metric_labels(page) == []
+
+
+def cut_metric_labels(page) -> list:
+    """Texts of the metric labels drawn cut short (an element narrower than its text)."""
+    return page.evaluate(
+        "() => [...document.querySelectorAll('[data-testid=\"stMetricLabel\"]')]"
+        ".filter(l => [l, ...l.querySelectorAll('*')]"
+        ".some(e => e.scrollWidth > e.clientWidth + 1)).map(l => l.innerText)")
