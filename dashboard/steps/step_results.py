@@ -143,6 +143,18 @@ def _uncertainty_metrics(row, m1, m2) -> None:
                   help=f"The average year over {life:g} years, exceeded with 90 % probability")
 
 
+def _mast_caption(row, L: str) -> None:
+    """One minimum mast, the one the ranking uses: the whole rotor clear of the zones for
+    this turbine (the hub-only figure is lower and would still be excluded); the hub-only
+    figure, said as such, only where the chain gives no rotor figure."""
+    for col, what in (("mast_to_clear_turbulence_m", "keeps the whole rotor"),
+                      ("min_clear_mast_m", "puts the hub")):
+        if col in row.index and np.isfinite(row[col]):
+            st.caption(f"Shortest mast that {what} clear of the roof's high-turbulence zone: "
+                       f"{units.length_from_si(row[col], L):.1f} {L}")
+            return
+
+
 def _detail(a, table, text: str, best, S: str, L: str) -> tuple:
     """Plan and one position's figures; returns the (position, turbine) in detail."""
     pos_ids = [p.id for p in a.positions]
@@ -167,13 +179,7 @@ def _detail(a, table, text: str, best, S: str, L: str) -> tuple:
                   f"{units.speed_from_si(row['mean_speed_ms'], S):.2f}")
         m2.metric("Net energy (kWh/yr)", f"{row['aep_kwh']:,.0f}")
         _uncertainty_metrics(row, m1, m2)
-        # One minimum mast, the one the ranking uses: the whole rotor clear of the zones
-        # for this turbine (the hub-only figure is lower and would still be excluded).
-        clear = next((float(row[c]) for c in ("mast_to_clear_turbulence_m", "min_clear_mast_m")
-                      if c in row.index and np.isfinite(row[c])), None)
-        if clear is not None:
-            st.caption(f"Shortest mast that keeps the whole rotor clear of the roof's "
-                       f"high-turbulence zone: {units.length_from_si(clear, L):.1f} {L}")
+        _mast_caption(row, L)
         for f in row["flags"]:
             st.markdown(f"- {f}")
     with c1:

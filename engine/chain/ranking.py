@@ -5,7 +5,9 @@ taller than allowed, rotor in a building's high-turbulence zone (the whole rotor
 table has ``rotor_in_turbulence_zone``; else the hub) or recirculation zone, noise above
 a receptor's limit, extreme rotor thrust above the load limit. Its reasons, with the numbers
 behind them, are appended to ``flags`` and it is ranked after every eligible row, never
-silently dropped.
+silently dropped. Each row keeps one piece of advice per matter
+(:func:`one_advice_per_matter`): one minimum mast, the one that clears the whole rotor, and one
+recirculation note.
 
 Objectives: ``net_aep``, ``p90_aep`` and ``npv`` (larger is better), ``lcoe`` and ``payback``
 (smaller is better). With ``viability_first`` the options that pay back within their life come

@@ -6,6 +6,7 @@ import io
 import json
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 import pytest
 from streamlit.testing.v1 import AppTest
@@ -329,3 +330,18 @@ def test_all_rows_table_formats_every_number_and_leads_with_key_columns(demo_eva
     at = _go(_app(), "steps/step_results.py")
     assert list(at.dataframe[0].value.columns[:3]) == [
         results_view.header(c, "m/s", "m") for c in lead[:3]]
+
+
+def test_position_detail_gives_one_minimum_mast_the_rotor_clear_one(demo_eval):
+    """The detail of the best row states one shortest mast: the chain's rotor-clear figure
+    for that turbine (not the lower hub-only one), and its notes hold no other mast advice."""
+    at = _go(_app(), "steps/step_results.py")
+    ok = demo_eval.table[~demo_eval.table["excluded"]]
+    best = ok.iloc[0]
+    assert np.isfinite(best["mast_to_clear_turbulence_m"])
+    masts = [c.value for c in at.caption if c.value.startswith("Shortest mast")]
+    assert masts == ["Shortest mast that keeps the whole rotor clear of the roof's "
+                     f"high-turbulence zone: {best['mast_to_clear_turbulence_m']:.1f} m"]
+    notes = [m.value for m in at.markdown if m.value.startswith("- ")]
+    assert notes == [f"- {f}" for f in best["flags"]]
+    assert not any("puts the hub above" in n for n in notes)
