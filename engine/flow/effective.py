@@ -15,6 +15,7 @@ import numpy as np
 
 from engine.flow import buildings
 from engine.flow import gaps
+from engine.flow import measured_position
 from engine.flow import profiles
 from engine.flow import roofflow
 from engine.flow import roofzones
@@ -135,6 +136,17 @@ def effective_climate(assessment, air_density_kgm3: float,
     :func:`engine.flow.spot.spot_comparison` as a dict of columns, and (P,) ``spot_measured_speedup``,
     ``spot_speedup_ci_low``, ``spot_speedup_ci_high``, ``spot_model_speedup``.
     """
+    here = measured_position.measuring_index(assessment)
+    if here is not None:
+        # Climate measured AT a position: it already holds that position's transfer and building
+        # speed-up. Refer it to the free stream by the model's own factor at the logger (for the
+        # other positions), then put it back unchanged at its own position: no second transfer,
+        # no second building speed-up (engine.flow.measured_position).
+        at_logger = effective_climate(measured_position.logger_only(assessment, here),
+                                      air_density_kgm3, False)
+        eff = effective_climate(measured_position.free_stream_equivalent(
+            assessment, at_logger.speed_factor[0]), air_density_kgm3, calibrate_with_spot_readings)
+        return measured_position.use_at_position(eff, assessment, here)
     positions = assessment.positions
     hub = np.array([assessment.hub_height_m(p) for p in positions], dtype=float)
     k, free_c = free_stream_at_hub(assessment, hub)
