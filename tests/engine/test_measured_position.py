@@ -92,3 +92,34 @@ def test_measured_ti_replaces_the_model_at_the_logger():
     ev = pipeline.evaluate(_roof_site(clim))
     np.testing.assert_allclose(ev.climate.turbulence_intensity[0], (0.21, 0.18))
     assert ev.climate.diagnostics["measured_ti_used"].tolist() == [True, False, False]
+
+
+def test_logger_file_with_sd_gives_measured_ti_used_in_the_energy(tmp_path):
+    """A two-height file with SD columns -> climate with measured TI and shear -> the energy at
+    the logger uses the measured TI (not the formula); shear as generated (power law)."""
+    import pandas as pd
+    from engine.climate.logger import logger_climate
+    rng = np.random.default_rng(11)
+    n = 6000
+    t = pd.date_range("2025-01-01", periods=n, freq="10min", tz="UTC")
+    d = rng.uniform(0, 360, n)
+    u2 = 4.0 * rng.weibull(2.0, n) + 0.5
+    u4 = u2 * 2.0 ** 0.3
+    df = pd.DataFrame({"timestamp": t.strftime("%Y-%m-%dT%H:%M:%SZ"), "ws_2m": u2.round(3),
+                       "ws_2m_sd": (0.3 * u2).round(3), "wd_2m": d.round(1),
+                       "ws_4m": u4.round(3), "ws_4m_sd": (0.25 * u4).round(3)})
+    lc = logger_climate(df.to_csv(index=False).encode(), "logger.csv", base_height_m=12.0,
+                        position_id="logger", roughness_m=0.5, distance_constant_m=0.0)
+    c = lc.climate
+    assert c.height_m == 16.0 and c.measured_at == "position" and c.averaging_s == 600.0
+    np.testing.assert_allclose(c.turbulence_intensity, 0.25, rtol=2e-3)
+    np.testing.assert_allclose(c.shear_exponent, 0.3, rtol=0.02)  # generated with α = 0.3
+    a = _roof_site(c)
+    ev = pipeline.evaluate(a)
+    np.testing.assert_allclose(ev.climate.turbulence_intensity[0], c.turbulence_intensity)
+    no_ti = pipeline.evaluate(dataclasses.replace(a, climate=dataclasses.replace(
+        c, turbulence_intensity=())))
+    assert not np.allclose(no_ti.climate.turbulence_intensity[0], c.turbulence_intensity)
+    e1 = ev.table.set_index("position_id").gross_aep_kwh["logger"]
+    e0 = no_ti.table.set_index("position_id").gross_aep_kwh["logger"]
+    assert e1 != pytest.approx(e0, rel=1e-6)
