@@ -20,6 +20,7 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 from engine.core.errors import InputError, Problems, check_range
+from engine.core.measured_checks import MEASURED_AT, check_measured, check_measured_position
 
 FORMAT_VERSION = 1
 
@@ -37,9 +38,6 @@ CLIMATE_SOURCES = ("table", "measured", "long_term", "mean_speed")
 OBJECTIVES = ("net_aep", "p90_aep", "lcoe", "payback")
 TRANSFER_METHODS = ("log_law", "power_law")
 MORPHOMETRY_LAYOUTS = ("staggered", "square")
-#: Where a climate was measured: a reference (station, reanalysis, open-terrain mast) carried to
-#: the site, or at a named candidate position (a roof or mast logger), used there as measured.
-MEASURED_AT = ("reference", "position")
 
 
 def _raise(p: Problems) -> None:
@@ -131,7 +129,7 @@ class WindClimate:
 
     def __post_init__(self):
         p = Problems()
-        self._check_measured(p)
+        check_measured(p, self)
         check_range(p, "height_m", self.height_m, 0, 300, "m", lo_open=True)
         check_range(p, "roughness_m", self.roughness_m, 1e-4, 5.0, "m")
         check_range(p, "displacement_m", self.displacement_m, 0, 100, "m")
@@ -160,21 +158,6 @@ class WindClimate:
         for i, v in enumerate(self.monthly_mean_ms):
             check_range(p, f"monthly_mean_ms[{i}]", v, 0, 40, "m/s")
         _raise(p)
-
-    def _check_measured(self, p: Problems) -> None:
-        """Where it was measured, measured TI and shear, long-term uncertainty, averaging."""
-        _choice(p, "measured_at", self.measured_at, MEASURED_AT)
-        if self.measured_at == "position" and not str(self.position_id).strip():
-            p.add("position_id", "a climate measured at a position must name that position")
-        n = len(self.frequency)
-        for name, lo, hi in (("turbulence_intensity", 0.0, 1.0), ("shear_exponent", -0.5, 1.5)):
-            values = getattr(self, name)
-            if len(values) not in (0, n):
-                p.add(name, f"must be empty or one value per sector ({n}), got {len(values)}")
-            for i, v in enumerate(values):
-                check_range(p, f"{name}[{i}]", v, lo, hi, "")
-        check_range(p, "long_term_uncertainty", self.long_term_uncertainty, 0, 1, "")
-        check_range(p, "averaging_s", self.averaging_s, 0, 86400 * 31, "s")
 
     @property
     def n_sectors(self) -> int:
@@ -570,33 +553,12 @@ class Assessment:
                     p.add(f"site.{name}", "is needed when transfer.use_morphometry is true; "
                                           "enter it or set use_morphometry to false")
         pos_ids = {q.id for q in self.positions}
-        self._check_measured_position(p)
+        check_measured_position(p, self)
         for i, s in enumerate(self.spot_readings):
             if s.position_id not in pos_ids:
                 p.add(f"spot_readings[{i}].position_id",
                       f"names position {s.position_id!r}, which is not in positions")
         _raise(p)
-
-    def _check_measured_position(self, p: Problems) -> None:
-        """A position-measured climate names a position here, at that position's hub height."""
-        c = self.climate
-        if c.measured_at != "position":
-            return
-        pos = [q for q in self.positions if q.id == c.position_id]
-        if not pos:
-            p.add("climate.position_id", f"names position {c.position_id!r}, which is not in "
-                                         "positions; add the logger's position or set "
-                                         "measured_at to reference")
-            return
-        try:
-            hub = self.hub_height_m(pos[0])
-        except InputError:
-            return  # the missing building is reported on its own
-        if abs(hub - float(c.height_m)) > 0.5:
-            p.add("climate.height_m", f"must be the hub height of position {c.position_id!r} "
-                                      f"({hub:g} m above ground) within 0.5 m, got "
-                                      f"{c.height_m:g} m; set that position's mast height to "
-                                      "the logger's height")
 
     def building(self, building_id: str) -> Building:
         for b in self.buildings:
