@@ -15,6 +15,7 @@ import numpy as np
 
 from engine.flow import buildings
 from engine.flow import gaps
+from engine.flow import measured_position
 from engine.flow import profiles
 from engine.flow import roofflow
 from engine.flow import roofzones
@@ -152,6 +153,10 @@ def effective_climate(assessment, air_density_kgm3: float,
     :func:`engine.flow.spot.spot_comparison` as a dict of columns, and (P,) ``spot_measured_speedup``,
     ``spot_speedup_ci_low``, ``spot_speedup_ci_high``, ``spot_model_speedup``.
     """
+    here = measured_position.measuring_index(assessment)
+    if here is not None:  # measured AT a position: see _measured_at_position
+        return _measured_at_position(assessment, air_density_kgm3, calibrate_with_spot_readings,
+                                     here)
     positions = assessment.positions
     hub = np.array([assessment.hub_height_m(p) for p in positions], dtype=float)
     k, free_c = free_stream_at_hub(assessment, hub)
@@ -170,6 +175,21 @@ def effective_climate(assessment, air_density_kgm3: float,
         eff = _with_spot_readings(assessment, eff, calibrate_with_spot_readings)
     _check_physics(eff)
     return eff
+
+
+def _measured_at_position(assessment, air_density_kgm3, calibrate, here):
+    """Effective climate for a climate measured at position ``here``.
+
+    The climate already holds that position's transfer and building speed-up. It is referred to
+    the free stream by the model's own speed factor at the logger (for the other positions),
+    then put back unchanged at its own position: no second transfer, no second building
+    speed-up (:mod:`engine.flow.measured_position`).
+    """
+    at_logger = effective_climate(measured_position.logger_only(assessment, here),
+                                  air_density_kgm3, False)
+    eff = effective_climate(measured_position.free_stream_equivalent(
+        assessment, at_logger.speed_factor[0]), air_density_kgm3, calibrate)
+    return measured_position.use_at_position(eff, assessment, here)
 
 
 def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_m):

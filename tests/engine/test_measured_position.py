@@ -1,0 +1,125 @@
+"""A climate measured at a position is used there as measured: no second transfer or speed-up."""
+import dataclasses
+
+import numpy as np
+import pytest
+
+from engine.chain import pipeline
+from engine.climate import fit, mcp
+from engine.climate.weibull import mixture_mean_ms
+from engine.core import model
+from engine.core.errors import InputError
+
+
+def _turbine():
+    v = tuple(float(x) for x in range(0, 26))
+    p = tuple(float(min(1000.0, 0.5 * 1.225 * 3.14 * 0.3 * x ** 3)) if x >= 3 else 0.0 for x in v)
+    return model.Turbine("t", "test 1 kW", "horizontal", 1000.0, v, p, 3.0, 10.0, 25.0,
+                         rotor_diameter_m=2.0)
+
+
+def _long_term_roof_record(seed=7):
+    """An invented two-year reference and a three-month roof logger on it, long-term corrected."""
+    rng = np.random.default_rng(seed)
+    n_ref = 2 * 8760
+    t_ref = np.arange(n_ref, dtype=np.int64) * 3600 * 10**9
+    d_ref = np.mod(rng.normal(225.0, 70.0, n_ref), 360.0)
+    v_ref = 6.0 * rng.weibull(2.0, n_ref)
+    conc = slice(n_ref - 2200, n_ref)
+    v_site = np.maximum(1.15 * v_ref[conc] + rng.normal(0, 0.6, 2200), 0.0)
+    res = mcp.mcp_long_term(t_ref[conc], v_site, d_ref[conc], t_ref, v_ref, d_ref,
+                            method="variance_ratio", n_sectors=12)
+    return res
+
+
+def _roof_site(climate):
+    site = model.Site(name="invented roof", terrain_roughness_m=0.5)
+    bldg = model.Building("b", 0.0, 0.0, 30.0, 15.0, 12.0, orientation_deg=90.0)
+    logger = model.Position("logger", "roof", 5.0, 2.0, 4.0, building_id="b")
+    twin = model.Position("twin", "roof", 5.0, 2.0, 4.0, building_id="b")
+    other = model.Position("other", "roof", -10.0, -3.0, 6.0, building_id="b")
+    return model.Assessment(site=site, climate=climate, buildings=(bldg,),
+                            positions=(logger, twin, other), turbines=(_turbine(),))
+
+
+def test_roof_logger_used_at_its_own_position_gives_its_long_term_mean():
+    """At the logger, the mean speed is the record's own long-term mean (within 1 %), and no
+    building factor is applied a second time (check value: the record itself)."""
+    res = _long_term_roof_record()
+    summary = fit.climate_from_series(res.speed_ms, res.direction_deg, res.time_ns,
+                                      height_m=16.0, roughness_m=0.5, source="long_term")
+    clim = dataclasses.replace(summary.climate, measured_at="position", position_id="logger")
+    a = _roof_site(clim)
+    ev = pipeline.evaluate(a)
+    eff = ev.climate
+    # The path: at the logger, speed factor 1 and the measured scale as the free stream.
+    assert np.all(eff.speed_factor[0] == 1.0)
+    np.testing.assert_allclose(eff.free_c_ms[0], clim.weibull_c_ms, rtol=1e-12)
+    np.testing.assert_allclose(eff.weibull_k[0], clim.weibull_k, rtol=1e-12)
+    assert eff.diagnostics["climate_measured_here"].tolist() == [True, False, False]
+    row = ev.table[ev.table.position_id == "logger"].iloc[0]
+    assert row.mean_speed_ms == pytest.approx(res.long_term_mean_ms, rel=0.01)
+    # A position identical to the logger gets the measured climate back through the model path
+    # (free stream = measured / model speed factor, then the model speed factor again).
+    np.testing.assert_allclose(eff.weibull_c_ms[1], eff.weibull_c_ms[0], rtol=1e-9)
+    # Taken as a reference instead, the same record is carried and sped up again: different.
+    as_ref = dataclasses.replace(a, climate=dataclasses.replace(clim, measured_at="reference",
+                                                                position_id=""))
+    wrong = pipeline.evaluate(as_ref).climate
+    double = mixture_mean_ms(wrong.frequency, wrong.weibull_k, wrong.weibull_c_ms)[0]
+    assert abs(double / res.long_term_mean_ms - 1.0) > 0.02
+    assert np.all(np.isfinite(eff.weibull_c_ms)) and np.all(eff.weibull_c_ms >= 0)
+
+
+def test_position_climate_must_name_a_position_at_its_height():
+    clim = model.WindClimate(height_m=30.0, roughness_m=0.5, frequency=(1.0,), weibull_k=(2.0,),
+                             weibull_c_ms=(5.0,), measured_at="position", position_id="logger")
+    with pytest.raises(InputError) as e:
+        _roof_site(clim)
+    assert "climate.height_m" in str(e.value)
+    with pytest.raises(InputError) as e:
+        _roof_site(dataclasses.replace(clim, height_m=16.0, position_id="nowhere"))
+    assert "climate.position_id" in str(e.value)
+    with pytest.raises(InputError):
+        dataclasses.replace(clim, position_id="")
+
+
+def test_measured_ti_replaces_the_model_at_the_logger():
+    clim = model.WindClimate(height_m=16.0, roughness_m=0.5, frequency=(0.5, 0.5),
+                             weibull_k=(2.0, 2.0), weibull_c_ms=(5.0, 6.0),
+                             measured_at="position", position_id="logger",
+                             turbulence_intensity=(0.21, 0.18))
+    ev = pipeline.evaluate(_roof_site(clim))
+    np.testing.assert_allclose(ev.climate.turbulence_intensity[0], (0.21, 0.18))
+    assert ev.climate.diagnostics["measured_ti_used"].tolist() == [True, False, False]
+
+
+def test_logger_file_with_sd_gives_measured_ti_used_in_the_energy(tmp_path):
+    """A two-height file with SD columns -> climate with measured TI and shear -> the energy at
+    the logger uses the measured TI (not the formula); shear as generated (power law)."""
+    import pandas as pd
+    from engine.climate.logger import logger_climate
+    rng = np.random.default_rng(11)
+    n = 6000
+    t = pd.date_range("2025-01-01", periods=n, freq="10min", tz="UTC")
+    d = rng.uniform(0, 360, n)
+    u2 = 4.0 * rng.weibull(2.0, n) + 0.5
+    u4 = u2 * 2.0 ** 0.3
+    df = pd.DataFrame({"timestamp": t.strftime("%Y-%m-%dT%H:%M:%SZ"), "ws_2m": u2.round(3),
+                       "ws_2m_sd": (0.3 * u2).round(3), "wd_2m": d.round(1),
+                       "ws_4m": u4.round(3), "ws_4m_sd": (0.25 * u4).round(3)})
+    lc = logger_climate(df.to_csv(index=False).encode(), "logger.csv", base_height_m=12.0,
+                        position_id="logger", roughness_m=0.5, distance_constant_m=0.0)
+    c = lc.climate
+    assert c.height_m == 16.0 and c.measured_at == "position" and c.averaging_s == 600.0
+    np.testing.assert_allclose(c.turbulence_intensity, 0.25, rtol=2e-3)
+    np.testing.assert_allclose(c.shear_exponent, 0.3, rtol=0.02)  # generated with α = 0.3
+    a = _roof_site(c)
+    ev = pipeline.evaluate(a)
+    np.testing.assert_allclose(ev.climate.turbulence_intensity[0], c.turbulence_intensity)
+    no_ti = pipeline.evaluate(dataclasses.replace(a, climate=dataclasses.replace(
+        c, turbulence_intensity=())))
+    assert not np.allclose(no_ti.climate.turbulence_intensity[0], c.turbulence_intensity)
+    e1 = ev.table.set_index("position_id").gross_aep_kwh["logger"]
+    e0 = no_ti.table.set_index("position_id").gross_aep_kwh["logger"]
+    assert e1 != pytest.approx(e0, rel=1e-6)
