@@ -63,7 +63,8 @@ def free_stream_equivalent(assessment, speed_factor_at_logger):
     Parameters
     ----------
     assessment : :class:`engine.core.model.Assessment` with a position-measured climate
-    speed_factor_at_logger : (S,) the building model's speed factor at the logger [-]
+    speed_factor_at_logger : (S,) the model's speed factor from the climate to the logger's
+        rotor (building effects, and the transfer where its terrain is not the site's z0) [-]
 
     Notes
     -----
