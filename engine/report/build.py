@@ -13,6 +13,7 @@ from engine.chain.documents import rank_document
 from engine.chain.ranking import OBJECTIVE_COLUMNS, exclusion_reasons
 from engine.chain.verdict import headline_for
 from engine.core import __version__
+from engine.energy.uncertainty import with_climate
 from engine.report import appendix
 from engine.report.cautions import CAUTIONS_SHORT, caution_lines
 from engine.report.content import (Bullets, FigureBlock, Paragraph, Section, Summary, Table,
@@ -233,7 +234,8 @@ def _charts(evaluation, best, with_charts) -> Section:
 
 
 def _quality(a, best, records, centre) -> Section:
-    c, u = a.climate, a.uncertainty
+    c, u = a.climate, with_climate(a.uncertainty, a.climate)
+    lt_from = (" (the long-term correction's own)" if u is not a.uncertainty else "")
     qual = [Table("climate", ("Item", "Value"), (
         ("Climate source", c.source),
         ("Description", c.label or DASH),
@@ -246,7 +248,8 @@ def _quality(a, best, records, centre) -> Section:
         ("Spot readings", str(len(a.spot_readings))),
     ), ("l", "l"))]
     unc_rows = (("Wind data (measurement)", fmt_percent(u.speed_data), "of mean speed"),
-                ("Long-term representativeness", fmt_percent(u.speed_long_term), "of mean speed"),
+                ("Long-term representativeness" + lt_from, fmt_percent(u.speed_long_term),
+                 "of mean speed"),
                 ("Transfer to the site", fmt_percent(u.speed_transfer), "of mean speed"),
                 ("Building flow model", fmt_percent(u.speed_building_model), "of mean speed"),
                 ("Power curve", fmt_percent(u.energy_power_curve), "of energy"))
