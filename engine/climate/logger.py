@@ -97,14 +97,15 @@ def logger_climate(data: bytes, file_name: str, *, base_height_m: float = 0.0,
     ok = report.valid
     v, d = rec.si("speed")[ok], rec.si("direction")[ok]
     sd = hr.sd_ms[i][ok]
-    ti_s, ti_table = measured.measured_ti(v, sd, d, z, n_sectors, distance_constant_m)
+    step = averaging.averaging_interval_s(rec.time_ns[ok])
+    ti_s, ti_table = measured.measured_ti(v, ten_minute_sd(sd, v, z, step), d, z, n_sectors,
+                                          distance_constant_m)
     shear_t = None
     if len(hr.heights_m) >= 2:
         valid = np.all([qc.run_qc(r, qc_settings).valid for r in hr.records], axis=0)
         shear_t = shear.fit_shear(hr.heights_m, np.vstack([r.si("speed")[valid]
                                                            for r in hr.records]),
                                   rec.si("direction")[valid], n_sectors)
-    step = averaging.averaging_interval_s(rec.time_ns[ok])
     factor, note = averaging.averaging_correction(
         v, sector_index(d, n_sectors), n_sectors, step, z, roughness_m,
         sd_ms=sd if np.isfinite(sd).any() else None)
@@ -121,6 +122,31 @@ def logger_climate(data: bytes, file_name: str, *, base_height_m: float = 0.0,
     return LoggerClimate(climate=clim, summary=summary, qc=report, heights_m=hr.heights_m,
                          ti_table=ti_table, shear_table=shear_t, averaging_factor=factor,
                          long_term=lt, series=series, notes=tuple(notes))
+
+
+def ten_minute_sd(sd_ms, speed_ms, height_m, interval_s):
+    """The within-10-minute part of a logged standard deviation [m/s], (N,).
+
+    Parameters
+    ----------
+    sd_ms, speed_ms : (N,) logged standard deviation over the interval and mean speed [m/s]
+    height_m : measurement height [m]
+    interval_s : the record's averaging interval T [s]
+
+    Notes
+    -----
+    σ_10 = σ_T √(1 − β), β the share of the T-second variance lying between 10-minute means
+    (:func:`engine.climate.averaging.between_share`). For hourly or longer records that share
+    is already credited to the energy by the averaging correction (the cube factor on c), so
+    the turbulence intensity the curve normalisation uses must not hold it again; power
+    curves and their TI are 10-minute quantities (IEC 61400-12-1). Records of 10 minutes or
+    less are returned unchanged.
+    """
+    sd = np.asarray(sd_ms, float)
+    if interval_s < averaging.LONG_AVERAGING_S or not np.isfinite(sd).any():
+        return sd
+    beta = averaging.between_share(np.asarray(speed_ms, float), height_m, interval_s)
+    return sd * np.sqrt(np.clip(1.0 - beta, 0.0, 1.0))
 
 
 def _exponents(shear_t, notes) -> tuple:

@@ -123,3 +123,106 @@ def test_logger_file_with_sd_gives_measured_ti_used_in_the_energy(tmp_path):
     e1 = ev.table.set_index("position_id").gross_aep_kwh["logger"]
     e0 = no_ti.table.set_index("position_id").gross_aep_kwh["logger"]
     assert e1 != pytest.approx(e0, rel=1e-6)
+
+
+def _position_climate(lt=0.0):
+    return model.WindClimate(height_m=16.0, roughness_m=0.5, frequency=(0.5, 0.5),
+                             weibull_k=(2.0, 2.0), weibull_c_ms=(5.0, 6.0),
+                             measured_at="position", position_id="logger",
+                             turbulence_intensity=(0.21, 0.18), long_term_uncertainty=lt)
+
+
+def test_position_measured_table_declares_its_columns():
+    """The two position-measured diagnostics are ranked-table columns of the result contract."""
+    from engine.chain import columns
+    ev = pipeline.evaluate(_roof_site(_position_climate()))
+    assert columns.undeclared(ev.table.columns) == []
+    here = ev.table.set_index("position_id")
+    assert bool(here.climate_measured_here["logger"]) and not here.climate_measured_here["other"]
+    assert bool(here.measured_ti_used["logger"]) and not here.measured_ti_used["twin"]
+
+
+def test_screening_and_pipeline_refer_a_position_climate_to_the_free_stream_alike():
+    """The screening gets the same free-stream climate the pipeline uses for the positions
+    other than the logger (engine.flow.effective.reference_climate), never the logger's
+    climate as a reference; a position climate given to a screening directly is refused."""
+    from engine.flow import effective
+    from engine.screening import settings
+    a = _roof_site(_position_climate())
+    ref = effective.reference_climate(a)
+    assert ref.measured_at == "reference"
+    ctx = settings.context_from_assessment(a)
+    assert ctx.climates[""] == ref
+    # Pipeline, other positions: the ordinary chain on that same reference climate.
+    ev = pipeline.evaluate(a).climate
+    plain = effective.effective_climate(dataclasses.replace(a, climate=ref), ev.air_density_kgm3)
+    np.testing.assert_allclose(ev.weibull_c_ms[2], plain.weibull_c_ms[2], rtol=1e-12)
+    # Referred down by the model's factor at the roof logger (a speed-up or a shelter, not 1).
+    assert not np.allclose(ref.weibull_c_ms, a.climate.weibull_c_ms, rtol=1e-3)
+    with pytest.raises(InputError) as e:
+        settings.ScreeningContext(site=a.site, climates={"": a.climate}, turbines=a.turbines)
+    assert "measured_at" in str(e.value) and "logger" in str(e.value)
+
+
+def test_long_term_correction_uncertainty_enters_the_p_values():
+    """σ_LT from the correction replaces the stated long-term component when larger (same
+    component, not added), so P90 equals a run with that component stated; a smaller computed
+    value leaves the stated one (a floor). P50 does not move."""
+    base = pipeline.evaluate(_roof_site(_position_climate(0.0))).table.set_index("position_id")
+    high = pipeline.evaluate(_roof_site(_position_climate(0.10))).table.set_index("position_id")
+    low = pipeline.evaluate(_roof_site(_position_climate(0.01))).table.set_index("position_id")
+    stated = _roof_site(_position_climate(0.0))
+    stated = dataclasses.replace(stated, uncertainty=dataclasses.replace(
+        stated.uncertainty, speed_long_term=0.10))
+    same = pipeline.evaluate(stated).table.set_index("position_id")
+    assert model.Uncertainty().speed_long_term == pytest.approx(0.04)
+    np.testing.assert_allclose(high.p50_aep_kwh, base.p50_aep_kwh, rtol=1e-12)
+    np.testing.assert_allclose(high.p90_aep_kwh, same.p90_aep_kwh, rtol=1e-12)
+    np.testing.assert_allclose(high.p90_one_year_aep_kwh, same.p90_one_year_aep_kwh, rtol=1e-12)
+    assert np.all(high.p90_aep_kwh < base.p90_aep_kwh)
+    np.testing.assert_allclose(low.p90_aep_kwh, base.p90_aep_kwh, rtol=1e-12)
+
+
+def _kaimal_between_share(U, z, T, short=600.0):
+    """Reference β = 1 − V(600 s)/V(T), Kaimal spectrum (IEC 61400-1 annex C, from memory),
+    by scipy.integrate.quad."""
+    from scipy import integrate
+    l1 = 8.1 * 0.7 * min(z, 60.0)
+
+    def v(win):
+        def g(lf):
+            f = np.exp(lf)
+            n = f * l1 / U
+            return 4 * n / (1 + 6 * n) ** (5 / 3) * (1 - np.sinc(f * win) ** 2)
+        return integrate.quad(g, np.log(1e-6), np.log(100), limit=500)[0]
+    return 1.0 - v(short) / v(T)
+
+
+@pytest.mark.parametrize("step", ["10min", "60min"])
+def test_hourly_sd_gives_the_ten_minute_turbulence_not_the_between_variance(step):
+    """An hourly logged SD holds the variance between 10-minute means, which the averaging
+    correction already credits to the energy (the cube factor); the TI the curve normalisation
+    uses is the 10-minute one, σ_T √(1 − β). Reference β by scipy quadrature of the Kaimal
+    spectrum; a 10-minute record keeps its SD."""
+    import pandas as pd
+    from engine.climate.logger import logger_climate
+    rng = np.random.default_rng(5)
+    n = 3000
+    t = pd.date_range("2025-01-01", periods=n, freq=step, tz="UTC")
+    levels = np.array([5.0, 7.0, 9.0, 11.0])
+    pick = rng.integers(0, 4, n)
+    u = levels[pick] + rng.normal(0.0, 0.01, n)
+    d = rng.uniform(0, 360, n).round(1)
+    df = pd.DataFrame({"timestamp": t.strftime("%Y-%m-%dT%H:%M:%SZ"), "ws_4m": u.round(4),
+                       "ws_4m_sd": (0.3 * u).round(4), "wd_4m": d})
+    lc = logger_climate(df.to_csv(index=False).encode(), "logger.csv", base_height_m=12.0,
+                        position_id="logger", roughness_m=0.5, distance_constant_m=0.0)
+    beta = np.array([_kaimal_between_share(x, 16.0, 3600.0) for x in levels])
+    if step == "10min":
+        beta[:] = 0.0
+    per_record = 0.3 * np.sqrt(1.0 - beta[pick])
+    sector = np.floor(np.mod(d + 15.0, 360.0) / 30.0).astype(int) % 12  # 12 centred sectors
+    ref = np.bincount(sector, per_record, 12) / np.bincount(sector, minlength=12)
+    assert (beta.min() > 0.02) == (step == "60min")
+    np.testing.assert_allclose(lc.climate.turbulence_intensity, ref, rtol=5e-3)
+    assert (np.all(lc.averaging_factor > 1.0)) == (step == "60min")
