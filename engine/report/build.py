@@ -245,6 +245,11 @@ def _quality(a, best, records, centre) -> Section:
         ("Measured record", (f"{c.record_file} (SHA-256 {c.record_sha256})"
                              if c.record_file else "none: the climate is a table")),
         ("Monthly mean speeds", "given" if c.monthly_mean_ms else "not given"),
+        ("Measured at", (f"position {c.position_id}: used there as measured, referred to the "
+                         "free stream for the others" if c.measured_at == "position"
+                         else "a reference, carried to every position")),
+        ("Measured turbulence", ("per sector, used at the logger's position"
+                                 if c.turbulence_intensity else "none: modelled")),
         ("Spot readings", str(len(a.spot_readings))),
     ), ("l", "l"))]
     unc_rows = (("Wind data (measurement)", fmt_percent(u.speed_data), "of mean speed"),

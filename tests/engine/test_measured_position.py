@@ -226,3 +226,17 @@ def test_hourly_sd_gives_the_ten_minute_turbulence_not_the_between_variance(step
     assert (beta.min() > 0.02) == (step == "60min")
     np.testing.assert_allclose(lc.climate.turbulence_intensity, ref, rtol=5e-3)
     assert (np.all(lc.averaging_factor > 1.0)) == (step == "60min")
+
+
+def test_summary_says_where_the_climate_was_measured_and_the_long_term_sigma_used():
+    """The siting summary's quality tables name the logger's position, the measured TI, and the
+    long-term component actually used (9 % from the correction over the stated 4 %)."""
+    from engine import report
+    ev = pipeline.evaluate(_roof_site(_position_climate(0.09)))
+    s = report.build_summary(ev, with_charts=False)
+    rows = dict((r[0], r[1]) for r in s.table("climate").rows)
+    assert rows["Measured at"].startswith("position logger")
+    assert rows["Measured turbulence"].startswith("per sector")
+    unc = {r[0]: r[1] for r in s.table("uncertainty").rows}
+    key = next(k for k in unc if k.startswith("Long-term representativeness"))
+    assert "long-term correction" in key and unc[key] == "9.0 %"
