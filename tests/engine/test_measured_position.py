@@ -240,3 +240,22 @@ def test_summary_says_where_the_climate_was_measured_and_the_long_term_sigma_use
     unc = {r[0]: r[1] for r in s.table("uncertainty").rows}
     key = next(k for k in unc if k.startswith("Long-term representativeness"))
     assert "long-term correction" in key and unc[key] == "9.0 %"
+
+
+def test_taller_masts_at_the_logger_are_modelled_from_the_free_stream():
+    """The what-if mast search at the logger's position neither fails (the logger's climate
+    holds its own height only) nor reuses the measured climate at other heights: its NPV at a
+    taller mast is that of the chain re-run there with the free-stream climate."""
+    from engine.chain import whatif
+    from engine.flow import effective
+    a = _roof_site(_position_climate())
+    ev = pipeline.evaluate(a)
+    h, frame = whatif.mast_height_to_pay_back_m(ev, "logger", "t")
+    assert len(frame) > 3 and np.all(np.isfinite(frame["npv"]))
+    taller = float(frame["mast_height_m"].iloc[2])
+    pos = tuple(dataclasses.replace(p, mast_height_m=taller) if p.id == "logger" else p
+                for p in a.positions)
+    rerun = pipeline.evaluate(dataclasses.replace(a, climate=effective.reference_climate(a),
+                                                  positions=pos)).table
+    row = rerun[rerun.position_id == "logger"].iloc[0]
+    assert frame["npv"].iloc[2] == pytest.approx(row["npv"], rel=1e-9, abs=1e-6)
