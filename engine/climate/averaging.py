@@ -13,6 +13,12 @@ deviation over the interval T and β the share of that variance lying between 10
 (:func:`between_share`). Without SD columns, σ_T = I_v U with the EN 1991-1-4 turbulence
 intensity I_v = 1/ln(z/z0) (k_l = c_o = 1): a stated, model-based factor, warned about.
 
+A long-term corrected climate is fitted on the predicted series, which has the reference's
+interval (hourly, 3-hourly), even when the logger wrote 10-minute means. The factor is then
+measured on the logger's own record over the concurrent period (:func:`finer_means_cube_factor`):
+F_s = Σ v³ / Σ U³, v the logger's means and U the mean of the reference interval each falls in,
+with no spectrum or Gaussian assumption.
+
 References
 ----------
 IEC 61400-1:2019 annex C (Kaimal spectrum), from memory. EN 1991-1-4:2005 eq. 4.7 (I_v).
@@ -20,6 +26,9 @@ IEC 61400-1:2019 annex C (Kaimal spectrum), from memory. EN 1991-1-4:2005 eq. 4.
 from __future__ import annotations
 
 import numpy as np
+
+from engine.climate.mcp import average_onto
+from engine.climate.sectors import sector_index
 
 #: Intervals at or above this are "hourly or longer" and corrected [s].
 LONG_AVERAGING_S = 3000.0
@@ -64,6 +73,42 @@ def cube_factor(speed_ms, sigma_between_ms, sector, n_sectors: int):
     g = np.asarray(sector, np.intp)
     num = np.bincount(g, u ** 3 + 3.0 * u * s2, n_sectors)
     den = np.bincount(g, u ** 3, n_sectors)
+    return np.divide(num, den, out=np.ones(n_sectors), where=den > 0)
+
+
+def finer_means_cube_factor(time_ns, speed_ms, direction_deg, grid_time_ns, interval_s,
+                            n_sectors: int):
+    """Per-sector F_s = Σ v³ / Σ U³ of a finer record against its own means over longer intervals.
+
+    Parameters
+    ----------
+    time_ns, speed_ms, direction_deg : (N,) the finer record's valid rows (UTC ns, m/s, deg)
+    grid_time_ns : (G,) starts of the longer intervals (the reference's times) [ns]
+    interval_s : length of the longer intervals [s]
+    n_sectors : direction sectors
+
+    Returns
+    -------
+    (S,) factor on mean V³ [-] (1 for a sector without a covered interval)
+
+    Notes
+    -----
+    U is the mean of the finer values in the interval a value falls in (intervals at least half
+    covered, :func:`engine.climate.mcp.average_onto`), the sector that of the interval's vector
+    mean direction, so every interval adds mean(v³) ≥ mean(v)³ to its sector (Jensen's
+    inequality): F_s ≥ 1.
+    """
+    t = np.asarray(time_ns, np.int64)
+    v = np.asarray(speed_ms, float)
+    g = np.asarray(grid_time_ns, np.int64)
+    u, d_mean, ok = average_onto(t, v, direction_deg, g, interval_s)
+    idx = np.searchsorted(g, t, side="right") - 1
+    inside = (idx >= 0) & (t < g[np.clip(idx, 0, None)] + np.int64(round(interval_s * 1e9)))
+    keep = inside & ok[np.clip(idx, 0, None)]
+    cell = idx[keep]
+    sec = sector_index(d_mean[cell], n_sectors)
+    num = np.bincount(sec, v[keep] ** 3, n_sectors)
+    den = np.bincount(sec, u[cell] ** 3, n_sectors)
     return np.divide(num, den, out=np.ones(n_sectors), where=den > 0)
 
 

@@ -106,22 +106,43 @@ def logger_climate(data: bytes, file_name: str, *, base_height_m: float = 0.0,
         shear_t = shear.fit_shear(hr.heights_m, np.vstack([r.si("speed")[valid]
                                                            for r in hr.records]),
                                   rec.si("direction")[valid], n_sectors)
-    factor, note = averaging.averaging_correction(
-        v, sector_index(d, n_sectors), n_sectors, step, z, roughness_m,
-        sd_ms=sd if np.isfinite(sd).any() else None)
-    if note:
-        notes.append(note)
+    factor, interval_s = _averaging_factor(rec.time_ns[ok], v, d, sd, step, z, roughness_m,
+                                           n_sectors, lt, notes)
     c = summary.climate
     clim = replace(c, weibull_c_ms=tuple(float(x) for x in np.asarray(c.weibull_c_ms)
                                          * factor ** (1.0 / 3.0)),
                    measured_at="position" if position_id else "reference",
-                   position_id=position_id, averaging_s=step,
+                   position_id=position_id, averaging_s=interval_s,
                    turbulence_intensity=tuple(float(x) for x in ti_s)
                    if np.all(np.isfinite(ti_s)) else (),
                    shear_exponent=_exponents(shear_t, notes))
     return LoggerClimate(climate=clim, summary=summary, qc=report, heights_m=hr.heights_m,
                          ti_table=ti_table, shear_table=shear_t, averaging_factor=factor,
                          long_term=lt, series=series, notes=tuple(notes))
+
+
+def _averaging_factor(time_ns, v, d, sd, step, z, roughness_m, n_sectors, lt, notes):
+    """(factor on mean V³ per sector, the climate's interval [s]); a note appended if any.
+
+    The record's own interval is corrected from its SD (:func:`engine.climate.averaging.
+    averaging_correction`); a long-term series at a longer interval than the record's is
+    corrected, on top, by the factor measured on the record itself over the concurrent period
+    (:func:`engine.climate.averaging.finer_means_cube_factor`).
+    """
+    factor, note = averaging.averaging_correction(
+        v, sector_index(d, n_sectors), n_sectors, step, z, roughness_m,
+        sd_ms=sd if np.isfinite(sd).any() else None)
+    if note:
+        notes.append(note)
+    lt_step = averaging.averaging_interval_s(lt.mcp.time_ns) if lt is not None else 0.0
+    if lt_step <= step or lt_step < averaging.LONG_AVERAGING_S:
+        return factor, step
+    f_lt = averaging.finer_means_cube_factor(time_ns, v, d, lt.mcp.time_ns, lt_step, n_sectors)
+    notes.append(f"the long-term series averages over {lt_step / 60:.0f} minutes (the "
+                 f"reference's interval): mean V³ raised by {100 * (f_lt.min() - 1):.1f}-"
+                 f"{100 * (f_lt.max() - 1):.1f} % per sector, measured from the logger's own "
+                 f"{step / 60:.0f}-minute means within those intervals")
+    return factor * f_lt, lt_step
 
 
 def ten_minute_sd(sd_ms, speed_ms, height_m, interval_s):

@@ -259,3 +259,39 @@ def test_taller_masts_at_the_logger_are_modelled_from_the_free_stream():
                                                   positions=pos)).table
     row = rerun[rerun.position_id == "logger"].iloc[0]
     assert frame["npv"].iloc[2] == pytest.approx(row["npv"], rel=1e-9, abs=1e-6)
+
+
+def test_long_term_series_at_the_reference_interval_gets_the_loggers_own_cube_factor():
+    """A 10-minute logger corrected against an hourly reference gives an hourly long-term
+    series; its climate is raised by the factor measured on the logger itself, Σ v³ / Σ U³
+    over the concurrent hours (hand formula recomputed here with pandas), and says so."""
+    import pandas as pd
+    from engine.climate.logger import logger_climate
+    rng = np.random.default_rng(21)
+    hours = 3 * 8760
+    t_ref = pd.date_range("2022-01-01", periods=hours, freq="h", tz="UTC")
+    u_ref = 6.0 * rng.weibull(2.0, hours) + 0.3
+    d_ref = rng.uniform(0, 360, hours)
+    ref_csv = pd.DataFrame({"timestamp": t_ref.strftime("%Y-%m-%dT%H:%M:%SZ"),
+                            "speed_ms": u_ref.round(3), "direction_deg": d_ref.round(1)})
+    conc = 2000  # the last 2000 hours are logged at 10 minutes
+    u_h = np.repeat(1.2 * u_ref[-conc:], 6)
+    v10 = np.maximum(u_h * (1.0 + 0.12 * rng.standard_normal(u_h.size)), 0.0).round(3)
+    t10 = pd.date_range(t_ref[-conc], periods=6 * conc, freq="10min", tz="UTC")
+    log_csv = pd.DataFrame({"timestamp": t10.strftime("%Y-%m-%dT%H:%M:%SZ"), "ws_4m": v10,
+                            "ws_4m_sd": (0.2 * v10).round(3),
+                            "wd_4m": np.mod(np.repeat(d_ref[-conc:], 6)
+                                            + rng.normal(0.0, 5.0, v10.size), 360).round(1)})
+    lc = logger_climate(log_csv.to_csv(index=False).encode(), "logger.csv", base_height_m=12.0,
+                        position_id="logger", roughness_m=0.5, n_sectors=1,
+                        reference={"reference_data": ref_csv.to_csv(index=False).encode(),
+                                   "reference_name": "ref.csv"})
+    assert lc.climate.averaging_s == 3600.0
+    hourly = pd.Series(v10, index=t10).groupby(np.arange(v10.size) // 6).transform("mean")
+    want = np.sum(v10 ** 3) / np.sum(hourly.to_numpy() ** 3)
+    assert lc.averaging_factor[0] == pytest.approx(want, rel=1e-9)
+    assert want > 1.01
+    np.testing.assert_allclose(lc.climate.weibull_c_ms,
+                               np.asarray(lc.summary.climate.weibull_c_ms) * want ** (1 / 3),
+                               rtol=1e-9)
+    assert any("reference's interval" in n for n in lc.notes)
