@@ -304,7 +304,7 @@ def energy_before(f, k, c, ti, skew, turbs, rho):
     table = energy.turbulent_curve_table_w(turbs, rho, grid, edges)
     w = energy.lookup_turbulent_curve_w(energy.bin_weights_w(table), grid, ti)
     k_b = np.ascontiguousarray(np.broadcast_to(k[:, None, :], skew_f.shape))
-    g = np.exp(-energy._weibull_x(edges, k_b, c[:, None, :] * skew_f))
+    g = np.exp(-energy.weibull_x(edges, k_b, c[:, None, :] * skew_f))
     per = np.einsum("...j,...j->...", g, w)
     return np.maximum(energy.HOURS_PER_YEAR * np.sum(f[:, None, :] * per, axis=-1), 0.0)
 

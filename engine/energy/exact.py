@@ -1,6 +1,6 @@
 """Exact annual energy of a piecewise-linear power curve against sector Weibull distributions.
 
-The method of bins (:mod:`engine.energy.aep`) credits each 0.5 m/s bin with the mean of its end
+The method of bins (:mod:`engine.energy.bins`) credits each 0.5 m/s bin with the mean of its end
 powers; at low mean speeds, where the probability falls steeply across a bin while the power
 rises, that overstates the energy by a few per cent. Here the same density- and
 turbulence-adjusted curve, taken as linear pieces between knots (the bin edges and every knot
@@ -14,7 +14,7 @@ P the regularised lower incomplete gamma function (``scipy.special.gammainc``). 
 parts over the pieces this is E = Σ_j exp(−u_j) a_j + c Γ(1 + 1/k) Σ_j P(1 + 1/k, u_j) b_j,
 with a_j = α_j − α_(j−1) and b_j = β_(j−1) − β_j: one exponential and one incomplete gamma
 per knot, and the weights (a, b) are linear in the curve, so the turbulence table's rows
-are interpolated in TI exactly as in :func:`engine.energy.aep._blocked_bins_sums`.
+are interpolated in TI exactly as in :func:`engine.energy.bins.blocked_bins_sums`.
 
 References
 ----------
@@ -32,7 +32,7 @@ import math
 import numpy as np
 from scipy.special import gamma, gammainc
 
-from engine.energy import aep as energy
+from engine.energy import curves
 
 #: Positions worked at once (their (positions, axis types, sectors, knots) arrays are small).
 EXACT_BLOCK_ROWS = 512
@@ -40,10 +40,10 @@ EXACT_BLOCK_ROWS = 512
 KNOT_TOP_MS = 50.0
 
 
-def curve_knots_ms(turbines, air_density_kgm3, edges_ms=energy.DEFAULT_EDGES_MS):
+def curve_knots_ms(turbines, air_density_kgm3, edges_ms=curves.DEFAULT_EDGES_MS):
     """Knots of the piecewise-linear adjusted curves: the bin edges and every curve knot [m/s]."""
     parts = [np.asarray(edges_ms, float)]
-    parts += [energy.curve_segments(t, air_density_kgm3)[0] for t in turbines]
+    parts += [curves.curve_segments(t, air_density_kgm3)[0] for t in turbines]
     x = np.unique(np.concatenate(parts))
     return x[(x >= 0.0) & (x <= KNOT_TOP_MS)]
 
@@ -84,13 +84,13 @@ def exact_table(recipe):
     a_all, b_all = [], []
     for t in turbines:
         a_t, b_t = [], []
-        start = energy.site_turbulence_curve_w(t, rho, knots[:-1], ti, *model, side="right")
-        end = energy.site_turbulence_curve_w(t, rho, knots[1:], ti, *model, side="left")
+        start = curves.site_turbulence_curve_w(t, rho, knots[:-1], ti, *model, side="right")
+        end = curves.site_turbulence_curve_w(t, rho, knots[1:], ti, *model, side="left")
         for nc in halves:
-            if nc:  # capped at the published curve, as energy.site_turbulence_curve_w does
-                pieces = energy.curve_segments(t, rho)
-                start = np.minimum(start, energy.published_power_w(*pieces, knots[:-1], "right"))
-                end = np.minimum(end, energy.published_power_w(*pieces, knots[1:], "left"))
+            if nc:  # capped at the published curve, as curves.site_turbulence_curve_w does
+                pieces = curves.curve_segments(t, rho)
+                start = np.minimum(start, curves.published_power_w(*pieces, knots[:-1], "right"))
+                end = np.minimum(end, curves.published_power_w(*pieces, knots[1:], "left"))
             a, b = piece_weights(knots, start, end)
             a_t.append(a)
             b_t.append(b)
@@ -102,12 +102,12 @@ def exact_table(recipe):
     return out
 
 
-def exact_energy_wh(setup, scale=1.0, hours=energy.HOURS_PER_YEAR, also=()):
-    """Energy [Wh] of a :class:`engine.energy.aep.BinsSetup`'s curves, integrated exactly, (P, T).
+def exact_energy_wh(setup, scale=1.0, hours=curves.HOURS_PER_YEAR, also=()):
+    """Energy [Wh] of a :class:`engine.energy.bins.BinsSetup`'s curves, integrated exactly, (P, T).
 
     Parameters
     ----------
-    setup : :class:`engine.energy.aep.BinsSetup` (its Weibull terms, TI rows and curve recipe)
+    setup : :class:`engine.energy.bins.BinsSetup` (its Weibull terms, TI rows and curve recipe)
     scale : factor on every sector's speed scale [-]
     hours : hours in the period [h]
     also : further setups with the same Weibull terms (the same climate and turbines with

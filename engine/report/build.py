@@ -1,14 +1,16 @@
 """Building the siting summary's content: the body a client reads (numbered sections).
 
 :func:`build_summary` turns an :class:`~engine.chain.pipeline.Evaluation` into a
-:class:`~engine.report.content.Summary`: the body here (question, recommendation, ranking,
-costs, charts, data quality, cautions) and the appendix from :mod:`engine.report.appendix`
+:class:`~engine.report.content.Summary`: the body here (the answer in two sentences, the
+question, leading option, ranking, costs, charts, data quality, cautions) and the appendix from
+:mod:`engine.report.appendix`
 (inputs as entered, further results, methods, reproducibility, data files). Every number is
 formatted here, once, for both renderers.
 """
 from __future__ import annotations
 
 from engine.chain import columns as contract
+from engine.chain.answer import answer_for
 from engine.chain.documents import rank_document
 from engine.chain.ranking import OBJECTIVE_COLUMNS, exclusion_reasons
 from engine.chain.verdict import headline_for
@@ -321,8 +323,9 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
     best, rec_blocks = recommendation(evaluation, records)
     ranking, shown = _ranking(evaluation, records, centre)
     costs, cost_cols = _costs(a, records, raw)
-    body = [_question(a, doc, stamp, assessor, notes),
-            Section("recommendation", "Recommended position and why", tuple(rec_blocks)),
+    body = [Section("answer", "The answer", tuple(Paragraph(t) for t in answer_for(evaluation))),
+            _question(a, doc, stamp, assessor, notes),
+            Section("recommendation", "Leading option and why", tuple(rec_blocks)),
             ranking, costs, _charts(evaluation, best, with_charts),
             _quality(a, best, records, centre), _cautions(assessor)]
     extra, attachments = appendix.appendix_sections(

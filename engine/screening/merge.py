@@ -258,7 +258,7 @@ def _as_object_text(frame: pd.DataFrame) -> pd.DataFrame:
     return frame
 
 
-def _array_bytes(arr) -> memoryview:
+def array_bytes(arr) -> memoryview:
     """The bytes of an Arrow (large) string array's values, end to end."""
     if len(arr) == 0:
         return memoryview(b"")
@@ -477,7 +477,7 @@ def _write_merged(fh, files, head_rows: int):
         lines = pa.concat_arrays([t[2] for _, t in pieces]).take(pa.array(order))
         ranks = pa.array(np.arange(n_done + 1, n_done + len(order) + 1).astype(str),
                          type=pa.large_string())
-        fh.write(_array_bytes(pc.binary_join_element_wise(
+        fh.write(array_bytes(pc.binary_join_element_wise(
             ranks, lines, pa.scalar(",", pa.large_string()))))
         if n_done < head_rows:
             take = order[:head_rows - n_done]

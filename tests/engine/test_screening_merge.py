@@ -135,13 +135,13 @@ def test_emitted_blocks_stay_within_files_times_block(tmp_path, monkeypatch):
     cuts = [0, 500, 1700, 1701, 3000]
     paths = spill(table, cuts, tmp_path)
     sizes = []
-    real = sm._array_bytes
+    real = sm.array_bytes
 
     def spy(lines):
         sizes.append(len(lines))
         return real(lines)
 
-    monkeypatch.setattr(sm, "_array_bytes", spy)
+    monkeypatch.setattr(sm, "array_bytes", spy)
     got = sm.merge_sorted_parts(paths, tmp_path / "r.csv", columns=list(table.columns),
                                 block_rows=40)
     assert got.n_rows == 3000 and sum(sizes) == 3000
