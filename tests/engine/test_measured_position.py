@@ -295,3 +295,14 @@ def test_long_term_series_at_the_reference_interval_gets_the_loggers_own_cube_fa
                                np.asarray(lc.summary.climate.weibull_c_ms) * want ** (1 / 3),
                                rtol=1e-9)
     assert any("reference's interval" in n for n in lc.notes)
+
+
+def test_answer_names_the_long_term_correction_when_its_own_sigma_is_the_largest():
+    """σ_LT 30 % from a poor correction outweighs the stated building-model 12 %: the summary's
+    answer names the long-term correction as the largest uncertainty (the same σ the P90 used)."""
+    from engine.chain import answer
+    ev = pipeline.evaluate(_roof_site(_position_climate(0.30)))
+    _, second = answer.answer_for(ev)
+    assert answer.COMPONENT_WORDS["speed_long_term"] in second
+    ev0 = pipeline.evaluate(_roof_site(_position_climate(0.0)))
+    assert answer.COMPONENT_WORDS["speed_long_term"] not in answer.answer_for(ev0)[1]
