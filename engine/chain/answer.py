@@ -11,7 +11,7 @@ from __future__ import annotations
 import numpy as np
 
 from engine.chain.verdict import VERDICTS, add_verdicts
-from engine.energy.uncertainty import SPEED_COMPONENTS
+from engine.energy.uncertainty import SPEED_COMPONENTS, with_climate
 
 #: What to measure or ask for next, by the uncertainty component it narrows.
 MEASURE_NEXT = {
@@ -129,4 +129,5 @@ def answer_sentences(table, economics, uncertainty) -> tuple[str, str]:
 def answer_for(evaluation) -> tuple[str, str]:
     """:func:`answer_sentences` of an :class:`engine.chain.pipeline.Evaluation`."""
     a = evaluation.assessment
-    return answer_sentences(evaluation.table, a.economics, a.uncertainty)
+    # The uncertainties the P-values used (a long-term correction's own σ where larger).
+    return answer_sentences(evaluation.table, a.economics, with_climate(a.uncertainty, a.climate))

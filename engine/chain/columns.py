@@ -132,6 +132,12 @@ COLUMNS = (
       "measured speed factor's 95 % confidence interval", "flow.spot", digits=3),
     C("spot_model_speedup", "", "Spot reading: modelled speed factor", "the model's speed "
       "factor at the spot readings' place", "flow.spot", digits=3),
+    C("climate_measured_here", "", "Climate measured here", "the wind climate was logged "
+      "at this position and is used here as measured (no transfer, no second speed-up)",
+      "flow.measured_position", "flag"),
+    C("measured_ti_used", "", "Measured turbulence used", "the logger's measured turbulence "
+      "intensity is used at this position in place of the model's", "flow.measured_position",
+      "flag"),
     C("mast_to_clear_turbulence_m", "m", "Mast for the rotor to clear roof zones",
       "shortest mast that lifts the whole rotor above the roof's high-turbulence zone",
       "chain.pipeline", digits=1),

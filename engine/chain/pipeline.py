@@ -55,9 +55,9 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     rated_w = y.rated_power_w
     gross_kwh = y.gross_wh / 1000.0
     net_kwh = y.net_wh / 1000.0
-    pv = uncertainty.exceedance_table(y.setup, y.net_wh, assessment.uncertainty,
-                                      assessment.economics.lifetime_years,
-                                      gross_wh=y.bins_gross_wh)
+    pv = uncertainty.exceedance_table(y.setup, y.net_wh, uncertainty.with_climate(
+        assessment.uncertainty, assessment.climate), assessment.economics.lifetime_years,
+        gross_wh=y.bins_gross_wh)  # the climate's long-term correction can raise σ_LT
     mean_ms = at_hub.mean_speed_ms  # (P,)
     pos = assessment.positions
     mast = np.array([float(p.mast_height_m) for p in pos])

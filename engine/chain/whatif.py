@@ -92,7 +92,10 @@ def mast_height_to_pay_back_m(ev, position_id, turbine_id, step_m=1.0):
                    for h in heights)
     spots = tuple(dataclasses.replace(s, position_id=c.id) for s in a.spot_readings
                   if s.position_id == pos.id for c in copies)
-    a2 = dataclasses.replace(a, positions=copies, spot_readings=spots)
+    # A climate measured at this position holds its present height only: the taller masts
+    # are modelled from its free-stream equivalent, as the chain does for other positions.
+    a2 = dataclasses.replace(a, climate=flow.reference_climate(a, ev.climate.air_density_kgm3),
+                             positions=copies, spot_readings=spots)
     eff2 = flow.effective_climate(a2, ev.climate.air_density_kgm3)
     n = len(copies)
     npv = _npv_at_scales(a2, eff2, np.arange(n), tur, np.ones(n))

@@ -13,6 +13,7 @@ from pathlib import Path
 import pandas as pd
 
 from engine.climate import fit as climate
+from engine.cli.long_term import register_long_term_options, run_long_term
 from engine.io import records as timeseries
 from engine.core.errors import InputError
 
@@ -82,6 +83,8 @@ def cmd_climate(args) -> int:
     path = Path(args.data)
     if not path.is_file():
         raise InputError([(str(path), "no such file; give the path of a CSV/TSV record")])
+    if getattr(args, "long_term", None):
+        return run_long_term(args, climate_document, _table_text)
     with open(path, "rb") as fh:
         data = fh.read(timeseries.MAX_RECORD_BYTES + 1)
     _, report, diag = climate.climate_from_csv_bytes(
@@ -116,4 +119,5 @@ def register_climate(sub):
                    help="offset from UTC of timestamps written without one [h]")
     p.add_argument("--altitude-m", type=float, default=0.0, dest="altitude_m",
                    help="site altitude for ISA pressure when the record has no pressure [m]")
+    register_long_term_options(p)
     p.set_defaults(func=cmd_climate)

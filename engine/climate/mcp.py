@@ -10,7 +10,9 @@ Two ways to get the line:
 
 * ``linear``: least squares, m = r σy/σx, b = ȳ − m x̄ (it shrinks the predicted variance by r²);
 * ``variance_ratio``: m = σy/σx, b = ȳ − m x̄, which keeps both the mean and the variance of
-  the target over the concurrent period (Rogers, Rogers & Manwell 2005).
+  the target over the concurrent period (Rogers, Rogers & Manwell 2005);
+* ``speed_ratio``: the sector speed-ratio (matrix) method, m = ȳ/x̄, b = 0 per reference
+  sector: the concurrent mean speed ratio of the sector, scaling the reference's series.
 
 References
 ----------
@@ -28,7 +30,7 @@ from engine.climate.fit import ClimateSummary, climate_from_series
 from engine.climate.sectors import sector_index
 from engine.core.errors import InputError, Problems
 
-MCP_METHODS = ("linear", "variance_ratio")
+MCP_METHODS = ("linear", "variance_ratio", "speed_ratio")
 #: Overlap below which seasonal differences are not sampled [days] (common practice: a year).
 WARN_OVERLAP_DAYS = 365.0
 #: Correlation below which the long-term correction is weak [-] (common practice).
@@ -130,9 +132,11 @@ def _line(n, sx, sy, sxx, syy, sxy, method):
         r = cov / np.sqrt(vx * vy)
         if method == "linear":
             m = cov / vx
+        elif method == "speed_ratio":
+            m = my / mx
         else:
             m = np.sqrt(vy / vx)
-        b = my - m * mx
+        b = my - m * mx if method != "speed_ratio" else np.zeros_like(m)
     return m, b, r
 
 

@@ -23,6 +23,7 @@ from engine.core.errors import InputError, Problems, check_range
 from engine.core.consent import (ConsentSettings, FlickerSettings, NoiseSettings,  # noqa: F401
                                  SitingRule, receptor_problems,
                                  turbine_problems)
+from engine.core.measured_checks import check_measured_position, check_sector_values
 
 FORMAT_VERSION = 1
 
@@ -132,36 +133,21 @@ class WindClimate:
     #: The measured record behind this climate, if any: file name and SHA-256 of its bytes.
     record_file: str = ""
     record_sha256: str = ""
+    #: Where measured, measured TI and shear, long-term uncertainty, averaging: see
+    #: :mod:`engine.core.measured_checks` (the fields, their units and their checks).
+    measured_at: str = "reference"
+    position_id: str = ""
+    turbulence_intensity: tuple[float, ...] = ()
+    shear_exponent: tuple[float, ...] = ()
+    long_term_uncertainty: float = 0.0
+    averaging_s: float = 0.0
 
     def __post_init__(self):
         p = Problems()
         check_range(p, "height_m", self.height_m, 0, 300, "m", lo_open=True)
         check_range(p, "roughness_m", self.roughness_m, 1e-4, 5.0, "m")
         check_range(p, "displacement_m", self.displacement_m, 0, 100, "m")
-        n = len(self.frequency)
-        if n < 1 or n > 72:
-            p.add("frequency", f"must list 1 to 72 sectors, got {n}")
-        for name in ("weibull_k", "weibull_c_ms"):
-            if len(getattr(self, name)) != n:
-                p.add(name, f"must have one value per sector ({n}), got {len(getattr(self, name))}")
-        for i, f in enumerate(self.frequency):
-            check_range(p, f"frequency[{i}]", f, 0, 1)
-        for i, k in enumerate(self.weibull_k):
-            check_range(p, f"weibull_k[{i}]", k, 0.5, 10, "")
-        for i, c in enumerate(self.weibull_c_ms):
-            check_range(p, f"weibull_c_ms[{i}]", c, 0.1, 40, "m/s")
-        try:
-            total = math.fsum(float(f) for f in self.frequency)
-            if n and abs(total - 1.0) > 1e-3:
-                p.add("frequency", f"sector frequencies must sum to 1, got {total:.4f}; "
-                                   "divide each by their sum")
-        except (TypeError, ValueError, OverflowError):  # bad values are reported one by one
-            pass
-        _choice(p, "source", self.source, CLIMATE_SOURCES)
-        if len(self.monthly_mean_ms) not in (0, 12):
-            p.add("monthly_mean_ms", f"must be empty or 12 values, got {len(self.monthly_mean_ms)}")
-        for i, v in enumerate(self.monthly_mean_ms):
-            check_range(p, f"monthly_mean_ms[{i}]", v, 0, 40, "m/s")
+        check_sector_values(p, self, CLIMATE_SOURCES)
         _raise(p)
 
     @property
@@ -712,6 +698,7 @@ class Assessment:
                     p.add(f"site.{name}", "is needed when transfer.use_morphometry is true; "
                                           "enter it or set use_morphometry to false")
         pos_ids = {q.id for q in self.positions}
+        check_measured_position(p, self)
         for i, s in enumerate(self.spot_readings):
             if s.position_id not in pos_ids:
                 p.add(f"spot_readings[{i}].position_id",

@@ -21,6 +21,13 @@ temperate climates; common practice, from memory), the mean over N years with σ
 P-values of a single year and of the project life's average year add it to the uncertainty
 of the long-term mean in quadrature, through the same sensitivity.
 
+A measured climate that was long-term corrected carries the correction's own one-sigma
+uncertainty (``WindClimate.long_term_uncertainty``, :mod:`engine.climate.long_term`). It
+stands for the same component as ``Uncertainty.speed_long_term`` (the long-term mean's
+representativeness), so it replaces it rather than adding to it; but only upwards
+(:func:`with_climate`): the computed value (regression scatter and reference length) leaves
+out the reference's own drift and consistency, so it may not lower the stated allowance.
+
 References
 ----------
 IEC 61400-12-1:2017, uncertainty of the annual energy production (combining independent
@@ -28,7 +35,7 @@ components in quadrature; from memory).
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 from scipy.stats import norm
@@ -36,6 +43,27 @@ from scipy.stats import norm
 #: Exceedance levels reported [%].
 LEVELS = (50, 75, 90)
 SPEED_COMPONENTS = ("speed_data", "speed_long_term", "speed_transfer", "speed_building_model")
+
+
+def with_climate(uncertainty, climate):
+    """The uncertainties a climate's P-values use: the long-term component raised to the
+    climate's own long-term correction uncertainty where that is larger.
+
+    Parameters
+    ----------
+    uncertainty : :class:`engine.core.model.Uncertainty` (the assessor's stated values)
+    climate : :class:`engine.core.model.WindClimate` (``long_term_uncertainty``, fraction of
+        mean speed; 0 when not long-term corrected)
+
+    Returns
+    -------
+    :class:`engine.core.model.Uncertainty` with
+    ``speed_long_term = max(stated, climate.long_term_uncertainty)``
+    """
+    measured = float(getattr(climate, "long_term_uncertainty", 0.0) or 0.0)
+    if measured <= float(uncertainty.speed_long_term):
+        return uncertainty
+    return replace(uncertainty, speed_long_term=measured)
 
 
 def combined_speed_uncertainty(uncertainty) -> float:

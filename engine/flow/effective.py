@@ -15,6 +15,7 @@ import numpy as np
 
 from engine.flow import buildings
 from engine.flow import gaps
+from engine.flow import measured_position
 from engine.flow import profiles
 from engine.flow import roofflow
 from engine.flow import roofzones
@@ -152,6 +153,10 @@ def effective_climate(assessment, air_density_kgm3: float,
     :func:`engine.flow.spot.spot_comparison` as a dict of columns, and (P,) ``spot_measured_speedup``,
     ``spot_speedup_ci_low``, ``spot_speedup_ci_high``, ``spot_model_speedup``.
     """
+    here = measured_position.measuring_index(assessment)
+    if here is not None:  # measured AT a position: see _measured_at_position
+        return _measured_at_position(assessment, air_density_kgm3, calibrate_with_spot_readings,
+                                     here)
     positions = assessment.positions
     hub = np.array([assessment.hub_height_m(p) for p in positions], dtype=float)
     k, free_c = free_stream_at_hub(assessment, hub)
@@ -170,6 +175,50 @@ def effective_climate(assessment, air_density_kgm3: float,
         eff = _with_spot_readings(assessment, eff, calibrate_with_spot_readings)
     _check_physics(eff)
     return eff
+
+
+def _measured_at_position(assessment, air_density_kgm3, calibrate, here):
+    """Effective climate for a climate measured at position ``here``.
+
+    The climate already holds that position's transfer and building speed-up. It is referred to
+    the free stream by the model's own speed factor at the logger (for the other positions,
+    :func:`reference_climate`), then put back unchanged at its own position: no second
+    transfer, no second building speed-up (:mod:`engine.flow.measured_position`).
+    """
+    reference = replace(assessment, climate=reference_climate(assessment, air_density_kgm3))
+    eff = effective_climate(reference, air_density_kgm3, calibrate)
+    return measured_position.use_at_position(eff, assessment, here)
+
+
+def reference_climate(assessment, air_density_kgm3: float = 1.225):
+    """The assessment's climate as a free-stream reference (what other sites can be given).
+
+    A reference climate is returned as it is. A climate measured at a position is referred to
+    the free stream at the logger by the model's own factor there, c_free,s = c_meas,s /
+    R_s(logger), R the model's speed factor with the transfer to the logger's rotor
+    (:func:`engine.flow.measured_position.free_stream_equivalent`), at the logger's height in
+    the site's terrain: a position identical to the logger gets the measured climate back. The pipeline uses it for the positions other
+    than the logger and the portfolio screening for every building, so both refer a measured
+    climate to the free stream by the same step.
+
+    Parameters
+    ----------
+    assessment : :class:`engine.core.model.Assessment`
+    air_density_kgm3 : air density [kg/m³] (the speed factor does not depend on it)
+
+    Returns
+    -------
+    :class:`engine.core.model.WindClimate` with ``measured_at="reference"``
+    """
+    here = measured_position.measuring_index(assessment)
+    if here is None:
+        return assessment.climate
+    at_logger = effective_climate(measured_position.logger_only(assessment, here),
+                                  air_density_kgm3, False)
+    # The model's whole factor from the climate to the logger's rotor: transfer (1 unless the
+    # transfer's terrain differs from the site's z0, e.g. by morphometry) times speed-up.
+    factor = at_logger.weibull_c_ms[0] / np.asarray(assessment.climate.weibull_c_ms, float)
+    return measured_position.free_stream_equivalent(assessment, factor).climate
 
 
 def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_m):

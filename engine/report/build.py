@@ -15,6 +15,7 @@ from engine.chain.documents import rank_document
 from engine.chain.ranking import OBJECTIVE_COLUMNS, exclusion_reasons
 from engine.chain.verdict import headline_for
 from engine.core import __version__
+from engine.energy.uncertainty import with_climate
 from engine.report import appendix
 from engine.report.cautions import CAUTIONS_SHORT, caution_lines
 from engine.report.content import (Bullets, FigureBlock, Paragraph, Section, Summary, Table,
@@ -248,7 +249,8 @@ def _charts(evaluation, best, with_charts) -> Section:
 
 
 def _quality(a, best, records, centre) -> Section:
-    c, u = a.climate, a.uncertainty
+    c, u = a.climate, with_climate(a.uncertainty, a.climate)
+    lt_from = (" (the long-term correction's own)" if u is not a.uncertainty else "")
     qual = [Table("climate", ("Item", "Value"), (
         ("Climate source", c.source),
         ("Description", c.label or DASH),
@@ -258,10 +260,16 @@ def _quality(a, best, records, centre) -> Section:
         ("Measured record", (f"{c.record_file} (SHA-256 {c.record_sha256})"
                              if c.record_file else "none: the climate is a table")),
         ("Monthly mean speeds", "given" if c.monthly_mean_ms else "not given"),
+        ("Measured at", (f"position {c.position_id}: used there as measured, referred to the "
+                         "free stream for the others" if c.measured_at == "position"
+                         else "a reference, carried to every position")),
+        ("Measured turbulence", ("per sector, used at the logger's position"
+                                 if c.turbulence_intensity else "none: modelled")),
         ("Spot readings", str(len(a.spot_readings))),
     ), ("l", "l"))]
     unc_rows = (("Wind data (measurement)", fmt_percent(u.speed_data), "of mean speed"),
-                ("Long-term representativeness", fmt_percent(u.speed_long_term), "of mean speed"),
+                ("Long-term representativeness" + lt_from, fmt_percent(u.speed_long_term),
+                 "of mean speed"),
                 ("Transfer to the site", fmt_percent(u.speed_transfer), "of mean speed"),
                 ("Building flow model", fmt_percent(u.speed_building_model), "of mean speed"),
                 ("Power curve", fmt_percent(u.energy_power_curve), "of energy"))

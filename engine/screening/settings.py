@@ -14,6 +14,7 @@ from typing import Optional
 
 from engine.core import model
 from engine.core.errors import InputError, Problems
+from engine.flow import effective as flow_effective
 
 #: Suitability classes, best first. The top class is named for what its rows need: a capacity
 #: factor that high is rare for roof mounts in field trials, so it is a reason to measure on
@@ -115,6 +116,12 @@ class ScreeningContext:
         p = Problems()
         if not self.climates:
             p.add("climate", "give at least one wind climate")
+        for zone, c in self.climates.items():
+            if getattr(c, "measured_at", "reference") == "position":
+                p.add(f"climates[{zone!r}].measured_at",
+                      f"must be reference for a screening, got position (measured at "
+                      f"{c.position_id!r}); screen from the site file holding that position "
+                      "(its free-stream equivalent is used) or give a reference climate")
         if not self.turbines:
             p.add("turbines", "choose at least one turbine")
         ids = [t.id for t in self.turbines]
@@ -141,6 +148,7 @@ def context_from_assessment(assessment, turbine_ids=None, zone_climates=None,
     assessment : :class:`engine.core.model.Assessment`
     turbine_ids : ids of the turbines to screen with (default: all of the assessment's)
     zone_climates : optional {zone: WindClimate}; the assessment's climate serves other zones
+        (a climate measured at one of its positions as its free-stream equivalent)
     """
     turbines = assessment.turbines
     if turbine_ids:
@@ -150,7 +158,9 @@ def context_from_assessment(assessment, turbine_ids=None, zone_climates=None,
             raise InputError([("turbines", f"no turbine {m!r} in the site file (has "
                                            f"{', '.join(by_id)})") for m in missing])
         turbines = tuple(by_id[t] for t in turbine_ids)
-    climates = {"": assessment.climate}
+    # A climate measured at a position is referred to the free stream at the logger first,
+    # as the pipeline does for its other positions (engine.flow.effective.reference_climate).
+    climates = {"": flow_effective.reference_climate(assessment)}
     climates.update(zone_climates or {})
     return ScreeningContext(site=assessment.site, climates=climates, turbines=tuple(turbines),
                             losses=assessment.losses, ranking=assessment.ranking,

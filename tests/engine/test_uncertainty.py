@@ -1,4 +1,5 @@
 """P50/P75/P90: analytic combination of speed and curve uncertainties, checked by Monte Carlo."""
+import dataclasses
 import math
 
 import numpy as np
@@ -130,3 +131,17 @@ def test_one_year_p90_agrees_with_monte_carlo():
     # The one log-normal uses the P90 secant for every level: exact at P90, cautious at P75.
     assert abs(table["p90_one_year"][0, 0] - mc.values[90][0, 0]) < 3 * mc.standard_error[90][0, 0]
     assert table["p75_one_year"][0, 0] <= mc.values[75][0, 0] + 3 * mc.standard_error[75][0, 0]
+
+
+def test_long_term_correction_uncertainty_replaces_the_stated_component_only_upwards():
+    """σ_LT = max(stated, computed): 0.04 stated and 0.09 computed give 0.09, so σ_V of
+    (0.03, 0.09, 0.06, 0.12) is √0.0270 = 0.1643 (hand); 0.02 computed keeps 0.04."""
+    u = model.Uncertainty()
+    clim = model.WindClimate(height_m=10.0, roughness_m=0.03, frequency=(1.0,),
+                             weibull_k=(2.0,), weibull_c_ms=(6.0,), long_term_uncertainty=0.09)
+    got = uncertainty.with_climate(u, clim)
+    assert got.speed_long_term == pytest.approx(0.09)
+    assert uncertainty.combined_speed_uncertainty(got) == pytest.approx(math.sqrt(0.0270),
+                                                                         rel=1e-12)
+    low = uncertainty.with_climate(u, dataclasses.replace(clim, long_term_uncertainty=0.02))
+    assert low is u

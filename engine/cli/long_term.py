@@ -1,0 +1,115 @@
+"""``python -m engine climate RECORD --long-term REFERENCE``: the long-term corrected climate.
+
+JSON (``--format json``) is the ``climate`` document of the corrected climate plus
+``long_term``: ``{"method", "pairs", "overlap_days", "correlation", ..., "sectors": [{"sector_deg",
+"pairs", "slope", "offset_ms", "correlation", "veer_deg", "line"}], "uncertainty": {...},
+"reference": {...}}``.
+"""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from engine.climate import long_term
+from engine.core.errors import InputError
+from engine.io import records as timeseries
+
+
+def _time_ns(text, where):
+    if text is None:
+        return None
+    try:
+        return int(pd.Timestamp(text, tz="UTC").value)
+    except (ValueError, TypeError):
+        raise InputError([(where, f"must be a date such as 2025-03-01, got {text!r}")]) from None
+
+
+def long_term_document(result, base: dict) -> dict:
+    """The climate document with the correction beside it."""
+    from engine.chain.documents import jsonable
+    m = result.mcp
+    doc = dict(base)
+    lt = m.concurrent_stats()
+    lt["sectors"] = [{k: jsonable(v) for k, v in row.items()}
+                     for row in m.sectors.to_dict("records")]
+    lt["uncertainty"] = jsonable(result.uncertainty)
+    lt["reference"] = jsonable(result.reference)
+    lt["long_term_uncertainty"] = result.climate.long_term_uncertainty
+    doc["long_term"] = lt
+    return doc
+
+
+def _text(result) -> str:
+    m = result.mcp
+    with pd.option_context("display.width", 200):
+        table = m.sectors.to_string(index=False, float_format=lambda x: f"{x:.3f}")
+    u = result.uncertainty
+    ref = result.reference
+    lines = [f"Long-term correction ({m.method}) against {ref['file']} ({ref['kind']}, stated "
+             f"{ref['height_m']:g} m, z0 {ref['roughness_m']:g} m"
+             + (f", cell {ref['cell_lat_deg']:.3f}, {ref['cell_lon_deg']:.3f}, "
+                f"{ref['distance_km']:.1f} km away" if ref["kind"] == "netcdf" else "") + "):",
+             f"{m.n_pairs} concurrent pairs over {m.overlap_days:.0f} days, r = "
+             f"{m.correlation:.3f}; concurrent target mean {m.target_mean_ms:.3f} m/s, "
+             f"long-term mean {m.long_term_mean_ms:.3f} m/s", "per-sector lines and "
+             "correlation:", table,
+             f"uncertainty of the long-term mean: {100 * u['total']:.1f} % (correlation "
+             f"{100 * u['correlation_part']:.1f} %, period {100 * u['period_part']:.1f} %)"]
+    lines += [f"warning: {w}" for w in m.warnings]
+    return "\n".join(lines)
+
+
+def run_long_term(args, climate_document, table_text) -> int:
+    """The ``--long-term`` branch of ``engine climate``."""
+    path, ref_path = Path(args.data), Path(args.long_term)
+    problems = [(str(p), "no such file; give the path of a CSV/TSV record or NetCDF file")
+                for p in (path, ref_path) if not p.is_file()]
+    if problems:
+        raise InputError(problems)
+    target = timeseries.read_record(path.read_bytes(), path.name, speed_unit=args.speed_unit,
+                                    utc_offset_h=args.utc_offset_h)
+    ref_bytes = ref_path.read_bytes()
+    result = long_term.long_term_correction(
+        target, ref_bytes, ref_path.name, height_m=args.height_m, roughness_m=args.roughness_m,
+        method=args.lt_method, n_sectors=args.sectors, fit_method=args.method,
+        lat_deg=args.lat_deg, lon_deg=args.lon_deg, reference_height_m=args.ref_height_m,
+        reference_roughness_m=args.ref_roughness_m, ref_speed_unit=args.ref_speed_unit,
+        utc_offset_h=args.utc_offset_h, period_start_ns=_time_ns(args.period_start,
+                                                                 "--period-start"),
+        period_end_ns=_time_ns(args.period_end, "--period-end"))
+    if args.format == "json":
+        doc = long_term_document(result, climate_document(result.summary, result.target_qc))
+        print(json.dumps(doc, indent=2, ensure_ascii=False))
+    else:
+        print(table_text(result.summary, result.target_qc))
+        print()
+        print(_text(result))
+    return 0
+
+
+def register_long_term_options(p) -> None:
+    """The ``--long-term`` options of ``engine climate``."""
+    from engine.climate.mcp import MCP_METHODS
+    g = p.add_argument_group("long-term correction")
+    g.add_argument("--long-term", default=None, dest="long_term", metavar="REFERENCE",
+                   help="reference series (CSV/TSV, or NetCDF3 reanalysis with --lat-deg/"
+                        "--lon-deg) to long-term correct the record against")
+    g.add_argument("--lt-method", choices=MCP_METHODS, default="variance_ratio",
+                   dest="lt_method", help="correction method (default variance_ratio)")
+    g.add_argument("--lat-deg", type=float, default=None, dest="lat_deg",
+                   help="site latitude for a gridded reference [deg]")
+    g.add_argument("--lon-deg", type=float, default=None, dest="lon_deg",
+                   help="site longitude for a gridded reference [deg]")
+    g.add_argument("--ref-height-m", type=float, default=10.0, dest="ref_height_m",
+                   help="height of the reference series above ground [m] (default 10)")
+    g.add_argument("--ref-roughness-m", type=float, default=0.05, dest="ref_roughness_m",
+                   help="roughness length around the reference [m] (default 0.05)")
+    g.add_argument("--ref-speed-unit", choices=tuple(timeseries.SPEED_UNITS), default=None,
+                   dest="ref_speed_unit", help="reference speed unit when its header does not say")
+    g.add_argument("--period-start", default=None, dest="period_start",
+                   help="first day of the concurrent period to use (UTC date)")
+    g.add_argument("--period-end", default=None, dest="period_end",
+                   help="day after the concurrent period to use (UTC date)")

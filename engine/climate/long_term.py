@@ -1,0 +1,169 @@
+"""Long-term correction as the assessor runs it: a record, a reference (CSV or NetCDF), a method.
+
+:func:`long_term_correction` reads the reference (a CSV of any layout the record reader knows,
+or a gridded reanalysis NetCDF at the cell nearest a latitude/longitude), quality-controls both,
+optionally restricts the concurrent period, corrects with :func:`engine.climate.mcp.mcp_long_term`
+(``linear``, ``variance_ratio`` or ``speed_ratio``) and fits the long-term climate, with the
+correction's uncertainty in ``WindClimate.long_term_uncertainty``. The command line
+(``engine climate RECORD --long-term REFERENCE``) and the dashboard call this one function, so
+both give the same corrected climate.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from engine.climate import mcp
+from engine.climate import qc
+from engine.climate.fit import climate_from_series
+from engine.core.errors import InputError, Problems, check_range
+
+#: Year-to-year variability of annual mean speed used when the reference holds fewer than
+#: three whole years [fraction of the mean] (common practice, from memory: about 6 %).
+DEFAULT_INTERANNUAL_VARIABILITY = 0.06
+NS_PER_DAY = 86400 * 10**9
+
+
+@dataclass(frozen=True)
+class LongTermResult:
+    """A long-term correction with everything shown beside it.
+
+    Attributes
+    ----------
+    summary : :class:`engine.climate.fit.ClimateSummary` of the long-term series
+    mcp : :class:`engine.climate.mcp.MCPResult` (per-sector lines and correlations)
+    uncertainty : dict of the correction's one-sigma parts [fraction of mean speed]
+    reference : dict describing the reference (file, height, roughness, NetCDF cell)
+    target_qc, reference_qc : the quality-control reports
+    """
+
+    summary: object
+    mcp: object
+    uncertainty: dict
+    reference: dict
+    target_qc: object
+    reference_qc: object
+
+    @property
+    def climate(self):
+        return self.summary.climate
+
+
+def correction_uncertainty(res, ref_time_ns, ref_speed_ms,
+                           default_iav: float = DEFAULT_INTERANNUAL_VARIABILITY) -> dict:
+    """One-sigma uncertainty of the long-term mean speed from a correction [fraction].
+
+    Notes
+    -----
+    u² = u_c² + u_p². Correlation part u_c = √(1 − r²) σ_y / (ȳ √n_d), the standard error of the
+    predicted mean from the scatter the line does not explain, with n_d the concurrent days
+    (daily means taken as independent; common practice). Period part u_p = s_a / √N, the
+    year-to-year variability s_a of the reference's annual mean speeds (from the reference when
+    it holds three whole years or more, else :data:`DEFAULT_INTERANNUAL_VARIABILITY`) over the
+    N years of the long-term series (common practice).
+    """
+    r = float(res.correlation) if np.isfinite(res.correlation) else 0.0
+    sy = float(np.std(res.speed_ms)) / max(float(np.mean(res.speed_ms)), 1e-9)
+    n_days = max(res.overlap_days, 1.0)
+    u_c = np.sqrt(max(1.0 - r * r, 0.0)) * sy / np.sqrt(n_days)
+    t = np.asarray(ref_time_ns, np.int64)
+    years = (t[-1] - t[0]) / (365.25 * NS_PER_DAY) if t.size > 1 else 1.0
+    whole = int(np.floor(years))
+    iav, iav_from = default_iav, "common practice (6 %)"
+    if whole >= 3:
+        year = ((t - t[0]) // int(365.25 * NS_PER_DAY)).astype(np.intp)
+        keep = year < whole
+        means = np.bincount(year[keep], np.asarray(ref_speed_ms, float)[keep]) / np.bincount(
+            year[keep])
+        iav, iav_from = float(np.std(means, ddof=1) / np.mean(means)), f"reference, {whole} years"
+    u_p = iav / np.sqrt(max(years, 1.0))
+    return {"correlation_part": float(u_c), "period_part": float(u_p),
+            "interannual_variability": float(iav), "interannual_from": iav_from,
+            "long_term_years": float(years), "total": float(np.hypot(u_c, u_p))}
+
+
+def _read_reference(data, name, *, lat_deg, lon_deg, speed_unit, utc_offset_h):
+    """A reference Record and its description, from CSV bytes or NetCDF bytes."""
+    if bytes(data[:3]) == b"CDF":  # NetCDF3 magic number (classic and 64-bit offset)
+        from engine.io import netcdf
+        if lat_deg is None or lon_deg is None:
+            raise InputError([("lat_deg", f"{name} is a gridded NetCDF file: give the site's "
+                                          "latitude and longitude to pick its grid cell")])
+        rec, info = netcdf.read_reanalysis(bytes(data), lat_deg, lon_deg, file_name=name)
+        return rec, {"kind": "netcdf", **info}
+    if bytes(data[:4]) == b"\x89HDF":
+        raise InputError([(name, "is NetCDF4/HDF5; only NetCDF3 is read (convert it with "
+                                 "'nccopy -k classic')")])
+    from engine.io import records
+    rec = records.read_record(data, name, speed_unit=speed_unit, utc_offset_h=utc_offset_h)
+    return rec, {"kind": "csv"}
+
+
+def _period_rows(record, report, start_ns, end_ns):
+    """The valid rows, restricted to [start, end) when given."""
+    ok = report.valid.copy()
+    if start_ns is not None:
+        ok &= record.time_ns >= start_ns
+    if end_ns is not None:
+        ok &= record.time_ns < end_ns
+    return ok
+
+
+def long_term_correction(target_record, reference_data, reference_name: str, *, height_m: float,
+                         roughness_m: float = 0.05, method: str = "variance_ratio",
+                         n_sectors: int = 12, fit_method: str = "mle", lat_deg=None,
+                         lon_deg=None, reference_height_m: float = 10.0,
+                         reference_roughness_m: float = 0.05, ref_speed_unit=None,
+                         utc_offset_h: float = 0.0, period_start_ns=None, period_end_ns=None,
+                         qc_settings=None) -> LongTermResult:
+    """Long-term climate at the target from a parsed target record and a reference file.
+
+    Parameters
+    ----------
+    target_record : :class:`engine.io.records.Record` of the site (needs directions)
+    reference_data, reference_name : the reference file's bytes and name (CSV or NetCDF3)
+    height_m, roughness_m : where the target was measured [m]
+    method : "linear", "variance_ratio" or "speed_ratio" (see :mod:`engine.climate.mcp`)
+    lat_deg, lon_deg : site position for a gridded reference [deg]
+    reference_height_m, reference_roughness_m : as stated by the user, kept with the result [m]
+    period_start_ns, period_end_ns : concurrent period to use (target rows inside it) [UTC ns]
+
+    Returns
+    -------
+    LongTermResult
+    """
+    p = Problems()
+    check_range(p, "reference_height_m", reference_height_m, 0, 300, "m", lo_open=True)
+    check_range(p, "reference_roughness_m", reference_roughness_m, 1e-4, 5.0, "m")
+    if not target_record.has("direction"):
+        p.add("target.columns.direction", "the record needs a direction column")
+    p.raise_if_any()
+    ref, info = _read_reference(reference_data, reference_name, lat_deg=lat_deg,
+                                lon_deg=lon_deg, speed_unit=ref_speed_unit,
+                                utc_offset_h=utc_offset_h)
+    if not ref.has("direction"):
+        raise InputError([("reference.columns.direction", "the reference needs a direction "
+                                                          "column")])
+    tq, rq = qc.run_qc(target_record, qc_settings), qc.run_qc(ref, qc_settings)
+    tv = _period_rows(target_record, tq, period_start_ns, period_end_ns)
+    if tv.sum() < mcp.MIN_PAIRS:
+        raise InputError([("period", f"only {int(tv.sum())} valid target rows in the chosen "
+                                     "concurrent period; widen the period")])
+    rv = rq.valid
+    res = mcp.mcp_long_term(target_record.time_ns[tv], target_record.si("speed")[tv],
+                            target_record.si("direction")[tv], ref.time_ns[rv],
+                            ref.si("speed")[rv], ref.si("direction")[rv], method=method,
+                            n_sectors=n_sectors)
+    unc = correction_uncertainty(res, ref.time_ns[rv], ref.si("speed")[rv])
+    summary = climate_from_series(
+        res.speed_ms, res.direction_deg, res.time_ns, height_m=height_m,
+        roughness_m=roughness_m, n_sectors=n_sectors, method=fit_method, source="long_term",
+        label=f"long-term at the target by {method} against {reference_name}",
+        record_file=target_record.file_name, record_sha256=target_record.sha256)
+    summary = replace(summary, climate=replace(summary.climate,
+                                               long_term_uncertainty=min(unc["total"], 1.0)))
+    info.update({"file": reference_name, "height_m": float(reference_height_m),
+                 "roughness_m": float(reference_roughness_m), "sha256": ref.sha256})
+    return LongTermResult(summary=summary, mcp=res, uncertainty=unc, reference=info,
+                          target_qc=tq, reference_qc=rq)
