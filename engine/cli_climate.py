@@ -19,6 +19,14 @@ from .errors import InputError
 SECTOR_FIELDS = ("sector_deg", "frequency", "weibull_k", "weibull_c_ms", "mean_speed_ms")
 
 
+#: Engine parameter -> command-line option, for messages.
+OPTION_NAMES = {"height_m": "--height-m", "roughness_m": "--roughness-m",
+                "n_sectors": "--sectors", "method": "--method", "speed_unit": "--speed-unit",
+                "utc_offset_h": "--utc-offset-h", "altitude_m": "--altitude-m",
+                "direction_unit": "--direction-unit",
+                "max_excluded_share": "--max-excluded-share"}
+
+
 def climate_document(summary, report) -> dict:
     """The ``climate`` JSON document: quality control, per-sector table, all-sector figures."""
     from .cli import _jsonable
@@ -53,12 +61,15 @@ def cmd_climate(args) -> int:
     from .safeio import read_bounded
     path = Path(args.data)
     data = read_bounded(path, timeseries.MAX_RECORD_BYTES, "a CSV/TSV record")
-    _, report, diag = climate.climate_from_csv_bytes(
-        data, path.name, height_m=args.height_m, roughness_m=args.roughness_m,
-        n_sectors=args.sectors, method=args.method, speed_unit=args.speed_unit,
-        utc_offset_h=args.utc_offset_h, altitude_m=args.altitude_m,
-        direction_unit=args.direction_unit, day_first=args.day_first,
-        max_excluded_share=args.max_excluded_share)
+    try:
+        _, report, diag = climate.climate_from_csv_bytes(
+            data, path.name, height_m=args.height_m, roughness_m=args.roughness_m,
+            n_sectors=args.sectors, method=args.method, speed_unit=args.speed_unit,
+            utc_offset_h=args.utc_offset_h, altitude_m=args.altitude_m,
+            direction_unit=args.direction_unit, day_first=args.day_first,
+            max_excluded_share=args.max_excluded_share)
+    except InputError as e:  # name the options as the user typed them
+        raise InputError([(OPTION_NAMES.get(w, w), m) for w, m in e.problems]) from None
     summary = diag["summary"]
     if args.format == "json":
         write_stdout(json.dumps(climate_document(summary, report), indent=2,

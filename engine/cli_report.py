@@ -73,13 +73,14 @@ def cmd_report(args) -> int:
                                    generated_at=stamp)
     data = (report.render_html(summary).encode("utf-8") if kind == "html"
             else report.render_pdf(summary))
+    from .cli import write_stdout
     write_output(out, data, "--out", "the summary")
-    print(f"wrote {out} ({len(data)} bytes, site file SHA-256 {summary.site_sha256[:16]}, "
-          f"made {summary.generated_at})")
+    write_stdout(f"wrote {out} ({len(data)} bytes, site file SHA-256 "
+                 f"{summary.site_sha256[:16]}, made {summary.generated_at})\n")
     if folder is not None:
         for name, (_mime, blob, _desc) in report.export_files(ev).items():
             write_output(folder / name, blob, "--exports", "the data files")
-            print(f"wrote {folder / name} ({len(blob)} bytes)")
+            write_stdout(f"wrote {folder / name} ({len(blob)} bytes)\n")
     return 0
 
 

@@ -12,6 +12,8 @@ levelised cost of energy, net present value).
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 
@@ -21,13 +23,19 @@ def capital_recovery_factor(discount_rate, lifetime_years):
     Notes
     -----
     The constant yearly payment that repays a capital of 1 over n years at rate r
-    (Short, Packey & Holt 1995). n need not be a whole number.
+    (Short, Packey & Holt 1995). n need not be a whole number. The denominator is worked as
+    1 - (1 + r)^-n = -expm1(-n log1p(r)), which stays exact for a rate so small that 1 + r
+    rounds to 1 (below about 1e-16), where the plain form divides by zero; a = 1/n is its
+    limit as r -> 0.
     """
     r = float(discount_rate)
     n = float(lifetime_years)
     if r == 0.0:
         return 1.0 / n
-    return r / (1.0 - (1.0 + r) ** -n)
+    den = -math.expm1(-n * math.log1p(r))
+    if den == 0.0:
+        return 1.0 / n
+    return r / den
 
 
 def present_value_factor(discount_rate, lifetime_years):
