@@ -3,6 +3,7 @@ shows the engine's message for its own field right beneath it."""
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
 import pandas as pd
@@ -29,6 +30,19 @@ CAUTION_FOOTER = ("These figures support a decision; they do not replace local c
                   "structural engineer's check or a licensed installer's design.")
 
 
+_MARKDOWN_PUNCT = re.compile(r"([!-/:-@\[-`{-~])")
+
+
+def plain(text) -> str:
+    """User text (names, ids, file names, messages quoting them) made inert for Markdown.
+
+    Every ASCII punctuation character is backslash-escaped (CommonMark allows it for all of
+    them) and line breaks become spaces, so a site name holding ``![x](http://...)`` shows as
+    those characters and the browser fetches nothing.
+    """
+    return _MARKDOWN_PUNCT.sub(r"\\\1", " ".join(str(text).splitlines()))
+
+
 def cautions(expanded: bool = False) -> None:
     """The standing safety panel."""
     with st.expander("⚠ Safety cautions before any installation", expanded=expanded):
@@ -44,7 +58,7 @@ def field_messages(path: str, label: str, kind: str = "plain") -> None:
         note = ""
         if kind in ("speed", "length") and state.unit_of(kind) not in ("m/s", "m"):
             note = f" (the rule is checked in {'m/s' if kind == 'speed' else 'metres'})"
-        st.error(f"**{label}** {m}{note}", icon=":material/error:")
+        st.error(f"**{label}** {plain(m)}{note}", icon=":material/error:")
 
 
 def _key(path: str, kind: str, scope: str = "") -> str:
@@ -243,12 +257,13 @@ def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> 
         field = where.split("].", 1)[1] if "]." in where else ""
         rid = rows[i].get(id_field) if i < len(rows) else ""
         label = labels.get(field.split("[")[0], field.replace("_", " ")) if field else ""
-        st.error(f"**Row {i + 1}{f' ({rid})' if rid else ''}{', ' + label if label else ''}:** "
-                 f"{msg}", icon=":material/error:")
+        st.error(f"**Row {i + 1}{f' ({plain(rid)})' if rid else ''}"
+                 f"{', ' + plain(label) if label else ''}:** {plain(msg)}",
+                 icon=":material/error:")
         shown += 1
     for where, msg in st.session_state["problems"]:
         if where == group:
-            st.error(f"**{group.capitalize()}:** {msg}", icon=":material/error:")
+            st.error(f"**{group.capitalize()}:** {plain(msg)}", icon=":material/error:")
             shown += 1
     return shown
 

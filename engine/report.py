@@ -922,13 +922,20 @@ def _html_block(b, attachments) -> str:
             return _html_files(b, attachments)
         return _html_table(b)
     if isinstance(b, FigureBlock):
+        from .chart_render import ChartError
         from .report_charts import figure_svg
         f = b.figure
         if f.spec is None:
             return (f'<figure id="figure-{_e(f.key)}" class="missing"><h3>{_e(f.title)}</h3>'
                     f'<p class="caution">This chart could not be drawn: {_e(f.problem)}</p>'
                     "</figure>")
-        return (f'<figure id="figure-{_e(f.key)}"><h3>{_e(f.title)}</h3>\n{figure_svg(f)}\n'
+        try:
+            svg = figure_svg(f)
+        except ChartError as err:  # the renderer failed: say so in place of the chart
+            return (f'<figure id="figure-{_e(f.key)}" class="missing"><h3>{_e(f.title)}</h3>'
+                    f'<p class="caution">This chart could not be drawn: {_e(str(err))}</p>'
+                    "</figure>")
+        return (f'<figure id="figure-{_e(f.key)}"><h3>{_e(f.title)}</h3>\n{svg}\n'
                 f"<figcaption>{_e(f.caption)}</figcaption></figure>")
     raise TypeError(f"unknown block {type(b).__name__}")
 
@@ -1221,6 +1228,7 @@ class _Pdf:
         pdf.ln(2.5)
 
     def figure(self, f):
+        from .chart_render import ChartError
         from .report_charts import PNG_SCALE, figure_png
 
         pdf = self.pdf
@@ -1229,7 +1237,13 @@ class _Pdf:
             pdf.cell(0, 6, self.t(f.title), new_x="LMARGIN", new_y="NEXT")
             self.para(f"This chart could not be drawn: {f.problem}", "caution")
             return
-        png = figure_png(f)
+        try:
+            png = figure_png(f)
+        except ChartError as err:  # the renderer failed: say so in place of the chart
+            self.font(10, bold=True)
+            pdf.cell(0, 6, self.t(f.title), new_x="LMARGIN", new_y="NEXT")
+            self.para(f"This chart could not be drawn: {err}", "caution")
+            return
         # PNG size from the IHDR chunk: width and height, big-endian, at bytes 16..24.
         w_px, h_px = struct.unpack(">II", png[16:24])
         w = min(pdf.epw, w_px / PNG_SCALE * MM_PER_CSS_PX)

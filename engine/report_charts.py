@@ -2,7 +2,8 @@
 
 The charts themselves are the dashboard's builders in :mod:`engine.charts`, so the summary
 shows the same pictures a person saw on screen. This module picks them for a summary, draws
-them with vl-convert (no browser, no network) and makes the SVG safe to inline several times
+them with vl-convert (no browser, no network) in a child process, so a crash of the
+renderer costs the chart and not the program (:mod:`engine.chart_render`), and makes the SVG safe to inline several times
 in one HTML page (element ids are prefixed per chart so clip paths do not collide).
 """
 from __future__ import annotations
@@ -12,9 +13,8 @@ import re
 from dataclasses import dataclass
 
 import numpy as np
-import vl_convert as vlc
 
-from . import charts
+from . import chart_render, charts
 from .errors import InputError
 
 #: PNG scale for the PDF (2 = twice the CSS pixel size, sharp in print).
@@ -180,12 +180,16 @@ def _renumber_ids(svg: str, prefix: str) -> str:
 
 
 def figure_svg(fig: Figure) -> str:
-    """The figure as SVG text ready to inline in HTML (ids prefixed with the figure's key)."""
-    svg = vlc.vegalite_to_svg(fig.spec)
+    """The figure as SVG text ready to inline in HTML (ids prefixed with the figure's key).
+
+    Drawn in a child process (:mod:`engine.chart_render`); raises
+    :class:`~engine.chart_render.ChartError` with the reason when it cannot be drawn.
+    """
+    svg = chart_render.to_svg(fig.spec)
     svg = re.sub(r"^<\?xml[^>]*>\s*", "", svg)
     return _renumber_ids(svg, f"fig-{fig.key}")
 
 
 def figure_png(fig: Figure, scale: float = PNG_SCALE) -> bytes:
-    """The figure as PNG bytes at ``scale`` times its CSS pixel size."""
-    return vlc.vegalite_to_png(fig.spec, scale=scale)
+    """The figure as PNG bytes at ``scale`` times its CSS pixel size (see :func:`figure_svg`)."""
+    return chart_render.to_png(fig.spec, scale=scale)

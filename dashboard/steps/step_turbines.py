@@ -110,7 +110,8 @@ if ids:
                       args=(i, f"curve_upload_{ss['gen']}"),
                       disabled=ss.get(f"curve_upload_{ss['gen']}") is None)
             for where, msg in ss.get("curve_problems", []):
-                st.error(f"**{where}:** {msg}", icon=":material/error:")
+                st.error(f"**{widgets.plain(where)}:** {widgets.plain(msg)}",
+                         icon=":material/error:")
             if ss.get("curve_note"):
                 st.info(ss["curve_note"], icon=":material/info:")
         new_s = [r.get("speed_ms") for r in cur]

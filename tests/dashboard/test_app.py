@@ -4,6 +4,7 @@ from __future__ import annotations
 import ast
 import io
 import json
+import re
 from pathlib import Path
 
 import pandas as pd
@@ -12,6 +13,12 @@ from streamlit.testing.v1 import AppTest
 
 from dashboard import exports, results_view
 from engine import cli, pipeline, sitefile
+
+
+def shown(markdown: str) -> str:
+    """The text a person reads from Markdown source whose user text is backslash-escaped."""
+    return re.sub(r"\\(.)", r"\1", markdown)
+
 
 ROOT = Path(__file__).resolve().parents[2]
 APP = str(ROOT / "dashboard" / "app.py")
@@ -36,7 +43,7 @@ def _go(at: AppTest, page: str) -> AppTest:
 
 
 def _texts(at: AppTest, kind: str) -> list:
-    return [e.value for e in getattr(at, kind)]
+    return [shown(e.value) for e in getattr(at, kind)]
 
 
 @pytest.fixture(scope="module")
