@@ -345,6 +345,27 @@ def _check_common(p: Problems, height_m, roughness_m, n_sectors, method):
         p.add("method", f"must be one of {', '.join(FIT_METHODS)}, got {method!r}")
 
 
+#: Largest Weibull shape a climate may hold (as :class:`engine.model.WindClimate` checks).
+MAX_WEIBULL_K = 10.0
+
+
+def _check_shape_fits(k_out, speeds, record_file: str) -> None:
+    """Refuse, in words, a record whose speeds barely vary (a fitted shape k above the limit)."""
+    k_out = np.asarray(k_out, float)
+    steep = ~np.isfinite(k_out) | (k_out > MAX_WEIBULL_K)
+    if not steep.any():
+        return
+    spread = float(np.std(speeds) / np.mean(speeds)) if np.mean(speeds) > 0 else 0.0
+    finite = k_out[np.isfinite(k_out)]
+    k_max = float(finite.max()) if finite.size else float("inf")
+    raise InputError([(record_file or "record",
+                       f"the wind speeds barely vary (spread {100 * spread:.2g} % of the mean; "
+                       f"fitted Weibull shape up to {k_max:.3g} in {int(steep.sum())} "
+                       f"sector(s), at most {MAX_WEIBULL_K:g} accepted): a steady or stuck "
+                       "record cannot describe a wind climate. Check the speed column (a "
+                       "constant, a logger default) or enter the climate as a table")])
+
+
 def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: float,
                         roughness_m: float = 0.05, displacement_m: float = 0.0,
                         n_sectors: int = 12, method: str = "mle",
@@ -432,6 +453,7 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
                  else f">{edges[i]:g}" for i in range(len(edges) - 1)]
     rose = pd.DataFrame(rose_counts / v.size, columns=bin_names)
     rose.insert(0, "sector_deg", np.arange(n_sectors) * 360.0 / n_sectors)
+    _check_shape_fits(k_out, v, record_file)
     clim = WindClimate(height_m=float(height_m), roughness_m=float(roughness_m),
                        frequency=tuple(float(f) for f in freq),
                        weibull_k=tuple(float(k) for k in k_out),
