@@ -251,6 +251,7 @@ def _schema_for(tp, defs: dict):
             props, required = {}, []
             for f in dataclasses.fields(tp):
                 props[f.name] = _schema_for(hints[f.name], defs)
+                _text_limit_schema(f.name, props[f.name])
                 if f.default is not dataclasses.MISSING and not dataclasses.is_dataclass(f.default):
                     props[f.name]["default"] = _plain(f.default)
                 if f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING:
@@ -266,6 +267,13 @@ def _schema_for(tp, defs: dict):
     if optional:
         s = {"anyOf": [s, {"type": "null"}]}
     return s
+
+
+def _text_limit_schema(name: str, prop: dict) -> None:
+    """Add the documented longest length to a text property (or to its list's items)."""
+    target = prop.get("items", prop)
+    if target.get("type") == "string":
+        target["maxLength"] = TEXT_LIMITS.get(name, (False, safeio.MAX_NAME_CHARS))[1]
 
 
 def json_schema() -> dict:
