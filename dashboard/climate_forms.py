@@ -169,7 +169,7 @@ def _mean_form() -> None:
 def _record_form() -> None:
     ss = st.session_state
     st.caption("A CSV or TSV of time, speed and direction (gust, temperature, pressure "
-               "optional), up to 100 MB. Units are read from the headers; quality control "
+               "optional), up to 100 MiB. Units are read from the headers; quality control "
                "runs before the fit.")
     up = st.file_uploader("Measured record", type=["csv", "txt", "tsv"], key="record_upload")
     form = ss.setdefault("record_form", {"height_m": 10.0, "roughness_m": 0.03,

@@ -15,7 +15,7 @@ if widgets.editing():
     with st.container(border=True):
         st.markdown("**Open or start a site file**")
         up = st.file_uploader(
-            "Open a site file (Perch JSON, up to 20 MB)", type=["json"], key="site_upload",
+            "Open a site file (Perch JSON, up to 20 MiB)", type=["json"], key="site_upload",
             max_upload_size=20,
             help="Everything a result depends on is in the site file.")
         c1, c2 = st.columns(2)

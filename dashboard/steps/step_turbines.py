@@ -104,7 +104,7 @@ if ids:
                             disabled=not edit, height=360)
         if edit:
             st.file_uploader("Or read this turbine's curve from a CSV (speed, power; W or "
-                             "kW; up to 1 MB)", type=["csv", "txt", "tsv"], max_upload_size=1,
+                             "kW; up to 1 MiB)", type=["csv", "txt", "tsv"], max_upload_size=1,
                              key=f"curve_upload_{ss['gen']}")
             st.button("Use the file's curve", key="curve_use", on_click=_use_curve_file,
                       args=(i, f"curve_upload_{ss['gen']}"),
