@@ -79,7 +79,10 @@ def number(label: str, path: str, kind: str = "plain", fmt: str = "%.2f", step=N
             float(v) if isinstance(v, (int, float)) and not isinstance(v, bool) else None)
     unit = state.unit_of(kind)
     shown = f"{label} ({unit})" if kind in ("speed", "length") else label
-    value = st.number_input(shown, key=key, format=fmt, step=step, help=help,
+    # value=None: Streamlit replaces a non-finite entry (1e999 typed) by the widget's default;
+    # with None as the default the field shows as empty and the site file's check names it,
+    # instead of a silent 0.0.
+    value = st.number_input(shown, value=None, key=key, format=fmt, step=step, help=help,
                             disabled=disabled or not editing(),
                             placeholder="not given" if optional else None)
     state.set_path(path, state.to_si(value, kind))
