@@ -26,8 +26,10 @@ from engine import cli
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
 
-#: Bounds of one failing case: wall time [s] and peak resident memory [bytes].
-MAX_SECONDS = 10.0
+#: Bounds of one failing case: wall time [s] and peak resident memory [bytes]. The target is
+#: 10 s; the bound is twice that because the machine is shared and a loaded run once took
+#: just over 10 s for Python's start and imports alone.
+MAX_SECONDS = 20.0
 MAX_RSS_BYTES = 500 * 1024 * 1024
 #: Cases that do the whole work (ranking, the summary with its charts) before the fault.
 MAX_SECONDS_FULL = 60.0
