@@ -53,8 +53,8 @@ nav = st.navigation({"Assessment": pages, **({"More": extra} if extra else {})})
 
 with st.sidebar:
     st.markdown("### Perch")
-    st.caption(f"Working on: **{state.get_path('site.name', '')}** "
-               f"(from {st.session_state['loaded_from']})")
+    st.caption(f"Working on: **{widgets.plain(state.get_path('site.name', ''))}** "
+               f"(from {widgets.plain(st.session_state['loaded_from'])})")
     st.toggle("Presentation mode", key="presentation",
               help="Hide the editing widgets for a client session; switch off to edit again.")
     with st.expander("Display units", expanded=False):
@@ -73,7 +73,7 @@ with st.sidebar:
         st.button("Keep the demo", key="autosave_dismiss", on_click=state.dismiss_autosave,
                   width="stretch")
     if st.session_state.get("autosave_error"):
-        st.warning(st.session_state["autosave_error"])
+        st.warning(widgets.plain(st.session_state["autosave_error"]))
     n_bad = sum(1 for k, _, _ in state.STEPS if not state.complete(k))
     if n_bad:
         st.warning(f"{n_bad} step(s) need attention (marked !).")

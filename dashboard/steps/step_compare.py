@@ -38,7 +38,7 @@ if len(docs) < 2:
 
 first = list(docs)[0]
 st.subheader("Outcomes")
-st.caption(f"Cells that differ from “{first}” are highlighted.")
+st.caption(f"Cells that differ from “{widgets.plain(first)}” are highlighted.")
 out = pd.DataFrame(outcomes)
 out.index.name = "outcome"
 

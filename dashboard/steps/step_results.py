@@ -58,7 +58,7 @@ def whatif_and_ranking():
                 if st.button("Save scenario", key="save_scenario",
                              disabled=state.any_problems()):
                     used = state.save_scenario(name)
-                    st.toast(f"Saved “{used}”.")
+                    st.toast(f"Saved “{widgets.plain(used)}”.")
                 if ss["scenarios"]:
                     st.caption("Saved: " + ", ".join(ss["scenarios"]))
                 st.page_link("steps/step_compare.py", label="Compare what-ifs",
@@ -164,7 +164,7 @@ with c2:
         st.caption(f"Shortest mast that clears the roof zones: "
                    f"{units.length_from_si(row['min_clear_mast_m'], L):.1f} {L}")
     for f in row["flags"]:
-        st.markdown(f"- {f}")
+        st.markdown(f"- {widgets.plain(f)}")
 with c1:
     st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="content", theme=None,
                        on_select="rerun", selection_mode="pick", key="plan_pick")

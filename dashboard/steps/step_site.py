@@ -15,7 +15,7 @@ if widgets.editing():
     with st.container(border=True):
         st.markdown("**Open or start a site file**")
         up = st.file_uploader(
-            "Open a site file (Perch JSON, up to 20 MB)", type=["json"], key="site_upload",
+            "Open a site file (Perch JSON, up to 20 MiB)", type=["json"], key="site_upload",
             max_upload_size=20,
             help="Everything a result depends on is in the site file.")
         c1, c2 = st.columns(2)
@@ -39,11 +39,12 @@ if widgets.editing():
             st.session_state["climate_mode"] = "demo"
             st.rerun()
         for where, msg in st.session_state.get("open_problems", []):
-            st.error(f"**{where}:** {msg}", icon=":material/error:")
+            st.error(f"**{widgets.plain(where)}:** {widgets.plain(msg)}",
+                     icon=":material/error:")
         if up is None and "open_problems" in st.session_state:
             del st.session_state["open_problems"]
     for n in st.session_state.get("notes", []):
-        st.info(f"{n}", icon=":material/info:")
+        st.info(widgets.plain(n), icon=":material/info:")
 
 disabled = not widgets.editing()
 c1, c2 = st.columns(2)

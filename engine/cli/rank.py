@@ -8,7 +8,6 @@ table as :mod:`engine.chain.columns` declares it.
 from __future__ import annotations
 
 import json
-import sys
 import textwrap
 
 import numpy as np
@@ -17,6 +16,7 @@ from engine.chain import columns, pipeline
 from engine.chain.documents import rank_document, ranking_csv_text
 from engine.chain.ranking import exclusion_reasons
 from engine.chain.verdict import headline_for
+from engine.cli.common import write_stdout
 from engine.io import sitefile
 
 #: Columns of the table format, written as :mod:`engine.chain.columns` declares them.
@@ -93,16 +93,17 @@ def _block(wrapped, width, n_right) -> list:
 def cmd_rank(args) -> int:
     ev = pipeline.evaluate(sitefile.load(args.site))
     if args.format == "json":
-        print(json.dumps(rank_document(ev), indent=2, ensure_ascii=False))
+        write_stdout(json.dumps(rank_document(ev), indent=2, ensure_ascii=False) + "\n")
     elif args.format == "csv":
-        sys.stdout.write(ranking_csv_text(ev.table))
+        write_stdout(ranking_csv_text(ev.table))
     else:
-        print(headline_for(ev) + "\n\n" + table_text(ev.table, ev.assessment.ranking))
+        write_stdout(headline_for(ev) + "\n\n" + table_text(ev.table, ev.assessment.ranking)
+                     + "\n")
     return 0
 
 
 def cmd_schema(args) -> int:
-    print(json.dumps(sitefile.json_schema(), indent=2, ensure_ascii=False))
+    write_stdout(json.dumps(sitefile.json_schema(), indent=2, ensure_ascii=False) + "\n")
     return 0
 
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 import ast
 import io
 import json
+import re
 from pathlib import Path
 
 import pandas as pd
@@ -15,6 +16,12 @@ from engine import cli
 from engine.chain import documents
 from engine.chain import pipeline
 from engine.io import sitefile
+
+
+def shown(markdown: str) -> str:
+    """The text a person reads from Markdown source whose user text is backslash-escaped."""
+    return re.sub(r"\\(.)", r"\1", markdown)
+
 
 ROOT = Path(__file__).resolve().parents[2]
 APP = str(ROOT / "dashboard" / "app.py")
@@ -39,7 +46,7 @@ def _go(at: AppTest, page: str) -> AppTest:
 
 
 def _texts(at: AppTest, kind: str) -> list:
-    return [e.value for e in getattr(at, kind)]
+    return [shown(e.value) for e in getattr(at, kind)]
 
 
 @pytest.fixture(scope="module")
