@@ -12,6 +12,7 @@ so the known crash does not happen in the first place; the child process is the 
 """
 from __future__ import annotations
 
+import atexit
 import base64
 import json
 import os
@@ -115,6 +116,8 @@ class _Renderer:
 
 
 _RENDERER = _Renderer()
+# Stop the child when the program ends, rather than leave it to the interpreter's shutdown.
+atexit.register(_RENDERER._stop)
 
 
 def to_svg(spec: dict, clean: bool = True) -> str:

@@ -136,3 +136,26 @@ def test_bad_record_upload_is_named_and_the_climate_kept(name):
     assert not at.exception, at.exception
     assert _errors(at), "no message shown"
     assert at.session_state["valid"].climate == before
+
+
+def test_tiny_discount_rate_shows_results_and_summary():
+    """A discount rate so small that 1 + r rounds to 1 (below about 1e-16) once divided by zero
+    in the annuity factor; the limit as r -> 0 is the undiscounted sum (Short, Packey & Holt
+    1995, NREL/TP-462-5173). Results and the summary show, with no error."""
+    d = _demo()
+    d["economics"]["discount_rate"] = 1e-17
+    at = _app()
+    at.file_uploader(key="site_upload").upload("tiny-rate.json", json.dumps(d).encode(),
+                                               "application/json").run()
+    at.button(key="open_site").click().run()
+    assert not at.exception, at.exception
+    assert at.session_state["valid"].economics.discount_rate == 1e-17
+    for page in ("steps/step_results.py", "steps/step_summary.py"):
+        at.switch_page(page).run()
+        assert not at.exception, at.exception
+        assert not _errors(at), _errors(at)
+    at.button(key="make_report").click().run()
+    assert not at.exception, at.exception
+    assert not _errors(at), _errors(at)
+    labels = [b.label for b in at.get("download_button")]
+    assert any("HTML" in lb for lb in labels) and any("PDF" in lb for lb in labels), labels
