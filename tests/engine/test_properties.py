@@ -134,7 +134,8 @@ def turbines(draw, tid="t0"):
     lower = [speeds[0]] + speeds[:-1]
     power = tuple(min(top, cp * 0.5 * model.RHO_STANDARD * area * v ** 3)
                   for cp, v in zip(cps, lower))
-    # Within the model's bounds: cut-in <= 15, rated <= 30, cut-out <= 50 m/s.
+    # Within the model's bounds (cut-in <= 15, rated and cut-out <= 50 m/s), rated at most
+    # 30 m/s as small turbines are (common practice).
     cut_in = draw(_between(0, 14))
     v_rated = draw(_between(cut_in + 0.1, 30))
     cut_out = draw(_between(v_rated + 0.1, 50))
