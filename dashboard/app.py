@@ -66,8 +66,8 @@ nav = st.navigation({"Assessment": pages, **({"More": extra} if extra else {})})
 
 def _sidebar() -> None:
     st.markdown("### Perch")
-    st.caption(f"Working on: **{state.get_path('site.name', '')}** "
-               f"(from {st.session_state['loaded_from']})")
+    st.caption(f"Working on: **{widgets.plain(state.get_path('site.name', ''))}** "
+               f"(from {widgets.plain(st.session_state['loaded_from'])})")
     st.toggle("Presentation mode", key="presentation",
               help="Hide the editing widgets, step marks and settings for a client session; "
                    "switch off to edit again.")
@@ -87,7 +87,7 @@ def _sidebar() -> None:
         st.button("Keep the demo", key="autosave_dismiss", on_click=state.dismiss_autosave,
                   width="stretch")
     if st.session_state.get("autosave_error"):
-        st.warning(st.session_state["autosave_error"])
+        st.warning(widgets.plain(st.session_state["autosave_error"]))
     if widgets.editing():
         n_bad = len(state.steps_needing_attention())
         if n_bad:

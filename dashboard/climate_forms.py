@@ -129,7 +129,8 @@ def _table_form() -> None:
     for where, msg in st.session_state["problems"]:
         if where.startswith("climate.") and where.split(".")[1].split("[")[0] in (
                 "frequency", "weibull_k", "weibull_c_ms"):
-            st.error(f"**{where.split('.', 1)[1]}:** {msg}", icon=":material/error:")
+            st.error(f"**{where.split('.', 1)[1]}:** {widgets.plain(msg)}",
+                     icon=":material/error:")
 
 
 def _mean_form() -> None:
@@ -159,7 +160,8 @@ def _mean_form() -> None:
             state.validate()
     except InputError as e:
         for _, msg in e.problems:
-            st.error(f"**Long-term mean wind speed ({s_unit})** {msg} (checked in m/s)",
+            st.error(f"**Long-term mean wind speed ({s_unit})** {widgets.plain(msg)} "
+                     "(checked in m/s)",
                      icon=":material/error:")
         state.set_local_problems("climate", [("climate.mean_speed", m) for _, m in e.problems])
         return
@@ -169,7 +171,7 @@ def _mean_form() -> None:
 def _record_form() -> None:
     ss = st.session_state
     st.caption("A CSV or TSV of time, speed and direction (gust, temperature, pressure "
-               "optional), up to 100 MB. Units are read from the headers; quality control "
+               "optional), up to 100 MiB. Units are read from the headers; quality control "
                "runs before the fit.")
     up = st.file_uploader("Measured record", type=["csv", "txt", "tsv"], key="record_upload")
     form = ss.setdefault("record_form", {"height_m": 10.0, "roughness_m": RECORD_ROUGHNESS_M,
@@ -205,10 +207,10 @@ def _record_form() -> None:
         except InputError as e:
             state.set_local_problems("climate", e.problems)
     for where, msg in ss["local_problems"].get("climate", []):
-        st.error(f"**{where}:** {msg}", icon=":material/error:")
+        st.error(f"**{widgets.plain(where)}:** {widgets.plain(msg)}", icon=":material/error:")
     res = ss.get("record_result")
     if res:
-        st.markdown(f"**Quality control of {res['file']}**")
+        st.markdown(f"**Quality control of {widgets.plain(res['file'])}**")
         st.code(res["qc"], language=None)
         for note in res["notes"]:
             st.info(note, icon=":material/info:")

@@ -53,18 +53,20 @@ def init() -> None:
     ss["climate_mode"] = "demo"
     ss["loaded_from"] = "built-in demo site"
     ss["notes"] = []
-    # An autosave from an earlier session is offered, not applied; it is not overwritten until
-    # the working copy changes (and even then its previous version stays as .bak).
+    # An autosave from an earlier session is offered, not applied; it is kept aside (its own
+    # file) until it is restored or declined, whatever this session autosaves meanwhile.
     ss["autosaved_text"] = autosave.draft_text(ss["draft"])
     ss["validated_text"] = ss["autosaved_text"]  # ``valid`` was built from this very text
     ss["autosave_error"] = ""
     try:
-        found = autosave.read_draft()
+        found = autosave.find_offer()
     except InputError as e:
         found = None
         ss["autosave_error"] = e.problems[0][1]
     if found is not None and autosave.draft_text(found[0]) != ss["autosaved_text"]:
         ss["autosave_found"] = found
+    elif found is not None:
+        autosave.forget_offer()  # the same as the demo: nothing to offer
     _find_saved_scenarios()
 
 
@@ -216,6 +218,9 @@ def flush_autosave() -> None:
         ss["autosave_error"] = ""
     except OSError as e:
         ss["autosave_error"] = f"autosave failed ({e.strerror}); save the site file by hand"
+    except (TypeError, ValueError) as e:  # a value JSON cannot hold; the session goes on
+        ss["autosave_error"] = (f"autosave failed ({e.__class__.__name__}); save the site "
+                                "file by hand")
 
 
 def restore_autosave() -> None:
@@ -228,11 +233,19 @@ def restore_autosave() -> None:
     if found is not None:
         data, saved_at = found
         replace_draft(data, f"autosave of {saved_at:%Y-%m-%d %H:%M} UTC")
+        if _autosave_written():
+            autosave.forget_offer()  # it is the working copy now, and autosaved as such
+
+
+def _autosave_written() -> bool:
+    return not st.session_state.get("autosave_error")
 
 
 def dismiss_autosave() -> None:
+    """Decline the offered autosave: it is removed (the session's own autosave goes on)."""
     st.session_state.pop("autosave_found", None)
     st.session_state.pop("autosave_found_scenarios", None)
+    autosave.forget_offer()
 
 
 def set_local_problems(step: str, problems: list) -> None:

@@ -3,6 +3,7 @@ shows the engine's message for its own field right beneath it."""
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
 import pandas as pd
@@ -14,6 +15,19 @@ from . import state
 
 CAUTION_FOOTER = ("These figures support a decision; they do not replace local codes, a "
                   "structural engineer's check or a licensed installer's design.")
+
+
+_MARKDOWN_PUNCT = re.compile(r"([!-/:-@\[-`{-~])")
+
+
+def plain(text) -> str:
+    """User text (names, ids, file names, messages quoting them) made inert for Markdown.
+
+    Every ASCII punctuation character is backslash-escaped (CommonMark allows it for all of
+    them) and line breaks become spaces, so a site name holding ``![x](http://...)`` shows as
+    those characters and the browser fetches nothing.
+    """
+    return _MARKDOWN_PUNCT.sub(r"\\\1", " ".join(str(text).splitlines()))
 
 
 def cautions(expanded: bool = False) -> None:
@@ -31,7 +45,7 @@ def field_messages(path: str, label: str, kind: str = "plain") -> None:
         note = ""
         if kind in ("speed", "length") and state.unit_of(kind) not in ("m/s", "m"):
             note = f" (the rule is checked in {'m/s' if kind == 'speed' else 'metres'})"
-        st.error(f"**{label}** {m}{note}", icon=":material/error:")
+        st.error(f"**{label}** {plain(m)}{note}", icon=":material/error:")
 
 
 def _key(path: str, kind: str, scope: str = "") -> str:
@@ -52,7 +66,10 @@ def number(label: str, path: str, kind: str = "plain", fmt: str = "%.2f", step=N
             float(v) if isinstance(v, (int, float)) and not isinstance(v, bool) else None)
     unit = state.unit_of(kind)
     shown = f"{label} ({unit})" if kind in ("speed", "length") else label
-    value = st.number_input(shown, key=key, format=fmt, step=step, help=help,
+    # value=None: Streamlit replaces a non-finite entry (1e999 typed) by the widget's default;
+    # with None as the default the field shows as empty and the site file's check names it,
+    # instead of a silent 0.0.
+    value = st.number_input(shown, value=None, key=key, format=fmt, step=step, help=help,
                             disabled=disabled or not editing(),
                             placeholder="not given" if optional else None)
     state.set_path(path, state.to_si(value, kind))
@@ -233,13 +250,13 @@ def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> 
         field = where.split("].", 1)[1] if "]." in where else ""
         rid = rows[i].get(id_field) if i < len(rows) else ""
         label = labels.get(field.split("[")[0], field.replace("_", " ")) if field else ""
-        st.error(f"**{table_name}, row {i + 1}{f' ({rid})' if rid else ''}"
-                 f"{', ' + label if label else ''}:** "
-                 f"{msg}", icon=":material/error:")
+        st.error(f"**{table_name}, row {i + 1}{f' ({plain(rid)})' if rid else ''}"
+                 f"{', ' + plain(label) if label else ''}:** "
+                 f"{plain(msg)}", icon=":material/error:")
         shown += 1
     for where, msg in st.session_state["problems"]:
         if where == group:
-            st.error(f"**{table_name}:** {msg}", icon=":material/error:")
+            st.error(f"**{table_name}:** {plain(msg)}", icon=":material/error:")
             shown += 1
     return shown
 

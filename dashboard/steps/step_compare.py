@@ -43,7 +43,7 @@ if sites:
                "empty in the other's column.", icon=":material/warning:")
 first = list(docs)[0]
 st.subheader("Outcomes")
-st.caption(f"Cells that differ from “{first}” are highlighted.")
+st.caption(f"Cells that differ from “{widgets.plain(first)}” are highlighted.")
 out = pd.DataFrame(outcomes)
 out.index.name = "outcome"
 

@@ -64,7 +64,7 @@ def _what_if_controls() -> None:
                                  placeholder=f"Scenario {len(ss['scenarios']) + 1}")
             if st.button("Save scenario", key="save_scenario", disabled=state.any_problems()):
                 used = state.save_scenario(name)
-                st.toast(f"Saved “{used}”.")
+                st.toast(f"Saved “{widgets.plain(used)}”.")
             if ss["scenarios"]:
                 st.caption("Saved: " + ", ".join(ss["scenarios"]))
             st.page_link("steps/step_compare.py", label="Compare what-ifs",
@@ -181,7 +181,7 @@ def _detail(a, table, text: str, best, S: str, L: str) -> tuple:
         _uncertainty_metrics(row, m1, m2)
         _mast_caption(row, L)
         for f in row["flags"]:
-            st.markdown(f"- {f}")
+            st.markdown(f"- {widgets.plain(f)}")
     with c1:
         st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="stretch",
                            theme=None, on_select="rerun", selection_mode="pick",

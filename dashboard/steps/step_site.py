@@ -26,7 +26,7 @@ if widgets.editing():
     with st.container(border=True):
         st.markdown("**Open or start a site file**")
         up = st.file_uploader(
-            "Open a site file (Perch JSON, up to 20 MB)", type=["json"], key="site_upload",
+            "Open a site file (Perch JSON, up to 20 MiB)", type=["json"], key="site_upload",
             max_upload_size=20,
             help="Everything a result depends on is in the site file.")
         c1, c2 = st.columns(2)
@@ -53,14 +53,14 @@ if widgets.editing():
         bad = st.session_state.get("open_problems", [])
         if bad:
             # One message for the file (not for this step's inputs, which are unchanged).
-            name = st.session_state.get("open_problems_file", "the file")
+            name = widgets.plain(st.session_state.get("open_problems_file", "the file"))
             st.error(f"{FILE_NOT_OPENED.format(name=name)}\n\n"
-                     + "\n".join(f"- **{where}:** {msg}" for where, msg in bad),
+                     + "\n".join(f"- **{widgets.plain(where)}:** {widgets.plain(msg)}" for where, msg in bad),
                      icon=":material/error:")
         if up is None and "open_problems" in st.session_state:
             del st.session_state["open_problems"]
     for n in st.session_state.get("notes", []):
-        st.info(f"{n}", icon=":material/info:")
+        st.info(widgets.plain(n), icon=":material/info:")
 
 disabled = not widgets.editing()
 c1, c2 = st.columns(2)

@@ -51,7 +51,8 @@ if report:
             c2.download_button("Siting summary (PDF)", files["pdf"], f"{base}-summary.pdf",
                                "application/pdf", key="dl_pdf")
         for where, msg in files.get("problems", []):
-            st.error(f"**{where}:** {msg}", icon=":material/error:")
+            st.error(f"**{widgets.plain(where)}:** {widgets.plain(msg)}",
+                     icon=":material/error:")
 
 st.subheader("Safety cautions")
 for title, text in widgets.CAUTIONS:

@@ -106,13 +106,14 @@ if ids:
                             disabled=not edit, height=360)
         if edit:
             st.file_uploader("Or read this turbine's curve from a CSV (speed, power; W or "
-                             "kW; up to 1 MB)", type=["csv", "txt", "tsv"], max_upload_size=1,
+                             "kW; up to 1 MiB)", type=["csv", "txt", "tsv"], max_upload_size=1,
                              key=f"curve_upload_{ss['gen']}")
             st.button("Use the file's curve", key="curve_use", on_click=_use_curve_file,
                       args=(i, f"curve_upload_{ss['gen']}"),
                       disabled=ss.get(f"curve_upload_{ss['gen']}") is None)
             for where, msg in ss.get("curve_problems", []):
-                st.error(f"**{where}:** {msg}", icon=":material/error:")
+                st.error(f"**{widgets.plain(where)}:** {widgets.plain(msg)}",
+                         icon=":material/error:")
             if ss.get("curve_note"):
                 st.info(ss["curve_note"], icon=":material/info:")
         new_s = [r.get("speed_ms") for r in cur]

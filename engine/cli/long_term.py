@@ -13,9 +13,11 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from engine.cli.common import finite_float
 from engine.climate import long_term
 from engine.core.errors import InputError
 from engine.io import records as timeseries
+from engine.io.safe_files import read_bounded
 
 
 def _time_ns(text, where):
@@ -69,9 +71,11 @@ def run_long_term(args, climate_document, table_text) -> int:
                 for p in (path, ref_path) if not p.is_file()]
     if problems:
         raise InputError(problems)
-    target = timeseries.read_record(path.read_bytes(), path.name, speed_unit=args.speed_unit,
-                                    utc_offset_h=args.utc_offset_h)
-    ref_bytes = ref_path.read_bytes()
+    target = timeseries.read_record(
+        read_bounded(path, timeseries.MAX_RECORD_BYTES, "a CSV/TSV record"), path.name,
+        speed_unit=args.speed_unit, utc_offset_h=args.utc_offset_h)
+    ref_bytes = read_bounded(ref_path, timeseries.MAX_RECORD_BYTES,
+                             "a CSV/TSV record or NetCDF file", "--long-term")
     result = long_term.long_term_correction(
         target, ref_bytes, ref_path.name, height_m=args.height_m, roughness_m=args.roughness_m,
         method=args.lt_method, n_sectors=args.sectors, fit_method=args.method,
@@ -99,13 +103,13 @@ def register_long_term_options(p) -> None:
                         "--lon-deg) to long-term correct the record against")
     g.add_argument("--lt-method", choices=MCP_METHODS, default="variance_ratio",
                    dest="lt_method", help="correction method (default variance_ratio)")
-    g.add_argument("--lat-deg", type=float, default=None, dest="lat_deg",
+    g.add_argument("--lat-deg", type=finite_float, default=None, dest="lat_deg",
                    help="site latitude for a gridded reference [deg]")
-    g.add_argument("--lon-deg", type=float, default=None, dest="lon_deg",
+    g.add_argument("--lon-deg", type=finite_float, default=None, dest="lon_deg",
                    help="site longitude for a gridded reference [deg]")
-    g.add_argument("--ref-height-m", type=float, default=10.0, dest="ref_height_m",
+    g.add_argument("--ref-height-m", type=finite_float, default=10.0, dest="ref_height_m",
                    help="height of the reference series above ground [m] (default 10)")
-    g.add_argument("--ref-roughness-m", type=float, default=0.05, dest="ref_roughness_m",
+    g.add_argument("--ref-roughness-m", type=finite_float, default=0.05, dest="ref_roughness_m",
                    help="roughness length around the reference [m] (default 0.05)")
     g.add_argument("--ref-speed-unit", choices=tuple(timeseries.SPEED_UNITS), default=None,
                    dest="ref_speed_unit", help="reference speed unit when its header does not say")

@@ -10,7 +10,6 @@ file's own rules.
 from __future__ import annotations
 
 import json
-import sys
 import textwrap
 from dataclasses import replace
 
@@ -20,6 +19,7 @@ from engine.chain import columns, pipeline, rules
 from engine.chain.documents import rank_document, ranking_csv_text
 from engine.chain.ranking import exclusion_reasons
 from engine.chain.verdict import headline_for
+from engine.cli.common import write_stdout
 from engine.io import sitefile
 
 #: Columns of the table format, written as :mod:`engine.chain.columns` declares them.
@@ -101,16 +101,17 @@ def cmd_rank(args) -> int:
                                                          rule_set_name=name))
     ev = pipeline.evaluate(assessment)
     if args.format == "json":
-        print(json.dumps(rank_document(ev), indent=2, ensure_ascii=False))
+        write_stdout(json.dumps(rank_document(ev), indent=2, ensure_ascii=False) + "\n")
     elif args.format == "csv":
-        sys.stdout.write(ranking_csv_text(ev.table))
+        write_stdout(ranking_csv_text(ev.table))
     else:
-        print(headline_for(ev) + "\n\n" + table_text(ev.table, ev.assessment.ranking))
+        write_stdout(headline_for(ev) + "\n\n" + table_text(ev.table, ev.assessment.ranking)
+                     + "\n")
     return 0
 
 
 def cmd_schema(args) -> int:
-    print(json.dumps(sitefile.json_schema(), indent=2, ensure_ascii=False))
+    write_stdout(json.dumps(sitefile.json_schema(), indent=2, ensure_ascii=False) + "\n")
     return 0
 
 

@@ -10,15 +10,29 @@ from __future__ import annotations
 import datetime as _dt
 from pathlib import Path
 
+from engine.cli.common import write_stdout
 from engine.core.errors import InputError
-from engine.io.sitefile import atomic_write_bytes
+from engine.io.safe_files import check_output_path, text_problem, write_output
 
 SUFFIXES = {".html": "html", ".htm": "html", ".pdf": "pdf"}
 
 
-def _write_atomic(path: Path, data: bytes) -> None:
-    path.parent.mkdir(parents=True, exist_ok=True)
-    atomic_write_bytes(path, data, keep_previous=False)
+def _exports_folder(text: str) -> Path:
+    """The ``--exports`` folder, created when missing (its parent must exist)."""
+    folder = Path(text)
+    if folder.is_dir():
+        check_output_path(folder / "x", "--exports", "the data files")
+        return folder
+    if folder.exists() or folder.is_symlink():
+        raise InputError([("--exports", f"{text!r} is a file, not a folder; give a folder for "
+                                        "the data files")])
+    check_output_path(folder, "--exports", "the data files")
+    try:
+        folder.mkdir()
+    except OSError as e:
+        raise InputError([("--exports", f"folder {text!r} could not be created "
+                                        f"({e.strerror})")]) from None
+    return folder
 
 
 def _check_args(args) -> tuple[Path, str, object]:
@@ -34,6 +48,16 @@ def _check_args(args) -> tuple[Path, str, object]:
         except ValueError:
             problems.append(("--generated-at", f"must be an ISO 8601 time such as "
                                                f"2026-05-01T09:30:00Z, got {args.generated_at!r}"))
+    for name, text, multiline in (("--assessor", args.assessor or "", False),
+                                  ("--notes", args.notes or "", True)):
+        bad = text_problem(text, multiline=multiline)
+        if bad is not None:
+            problems.append((name, bad))
+    if not problems:
+        try:
+            check_output_path(out, "--out", "the summary")
+        except InputError as e:
+            problems += e.problems
     if problems:
         raise InputError(problems)
     return out, kind, stamp
@@ -46,19 +70,19 @@ def cmd_report(args) -> int:
     from engine.io import sitefile
 
     out, kind, stamp = _check_args(args)
+    folder = _exports_folder(args.exports) if args.exports else None
     ev = pipeline.evaluate(sitefile.load(args.site))
     summary = report.build_summary(ev, assessor=args.assessor or "", notes=args.notes or "",
                                    generated_at=stamp)
     data = (report.render_html(summary).encode("utf-8") if kind == "html"
             else report.render_pdf(summary))
-    _write_atomic(out, data)
-    print(f"wrote {out} ({len(data)} bytes, site file SHA-256 {summary.site_sha256[:16]}, "
-          f"made {summary.generated_at})")
-    if args.exports:
-        folder = Path(args.exports)
+    write_output(out, data, "--out", "the summary")
+    write_stdout(f"wrote {out} ({len(data)} bytes, site file SHA-256 "
+                 f"{summary.site_sha256[:16]}, made {summary.generated_at})\n")
+    if folder is not None:
         for name, (_mime, blob, _desc) in report.export_files(ev).items():
-            _write_atomic(folder / name, blob)
-            print(f"wrote {folder / name} ({len(blob)} bytes)")
+            write_output(folder / name, blob, "--exports", "the data files")
+            write_stdout(f"wrote {folder / name} ({len(blob)} bytes)\n")
     return 0
 
 

@@ -226,6 +226,27 @@ def _check_common(p: Problems, height_m, roughness_m, n_sectors, method):
         p.add("method", f"must be one of {', '.join(FIT_METHODS)}, got {method!r}")
 
 
+#: Largest Weibull shape a climate may hold (as :class:`engine.core.model.WindClimate` checks).
+MAX_WEIBULL_K = 10.0
+
+
+def _check_shape_fits(k_out, speeds, record_file: str) -> None:
+    """Refuse, in words, a record whose speeds barely vary (a fitted shape k above the limit)."""
+    k_out = np.asarray(k_out, float)
+    steep = ~np.isfinite(k_out) | (k_out > MAX_WEIBULL_K)
+    if not steep.any():
+        return
+    spread = float(np.std(speeds) / np.mean(speeds)) if np.mean(speeds) > 0 else 0.0
+    finite = k_out[np.isfinite(k_out)]
+    k_max = float(finite.max()) if finite.size else float("inf")
+    raise InputError([(record_file or "record",
+                       f"the wind speeds barely vary (spread {100 * spread:.2g} % of the mean; "
+                       f"fitted Weibull shape up to {k_max:.3g} in {int(steep.sum())} "
+                       f"sector(s), at most {MAX_WEIBULL_K:g} accepted): a steady or stuck "
+                       "record cannot describe a wind climate. Check the speed column (a "
+                       "constant, a logger default) or enter the climate as a table")])
+
+
 def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: float,
                         roughness_m: float = RECORD_ROUGHNESS_M, displacement_m: float = 0.0,
                         n_sectors: int = 12, method: str = "mle",
@@ -283,6 +304,7 @@ def climate_from_series(speed_ms, direction_deg, time_ns=None, *, height_m: floa
         notes.append(f"{int(np.sum(~np.isfinite(monthly)))} calendar month(s) without data: "
                      "no monthly means kept with the climate")
     rose = _rose_table(v, sec, n_sectors)
+    _check_shape_fits(k_out, v, record_file)
     clim = WindClimate(height_m=float(height_m), roughness_m=float(roughness_m),
                        frequency=tuple(float(f) for f in freq),
                        weibull_k=tuple(float(k) for k in k_out),
@@ -409,11 +431,30 @@ def climate_from_record(record, report=None, *, height_m: float,
         record_file=record.file_name, record_sha256=record.sha256)
 
 
+#: Largest share of a record's rows quality control may exclude before the record is refused.
+MAX_EXCLUDED_SHARE = 0.5
+
+
+def _check_kept_share(report, max_excluded_share: float) -> None:
+    """Refuse a record that lost more than ``max_excluded_share`` of its rows, naming why."""
+    if report.n_rows == 0 or report.n_excluded <= max_excluded_share * report.n_rows:
+        return
+    top = sorted((r for r in report.rules if r.count), key=lambda r: -r.count)[:3]
+    why = "; ".join(f"{r.label}: {r.count} (rows {', '.join(map(str, r.first_rows))}"
+                    f"{', ...' if r.count > len(r.first_rows) else ''})" for r in top)
+    raise InputError([(report.file_name or "record",
+                       f"quality control excluded {report.n_excluded} of {report.n_rows} rows "
+                       f"({100 * report.n_excluded / report.n_rows:.0f} %), more than the "
+                       f"{100 * max_excluded_share:g} % accepted; {why}. Fix the record, or "
+                       "accept a larger share explicitly")])
+
+
 def climate_from_csv_bytes(data: bytes, file_name: str = "record.csv", *, height_m: float,
                            roughness_m: float = RECORD_ROUGHNESS_M, displacement_m: float = 0.0,
                            n_sectors: int = 12, method: str = "mle", columns=None,
                            speed_unit=None, utc_offset_h: float = 0.0, altitude_m: float = 0.0,
-                           qc_settings=None,
+                           qc_settings=None, direction_unit=None, day_first=None,
+                           max_excluded_share: float = MAX_EXCLUDED_SHARE,
                            max_bytes: int = timeseries.MAX_RECORD_BYTES):
     """Upload to climate in one call: import, quality control, climate.
 
@@ -428,14 +469,20 @@ def climate_from_csv_bytes(data: bytes, file_name: str = "record.csv", *, height
     ------
     InputError
         For any file or parameter problem (size above ``max_bytes``, unreadable table, no
-        speed or direction column, too few valid rows).
+        speed or direction column, too few valid rows, more than ``max_excluded_share`` of
+        the rows excluded by quality control).
     """
     p = Problems()
     _check_common(p, height_m, roughness_m, n_sectors, method)
+    check_range(p, "utc_offset_h", utc_offset_h, -14, 14, "h")
+    check_range(p, "altitude_m", altitude_m, -450, 5000, "m")
+    check_range(p, "max_excluded_share", max_excluded_share, 0, 1)
     p.raise_if_any()
     record = timeseries.read_record(data, file_name, columns=columns, speed_unit=speed_unit,
-                                    utc_offset_h=utc_offset_h, max_bytes=max_bytes)
+                                    utc_offset_h=utc_offset_h, max_bytes=max_bytes,
+                                    direction_unit=direction_unit, day_first=day_first)
     report = qc.run_qc(record, qc_settings)
+    _check_kept_share(report, max_excluded_share)
     summary = climate_from_record(record, report, height_m=height_m, roughness_m=roughness_m,
                                   displacement_m=displacement_m, n_sectors=n_sectors,
                                   method=method, altitude_m=altitude_m, qc_settings=qc_settings)

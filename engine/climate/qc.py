@@ -23,7 +23,7 @@ from engine.io.records import NAT_NS, Record
 
 #: Row rules, in the order they are applied: (name, readable label).
 ROW_RULES = (
-    ("bad_timestamp", "timestamp missing or unreadable"),
+    ("bad_timestamp", "timestamp missing, unreadable or rejected"),
     ("duplicate_timestamp", "timestamp repeated"),
     ("out_of_order", "timestamp earlier than a previous row"),
     ("unreadable", "speed or direction is text, not a number"),
@@ -167,8 +167,12 @@ def _runs_mask(values: np.ndarray, min_len: int, eligible: np.ndarray) -> np.nda
     return (lengths[run_id] >= min_len) & eligible
 
 
-def _first_rows(mask: np.ndarray, k: int = 5) -> tuple:
-    return tuple(int(i) + 1 for i in np.flatnonzero(mask)[:k])
+def _first_rows(mask: np.ndarray, k: int = 5, file_row=None) -> tuple:
+    """The first ``k`` rows caught, as data-row numbers of the file (from 1), in file order."""
+    idx = np.flatnonzero(mask)
+    if file_row is None:
+        return tuple(int(i) + 1 for i in idx[:k])
+    return tuple(int(r) + 1 for r in np.sort(np.asarray(file_row)[idx])[:k])
 
 
 def _iso(ns) -> str:
@@ -192,6 +196,8 @@ def run_qc(record: Record, settings: QCSettings | None = None) -> QCReport:
     -----
     Duplicate: a time equal to the latest time seen so far. Out of order: a time earlier than
     the latest so far. Both leave the valid times strictly increasing without sorting.
+    :func:`engine.io.records.read_record` already sorts the rows by time (and says so in its
+    notes), so an imported record has no row out of order; arrays made in memory may.
     Nominal step: the median of the positive steps between valid rows.
     """
     s = settings or QCSettings()
@@ -208,7 +214,8 @@ def run_qc(record: Record, settings: QCSettings | None = None) -> QCReport:
     def apply(name, label, fld, mask):
         new = mask & ~caught
         caught[:] |= new
-        results.append(RuleResult(name, label, fld, int(new.sum()), _first_rows(new)))
+        results.append(RuleResult(name, label, fld, int(new.sum()),
+                                  _first_rows(new, file_row=record.file_row)))
 
     labels = dict(ROW_RULES)
     bad_t = t == NAT_NS
@@ -267,7 +274,7 @@ def run_qc(record: Record, settings: QCSettings | None = None) -> QCReport:
             new = mask & ~done
             done |= new
             value_results.append(RuleResult(rule, label, fld, int(new.sum()),
-                                            _first_rows(new)))
+                                            _first_rows(new, file_row=record.file_row)))
 
     notes = list(record.notes)
     # Gaps are steps missing from the file's time axis (rows with a usable, increasing time),

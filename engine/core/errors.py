@@ -7,7 +7,17 @@ message beside its field.
 """
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass, field
+
+# Characters that must not reach a terminal or a log line as they are: controls other than
+# line feed, and lone surrogates (which cannot be encoded).
+_UNSHOWABLE = re.compile("[\x00-\x09\x0b-\x1f\x7f-\x9f\ud800-\udfff]")
+
+
+def printable(text: str) -> str:
+    """``text`` with control characters and lone surrogates written as ``\\uXXXX`` escapes."""
+    return _UNSHOWABLE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
 
 
 class InputError(ValueError):
@@ -18,7 +28,7 @@ class InputError(ValueError):
     """
 
     def __init__(self, problems):
-        problems = [(str(w), str(m)) for w, m in problems]
+        problems = [(printable(str(w)), printable(str(m))) for w, m in problems]
         if not problems:
             problems = [("input", "unknown problem")]
         self.problems = problems
@@ -86,10 +96,20 @@ def decode_upload(data, max_bytes: int, what: str, save_as: str) -> str:
     encoding problem ("UTF-8 JSON"). Raises :class:`InputError` naming the limit or the byte.
     """
     if len(data) > max_bytes:
-        raise InputError([("file", f"is {len(data) / 1e6:.1f} MB; {what} must be under "
-                                   f"{max_bytes / 1e6:.0f} MB")])
+        raise InputError([("file", f"is larger than the {max_bytes / 2**20:.3g} MiB limit for "
+                                   f"{what}; check that this is the right file")])
+    data = bytes(data)
+    if data[:2] in (b"\xff\xfe", b"\xfe\xff"):  # UTF-16 with its byte-order mark
+        try:
+            text = data.decode("utf-16")
+        except UnicodeDecodeError:
+            text = ""
+        head = text[:512]
+        # Site files and tables are mostly ASCII; UTF-16 that is not is binary junk.
+        if head and sum(ch < "\x80" for ch in head) >= 0.5 * len(head):
+            return text
     try:
-        return bytes(data).decode("utf-8-sig")
+        return data.decode("utf-8-sig")
     except UnicodeDecodeError as e:
         raise InputError([("file", f"is not UTF-8 text (byte {e.start}); save it as "
                                    f"{save_as}")]) from None

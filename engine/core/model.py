@@ -339,6 +339,14 @@ class Turbine:
                                        "the curve's peak, or check kW/W units")
         except (TypeError, ValueError):
             p.add("curve_speed_ms", "power-curve speeds and powers must be numbers")
+        # Upper bounds (common practice): small turbines cut in below 10 m/s; no curve runs
+        # beyond a 50 m/s speed limit, and rated power is reached below cut-out (an idealised
+        # cubic curve may reach it close to the limit); the IEC 61400-2 reference speeds are
+        # 37.5-50 m/s for classes I-IV, and class S stays below 70 m/s.
+        check_range(p, "cut_in_ms", self.cut_in_ms, 0, 15, "m/s")
+        check_range(p, "rated_speed_ms", self.rated_speed_ms, 0, 50, "m/s", lo_open=True)
+        check_range(p, "cut_out_ms", self.cut_out_ms, 0, 50, "m/s", lo_open=True)
+        check_range(p, "v_ref_ms", self.v_ref_ms, 0, 70, "m/s")
         if not (float(self.cut_in_ms) < float(self.rated_speed_ms) < float(self.cut_out_ms)):
             p.add("cut_in_ms", f"need cut-in < rated < cut-out speed, got {self.cut_in_ms} < "
                                f"{self.rated_speed_ms} < {self.cut_out_ms} m/s")

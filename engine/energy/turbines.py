@@ -19,7 +19,6 @@ from __future__ import annotations
 import csv
 import dataclasses
 import io
-import json
 import math
 import re
 from dataclasses import dataclass
@@ -35,7 +34,7 @@ LIBRARY_FILE = LIBRARY_DIR / "generic_turbines.json"
 #: Most problems listed from one CSV file; the rest are counted.
 MAX_LISTED_PROBLEMS = 25
 #: Largest power-curve file accepted [bytes]; a curve is a few hundred bytes.
-MAX_CURVE_FILE_BYTES = 1_000_000
+MAX_CURVE_FILE_BYTES = 1024 * 1024  # 1 MiB
 #: With no unit in the header and unit="auto", a largest value up to this is read as kW.
 AUTO_KW_BELOW = 50.0
 
@@ -346,10 +345,8 @@ def turbine_to_dict(turbine: Turbine) -> dict:
 
 def load_library(path=LIBRARY_FILE) -> tuple:
     """The invented generic turbines of the library file, validated, in file order."""
-    try:
-        doc = json.loads(Path(path).read_text(encoding="utf-8"))
-    except (OSError, json.JSONDecodeError) as e:
-        raise InputError([(str(path), f"cannot be read as JSON: {e}")]) from None
+    from engine.io.safe_files import MIB, load_json
+    doc = load_json(path, MIB, "a turbine library (JSON)")
     items = doc.get("turbines") if isinstance(doc, dict) else None
     if not isinstance(items, list):
         raise InputError([(str(path), "must be an object with a 'turbines' list")])

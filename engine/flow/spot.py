@@ -134,6 +134,12 @@ def spot_comparison(assessment, eff) -> pd.DataFrame:
     })[cols]
 
 
+#: Largest measured speed-up accepted for calibration [-]. Speed-ups over roofs and through
+#: gaps between buildings stay well below 2 in wind-tunnel and field studies (common
+#: practice); a ratio above 3 is a reading error (unpaired readings, wrong unit).
+MAX_CALIBRATION_SPEEDUP = 3.0
+
+
 def calibrated_speed_factor(speed_factor, comparison: pd.DataFrame, position_ids):
     """Speed factors with measured speed-ups put in place where readings are marked for it.
 
@@ -148,6 +154,15 @@ def calibrated_speed_factor(speed_factor, comparison: pd.DataFrame, position_ids
     use = comparison[comparison["use_for_calibration"].astype(bool)] if len(comparison) else comparison
     if not len(use):
         return sf, done
+    su = use["measured_speedup"].to_numpy(float)
+    bad = ~np.isfinite(su) | (su > MAX_CALIBRATION_SPEEDUP)
+    if bad.any():
+        from engine.core.errors import InputError
+        raise InputError([(f"spot_readings[{int(i)}].use_for_calibration",
+                           f"the measured speed-up must be <= {MAX_CALIBRATION_SPEEDUP:g} to "
+                           f"calibrate the model, got {v:.3g}; check that the readings are "
+                           "paired, in the same unit and at the heights given, or use them for "
+                           "comparison only") for i, v in zip(use.index[bad], su[bad])])
     ids = list(position_ids)
     pi = np.array([ids.index(p) for p in use["position_id"]])
     si = use["sector"].to_numpy(int)

@@ -4,7 +4,10 @@ A record is a table with a timestamp and a mean wind speed, usually a direction,
 a gust, an air temperature and a pressure. :func:`read_record` finds the column separator and
 the columns by their headers (or takes an explicit mapping), converts units to SI and times to
 UTC, and returns a :class:`Record`. It never drops a row: cells that cannot be read become NaN
-and are marked, so that :mod:`engine.climate.qc` can count and exclude them in its report.
+and are marked, so that :mod:`engine.climate.qc` can count and exclude them in its report. Rows out of
+time order are sorted (and the import says so); a timestamp that jumps far away from the rows
+around it (a logger's 1970 or 2099) is rejected on its own and listed, so it cannot push the
+rest of the record out of order.
 
 Times are held as int64 nanoseconds since 1970-01-01 UTC. Timestamps that carry an offset
 (``2024-03-01T10:00:00+01:00``, ``...Z``) are converted with it; timestamps without one are
@@ -27,6 +30,8 @@ import numpy as np
 import pandas as pd
 
 from engine.core.errors import InputError, Problems
+from engine.io import record_checks
+from engine.io.record_checks import header_tokens as _tokens
 
 #: Largest record accepted [bytes]. Ten years of 10-minute data is about 25-40 MB.
 MAX_RECORD_BYTES = 100 * 1024 * 1024
@@ -38,6 +43,8 @@ MAX_HEADER_CHARS = 20000
 SPEED_UNITS = {"m/s": 1.0, "km/h": 1.0 / 3.6, "mph": 0.44704, "knots": 1852.0 / 3600.0}
 #: Pressure units and their factor to Pa.
 PRESSURE_UNITS = {"Pa": 1.0, "hPa": 100.0, "kPa": 1000.0}
+#: Direction units (converted to degrees).
+DIRECTION_UNITS = ("deg", "rad")
 #: Temperature units (converted to °C).
 TEMPERATURE_UNITS = ("C", "K", "F")
 
@@ -73,6 +80,7 @@ class Record:
     units : field -> unit found (or assumed) for the column
     file_name, sha256 : where the bytes came from and their SHA-256
     notes : what the import assumed or noticed, for the report
+    file_row : (N,) int64 row of the file each entry came from (rows are sorted by time)
     """
 
     time_ns: np.ndarray
@@ -85,6 +93,9 @@ class Record:
     file_name: str = ""
     sha256: str = ""
     notes: tuple = ()
+    #: (N,) int64 place of each row in the file (0 = first data row); None for rows made in
+    #: memory, which are in their own order.
+    file_row: np.ndarray | None = None
 
     @property
     def n_rows(self) -> int:
@@ -100,11 +111,6 @@ class Record:
 
 #: Marker for an unreadable time (the int64 view of NaT).
 NAT_NS = np.iinfo(np.int64).min
-
-
-def _tokens(header: str) -> list:
-    h = header.lower().replace("°", " deg ").replace("/", " ")
-    return [t for t in re.split(r"[^a-z0-9]+", h) if t]
 
 
 def _role(header: str):
@@ -256,8 +262,14 @@ def _to_utc_ns(t, has_offset: bool, utc_offset_h: float, notes: list):
     return ns, bad
 
 
-def _parse_times(col: pd.Series, utc_offset_h: float, day_first: bool, notes: list):
-    """Parse a column of timestamps to int64 UTC ns; unreadable -> NAT_NS (and a mask)."""
+def _parse_times(col: pd.Series, utc_offset_h: float, day_first, notes: list,
+                 where: str = "time", problems: Problems | None = None):
+    """Parse a column of timestamps to int64 UTC ns; unreadable -> NAT_NS (and a mask).
+
+    Returns None when the column holds no timestamps, or when the date order cannot be
+    decided (then a problem is added to ``problems``).
+    """
+    problems = problems if problems is not None else Problems()
     blank = col.isna().to_numpy()
     if isinstance(col.dtype, pd.DatetimeTZDtype) or pd.api.types.is_datetime64_dtype(col):
         aware = isinstance(col.dtype, pd.DatetimeTZDtype)
@@ -283,52 +295,49 @@ def _parse_times(col: pd.Series, utc_offset_h: float, day_first: bool, notes: li
     has_offset = bool(re.search(r"(Z|[+-]\d\d:?\d\d)$", first))
     t = pd.to_datetime(s, format="ISO8601", utc=True, errors="coerce")
     if t.isna().mean() > 0.5:
-        t = pd.to_datetime(s, utc=True, errors="coerce", dayfirst=day_first)
+        order = record_checks.date_order(s, day_first, where, problems, notes)
+        if order is None:
+            return None
+        t = pd.to_datetime(s, utc=True, errors="coerce", dayfirst=order)
     ns, bad = _to_utc_ns(t, has_offset, utc_offset_h, notes)
     return ns, bad & ~blank
 
 
-def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit=None,
-                gust_unit=None, utc_offset_h: float = 0.0, separator=None,
-                day_first: bool = False, max_bytes: int = MAX_RECORD_BYTES) -> Record:
-    """Read a measured wind record from CSV/TSV bytes (or a path) into a :class:`Record`.
+def _input_bytes(data, where: str, max_bytes: int, notes: list) -> tuple:
+    """The record's bytes (from bytes, a file object or a path) and their SHA-256.
 
-    Parameters
-    ----------
-    data : bytes, or a path to the file
-    file_name : name shown in messages and kept with the climate
-    columns : optional mapping field -> header, for fields ``time``, ``speed``, ``direction``,
-        ``gust``, ``temperature``, ``pressure``; unmapped fields are found by their headers
-    speed_unit, gust_unit : one of :data:`SPEED_UNITS`; when None, from the header (m/s if
-        the header says nothing)
-    utc_offset_h : offset from UTC [h] of timestamps written without one (fixed; no DST)
-    separator : column separator; found from the first lines when None
-    day_first : read ambiguous dates such as 03/04/2024 as 3 April
-    max_bytes : largest accepted input [bytes]
-
-    Returns
-    -------
-    Record
-        Every data row kept, in file order; unreadable cells NaN and marked.
-
-    Raises
-    ------
-    InputError
-        Empty, binary or oversize input, no header, no time or speed column, a column with no
-        numbers at all, an unknown unit; every problem found is listed.
+    A path is read with :func:`engine.io.safe_files.read_bounded` (devices and FIFOs refused, the
+    limit checked on the bytes read). UTF-16 text (with a byte-order mark, or NUL bytes in
+    every second place) is decoded and re-encoded as UTF-8 and says so in ``notes``.
     """
-    where = file_name or "record"
-    if isinstance(data, (str, bytes)) is False and hasattr(data, "read"):
-        data = data.read()
+    from engine.io.safe_files import format_size, read_bounded
+    if not isinstance(data, (str, bytes)) and hasattr(data, "read"):
+        data = data.read(max_bytes + 1)
     if not isinstance(data, (bytes, bytearray, memoryview)):
-        with open(data, "rb") as fh:
-            data = fh.read(max_bytes + 1)
+        data = read_bounded(data, max_bytes, "a CSV/TSV record", where)
     if len(data) > max_bytes:
-        raise InputError([(where, f"is {len(data) / 1e6:.0f} MB or more, larger than the "
-                                  f"{max_bytes / 1e6:.0f} MB limit; split the record into "
-                                  "shorter periods or thin it to 10-minute means")])
+        raise InputError([(where, f"is larger than the {format_size(max_bytes)} limit; split "
+                                  "the record into shorter periods or thin it to 10-minute "
+                                  "means")])
     data = bytes(data)
     sha = hashlib.sha256(data).hexdigest()
+    head = data[:4096]
+    bom16 = head[:2] in (b"\xff\xfe", b"\xfe\xff")
+    odd_nul = len(head) >= 8 and (head[1::2].count(0) > 0.9 * (len(head) // 2)
+                                  or head[0::2].count(0) > 0.9 * (len(head) // 2))
+    if bom16 or odd_nul:
+        enc = "utf-16" if bom16 else ("utf-16-le" if head[1::2].count(0) else "utf-16-be")
+        try:
+            data = data.decode(enc).encode("utf-8")
+        except UnicodeDecodeError:
+            raise InputError([(where, "looks like UTF-16 text but does not decode as UTF-16; "
+                                      "save the record as UTF-8 CSV")]) from None
+        notes.append("the file is UTF-16 text; decoded as UTF-16")
+    return data, sha
+
+
+def _table_lines(data: bytes, where: str) -> tuple:
+    """First lines of the table after comments and blank lines: (lines, skip, encoding)."""
     if not data.strip():
         raise InputError([(where, "is empty; choose a CSV/TSV file with a header line and "
                                   "one row per time step")])
@@ -343,12 +352,11 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
     lines = [ln for ln in all_lines[skip:skip + 60] if ln.strip()]
     if not lines:
         raise InputError([(where, "holds no table (only comments or blank lines)")])
-    problems = Problems()
-    if speed_unit is not None and speed_unit not in SPEED_UNITS:
-        problems.add("speed_unit", f"must be one of {', '.join(SPEED_UNITS)}, got {speed_unit!r}")
-    if gust_unit is not None and gust_unit not in SPEED_UNITS:
-        problems.add("gust_unit", f"must be one of {', '.join(SPEED_UNITS)}, got {gust_unit!r}")
-    problems.raise_if_any()
+    return lines, skip, encoding
+
+
+def _check_header(lines: list, skip: int, where: str, separator) -> tuple:
+    """The separator and the decimal mark, after checking the header line."""
     if len(lines[0]) > MAX_HEADER_CHARS:
         raise InputError([(f"{where}: line {skip + 1}", f"the header line is "
                            f"{len(lines[0])} characters long; a record's header names a few "
@@ -365,6 +373,12 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
     decimal = "."
     if sep != "," and any(re.search(r"\d,\d", ln) for ln in lines[1:]):
         decimal = ","
+    return sep, decimal
+
+
+def _read_frame(data: bytes, where: str, sep: str, skip: int, decimal: str,
+                encoding: str) -> pd.DataFrame:
+    """The table as a DataFrame (Arrow reader for large plain files, else the C reader)."""
     def _read(enc):
         return pd.read_csv(io.BytesIO(data), sep=sep, skiprows=skip, decimal=decimal,
                            skipinitialspace=True, engine="c", on_bad_lines="error",
@@ -393,8 +407,11 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
     df.columns = [str(c).strip() for c in df.columns]
     if len(df) == 0:
         raise InputError([(where, "has a header but no data rows")])
+    return df
 
-    notes = []
+
+def _map_columns(df: pd.DataFrame, columns, problems: Problems, notes: list) -> dict:
+    """Field -> column: the explicit mapping first, then columns recognised by their headers."""
     mapping = {}
     for name, col in (columns or {}).items():
         if name not in ("time",) + FIELDS:
@@ -430,20 +447,27 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
     if "speed" not in mapping:
         problems.add("columns.speed", f"no wind speed column found among {', '.join(df.columns)};"
                                       " name it e.g. 'speed_ms' or map it explicitly")
-    problems.raise_if_any()
+    return mapping
 
+
+def _numbers(col: pd.Series) -> tuple:
+    """(values as float, mask of non-blank cells that are not numbers)."""
+    if pd.api.types.is_numeric_dtype(col) and not pd.api.types.is_bool_dtype(col):
+        vals = col.to_numpy(dtype=float, na_value=np.nan)
+        return vals, np.zeros(vals.shape, bool)
+    conv = pd.to_numeric(col.astype("string").str.strip(), errors="coerce")
+    vals = conv.to_numpy(dtype=float, na_value=np.nan)
+    return vals, col.notna().to_numpy() & ~np.isfinite(vals)
+
+
+def _convert_fields(df, mapping, units_given: dict, where: str, problems: Problems,
+                    notes: list) -> tuple:
+    """Each mapped quantity as raw values, unreadable mask, SI conversion and unit."""
     raw, unread, scale, offset, units = {}, {}, {}, {}, {}
     for name in FIELDS:
         if name not in mapping:
             continue
-        col = df[mapping[name]]
-        if pd.api.types.is_numeric_dtype(col) and not pd.api.types.is_bool_dtype(col):
-            vals = col.to_numpy(dtype=float, na_value=np.nan)
-            bad = np.zeros(vals.shape, bool)
-        else:
-            conv = pd.to_numeric(col.astype("string").str.strip(), errors="coerce")
-            vals = conv.to_numpy(dtype=float, na_value=np.nan)
-            bad = col.notna().to_numpy() & ~np.isfinite(vals)
+        vals, bad = _numbers(df[mapping[name]])
         if not np.isfinite(vals).any():
             why = "text, not numbers" if bad.any() else "blank"
             problems.add(f"{where}: column {mapping[name]!r}",
@@ -453,7 +477,8 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
             continue
         raw[name], unread[name] = vals, bad
         if name in ("speed", "gust"):
-            given = speed_unit if name == "speed" else (gust_unit or speed_unit)
+            given = units_given["speed"] if name == "speed" else (units_given["gust"]
+                                                                   or units_given["speed"])
             unit = given or _speed_unit_from_header(mapping[name]) or "m/s"
             if given is None and _speed_unit_from_header(mapping[name]) is None:
                 notes.append(f"{name} column {mapping[name]!r} has no unit in its header; "
@@ -465,7 +490,9 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
                 notes.append(f"mean speed {mean_si:.1f} m/s is implausibly high for m/s; "
                              "is the column in km/h or knots?")
         elif name == "direction":
-            unit, scale[name], offset[name] = "deg", 1.0, 0.0
+            unit = record_checks.direction_unit(mapping[name], vals, units_given["direction"],
+                                                where, problems, notes)
+            scale[name], offset[name] = (1.0 if unit == "deg" else 180.0 / np.pi), 0.0
         elif name == "temperature":
             unit = _temperature_unit(mapping[name], vals, notes)
             scale[name], offset[name] = {"C": (1.0, 0.0), "K": (1.0, -273.15),
@@ -474,17 +501,82 @@ def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit
             unit = _pressure_unit(mapping[name], vals, notes)
             scale[name], offset[name] = PRESSURE_UNITS[unit], 0.0
         units[name] = unit
-    parsed = _parse_times(df[mapping["time"]], utc_offset_h, day_first, notes)
-    if parsed is None or (parsed[0] == NAT_NS).all():
+    return raw, unread, scale, offset, units
+
+
+def read_record(data, file_name: str = "record.csv", *, columns=None, speed_unit=None,
+                gust_unit=None, utc_offset_h: float = 0.0, separator=None,
+                day_first: bool | None = None, direction_unit=None,
+                max_bytes: int = MAX_RECORD_BYTES) -> Record:
+    """Read a measured wind record from CSV/TSV bytes (or a path) into a :class:`Record`.
+
+    Parameters
+    ----------
+    data : bytes, or a path to the file
+    file_name : name shown in messages and kept with the climate
+    columns : optional mapping field -> header, for fields ``time``, ``speed``, ``direction``,
+        ``gust``, ``temperature``, ``pressure``; unmapped fields are found by their headers
+    speed_unit, gust_unit : one of :data:`SPEED_UNITS`; when None, from the header (m/s if
+        the header says nothing)
+    utc_offset_h : offset from UTC [h] of timestamps written without one (fixed; no DST)
+    separator : column separator; found from the first lines when None
+    day_first : read dates such as 03/04/2024 as 3 April (True) or 4 March (False); when
+        None the dates must show their order (a first field above 12 means day first, a
+        second field above 12 month first), else the record is refused
+    direction_unit : ``"deg"`` or ``"rad"``; when None, from the header, checked against
+        the data (values only within 0-2π are refused unless the unit is given)
+    max_bytes : largest accepted input [bytes]
+
+    Returns
+    -------
+    Record
+        Every data row kept, sorted by time (``file_row`` gives each row's place in the
+        file); unreadable cells NaN and marked; implausible times rejected (``NAT_NS``) and
+        listed in ``notes``, as are the rows that had to be sorted.
+
+    Raises
+    ------
+    InputError
+        Empty, binary or oversize input, no header, no time or speed column, a column with no
+        numbers at all, an unknown unit, an undecidable date order, directions that look
+        like radians without a unit; every problem found is listed.
+    """
+    where = file_name or "record"
+    notes = []
+    data, sha = _input_bytes(data, where, max_bytes, notes)
+    problems = Problems()
+    for name, unit, allowed in (("speed_unit", speed_unit, SPEED_UNITS),
+                                ("gust_unit", gust_unit, SPEED_UNITS),
+                                ("direction_unit", direction_unit, DIRECTION_UNITS)):
+        if unit is not None and unit not in allowed:
+            problems.add(name, f"must be one of {', '.join(allowed)}, got {unit!r}")
+    problems.raise_if_any()
+    lines, skip, encoding = _table_lines(data, where)
+    sep, decimal = _check_header(lines, skip, where, separator)
+    df = _read_frame(data, where, sep, skip, decimal, encoding)
+    mapping = _map_columns(df, columns, problems, notes)
+    problems.raise_if_any()
+    raw, unread, scale, offset, units = _convert_fields(
+        df, mapping, {"speed": speed_unit, "gust": gust_unit, "direction": direction_unit},
+        where, problems, notes)
+    parsed = _parse_times(df[mapping["time"]], utc_offset_h, day_first, notes,
+                          f"{where}: column {mapping['time']!r}", problems)
+    if not problems and (parsed is None or (parsed[0] == NAT_NS).all()):
         problems.add(f"{where}: column {mapping['time']!r}",
                      "holds no readable timestamps; write them as ISO 8601, e.g. "
                      "2024-03-01T10:00:00Z, or map the right column")
     problems.raise_if_any()
     time_ns, bad_t = parsed
-    unread["time"] = bad_t
+    order, time_ns, rejected = record_checks.order_rows(time_ns, where, notes)
+    unread["time"] = bad_t | rejected
+    file_row = np.arange(time_ns.size, dtype=np.int64)
+    if order is not None:
+        time_ns, file_row = time_ns[order], file_row[order]
+        raw = {k: v[order] for k, v in raw.items()}
+        unread = {k: v[order] for k, v in unread.items()}
     return Record(time_ns=time_ns, raw=raw, scale=scale, offset=offset, unreadable=unread,
                   columns={k: v for k, v in mapping.items()}, units=units, file_name=file_name,
-                  sha256=sha, notes=tuple(notes))
+                  sha256=sha, notes=tuple(notes), file_row=file_row)
 
 
 def record_from_arrays(time_ns, speed_ms, direction_deg=None, *, temperature_c=None,

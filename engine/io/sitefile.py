@@ -13,19 +13,24 @@ import dataclasses
 import hashlib
 import json
 import math
-import os
-import shutil
-import tempfile
 import types
 import typing
 from pathlib import Path
 
-from engine.io import migrate
 from engine.core import model
 from engine.core.errors import InputError, Problems, decode_upload
+from engine.io import migrate, safe_files
 
-#: Largest site file accepted [bytes]; a site file is small, larger ones are a wrong upload.
+#: Largest site file accepted [bytes] (20 MiB); a site file is small, larger ones are a wrong
+#: upload.
 MAX_SITE_FILE_BYTES = 20 * 1024 * 1024
+
+#: Text fields other than one-line names and ids: field name -> (line breaks allowed,
+#: longest accepted [characters]). Every other text field is one line of at most
+#: :data:`engine.io.safe_files.MAX_NAME_CHARS` characters.
+TEXT_LIMITS = {"notes": (True, safe_files.MAX_NOTE_CHARS),
+               "note": (True, safe_files.MAX_NOTE_CHARS),
+               "label": (False, 1000), "record_file": (False, 1000)}
 
 
 def _hints(cls):
@@ -101,6 +106,12 @@ def _convert(value, tp, where: str, problems: Problems):
     if tp is str:
         if not isinstance(value, str):
             problems.add(where, f"must be a text, got {_show(value)}")
+            return None
+        multiline, limit = TEXT_LIMITS.get(where.rsplit(".", 1)[-1].split("[")[0],
+                                           (False, safe_files.MAX_NAME_CHARS))
+        bad = safe_files.text_problem(value, multiline=multiline, max_chars=limit)
+        if bad is not None:
+            problems.add(where, bad)
             return None
         return value
     raise TypeError(f"unsupported field type {tp!r}")  # a programming error, not user input
@@ -210,49 +221,16 @@ def load(path) -> model.Assessment:
 
 def load_with_notes(path) -> tuple:
     """Read and validate a site file: ``(assessment, migration notes)``."""
-    path = Path(path)
-    try:
-        size = path.stat().st_size
-        if size > MAX_SITE_FILE_BYTES:
-            raise InputError([(str(path), f"is {size / 1e6:.1f} MB; a site file must be under "
-                                          f"{MAX_SITE_FILE_BYTES / 1e6:.0f} MB")])
-        raw = path.read_bytes()
-    except OSError as e:
-        raise InputError([(str(path), f"cannot be read: {e.strerror}")]) from None
+    raw = safe_files.read_bounded(path, MAX_SITE_FILE_BYTES, "a site file (JSON)")
     return loads_with_notes(raw)
 
 
 def atomic_write_bytes(path, data: bytes, keep_previous: bool = True) -> Path:
-    """Write ``data`` to ``path`` atomically (temporary file, fsync, rename); keep ``<name>.bak``.
+    """Write ``data`` to ``path`` atomically.
 
-    An interrupted write leaves the previous file intact: the file exists, whole, at every
-    instant.
+    See :func:`engine.io.safe_files.atomic_write_bytes`.
     """
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
-    bak_tmp = tmp + ".bak"
-    try:
-        # mkstemp creates 0600; keep the previous file's mode, else the usual 0644.
-        os.chmod(tmp, (path.stat().st_mode & 0o777) if path.exists() else 0o644)
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        if keep_previous and path.exists():
-            # Link (or copy) the previous version to .bak rather than moving it, so the site
-            # file exists, whole, at every instant of the save.
-            try:
-                os.link(path, bak_tmp)
-            except OSError:  # a file system without hard links
-                shutil.copy2(path, bak_tmp)
-            os.replace(bak_tmp, path.with_name(path.name + ".bak"))
-        os.replace(tmp, path)
-    except BaseException:
-        for leftover in (tmp, bak_tmp):
-            if os.path.exists(leftover):
-                os.unlink(leftover)
-        raise
-    return path
+    return safe_files.atomic_write_bytes(path, data, keep_previous=keep_previous)
 
 
 def save(assessment: model.Assessment, path, keep_previous: bool = True) -> Path:
@@ -278,6 +256,7 @@ def _schema_for(tp, defs: dict):
             props, required = {}, []
             for f in dataclasses.fields(tp):
                 props[f.name] = _schema_for(hints[f.name], defs)
+                _text_limit_schema(f.name, props[f.name])
                 if f.default is not dataclasses.MISSING and not dataclasses.is_dataclass(f.default):
                     props[f.name]["default"] = _plain(f.default)
                 if f.default is dataclasses.MISSING and f.default_factory is dataclasses.MISSING:
@@ -295,6 +274,13 @@ def _schema_for(tp, defs: dict):
     return s
 
 
+def _text_limit_schema(name: str, prop: dict) -> None:
+    """Add the documented longest length to a text property (or to its list's items)."""
+    target = prop.get("items", prop)
+    if target.get("type") == "string":
+        target["maxLength"] = TEXT_LIMITS.get(name, (False, safe_files.MAX_NAME_CHARS))[1]
+
+
 def json_schema() -> dict:
     """JSON Schema (draft 2020-12) of the site file, generated from the model."""
     defs: dict = {}
@@ -310,6 +296,6 @@ def dataclass_from_dict(cls, data, where: str = ""):
     """Build and validate dataclass ``cls`` (e.g. :class:`engine.core.model.WindClimate`) from
     parsed JSON; raise InputError with every problem, each under ``where``."""
     problems = Problems()
-    obj = _build(cls, data, where, problems)
+    obj = build_dataclass(cls, data, where, problems)
     problems.raise_if_any()
     return obj

@@ -21,7 +21,9 @@ Modules, each named for what it does:
 - :mod:`~engine.report.exports`: the data files a summary carries, the reproduce command;
 - :mod:`~engine.report.downloads`: the summary as bytes in one call;
 - :mod:`~engine.report.charts` (Altair builders, shared with the dashboard) and
-  :mod:`~engine.report.static_charts` (drawn offline to SVG/PNG for the summary).
+  :mod:`~engine.report.static_charts` (drawn offline to SVG/PNG for the summary, in the
+  child process of :mod:`~engine.report.render`, so a renderer crash is a
+  :class:`~engine.report.render.ChartError` in place of the chart, not the end of the program).
 
 Example::
 
@@ -43,9 +45,11 @@ from engine.report.html_page import render_html
 from engine.report.inputs import input_tables
 from engine.report.pdf import render_pdf
 from engine.report.pdf_fonts import find_font, to_latin1
+from engine.report.render import ChartError
 
 __all__ = [
-    "APPENDIX_KEYS", "Attachment", "BODY_KEYS", "Bullets", "CAUTIONS", "CAUTIONS_SHORT", "DASH",
+    "APPENDIX_KEYS", "Attachment", "BODY_KEYS", "Bullets", "CAUTIONS", "CAUTIONS_SHORT",
+    "ChartError", "DASH",
     "FigureBlock", "Paragraph", "SECTION_KEYS", "Section", "Summary", "Table",
     "build_summary", "caution_lines", "column_header", "effective_climate_csv",
     "export_files", "find_font", "fmt_fixed", "fmt_percent", "fmt_value", "format_cell",

@@ -296,15 +296,21 @@ class PdfSummary:
     # ------------------------------------------------------------ figures
 
     def figure(self, f):
+        from engine.report.render import ChartError
         from engine.report.static_charts import PNG_SCALE, figure_png
 
         pdf = self.pdf
-        if f.spec is None:
+        problem = f.problem if f.spec is None else None
+        if problem is None:
+            try:
+                png = figure_png(f)
+            except ChartError as err:  # the renderer failed: say so in place of the chart
+                problem = str(err)
+        if problem is not None:
             self.font(10, bold=True)
             pdf.cell(0, 6, self.t(f.title), new_x="LMARGIN", new_y="NEXT")
-            self.para(f"This chart could not be drawn: {f.problem}", "caution")
+            self.para(f"This chart could not be drawn: {problem}", "caution")
             return
-        png = figure_png(f)
         # PNG size from the IHDR chunk: width and height, big-endian, at bytes 16..24.
         w_px, h_px = struct.unpack(">II", png[16:24])
         w = min(pdf.epw, w_px / PNG_SCALE * MM_PER_CSS_PX)

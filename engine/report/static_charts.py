@@ -2,8 +2,10 @@
 
 The charts themselves are the dashboard's builders in :mod:`engine.report.charts`, so the summary
 shows the same pictures a person saw on screen. This module picks them for a summary, draws
-them with vl-convert (no browser, no network) and makes the SVG safe to inline several times
-in one HTML page (element ids are prefixed per chart so clip paths do not collide).
+them with vl-convert (no browser, no network) in a child process, so a crash of the renderer
+costs the chart and not the program (:mod:`engine.report.render`), and makes the SVG safe to
+inline several times in one HTML page (element ids are prefixed per chart so clip paths do not
+collide).
 """
 from __future__ import annotations
 
@@ -12,10 +14,10 @@ import re
 from dataclasses import dataclass
 
 import numpy as np
-import vl_convert as vlc
 
-from engine.report import charts
 from engine.core.errors import InputError
+from engine.report import charts
+from engine.report import render as chart_render
 
 #: PNG scale for the PDF (2 = twice the CSS pixel size, sharp in print).
 PNG_SCALE = 2
@@ -180,12 +182,16 @@ def _renumber_ids(svg: str, prefix: str) -> str:
 
 
 def figure_svg(fig: Figure) -> str:
-    """The figure as SVG text ready to inline in HTML (ids prefixed with the figure's key)."""
-    svg = vlc.vegalite_to_svg(fig.spec)
+    """The figure as SVG text ready to inline in HTML (ids prefixed with the figure's key).
+
+    Drawn in a child process (:mod:`engine.report.render`); raises
+    :class:`~engine.report.render.ChartError` with the reason when it cannot be drawn.
+    """
+    svg = chart_render.to_svg(fig.spec)
     svg = re.sub(r"^<\?xml[^>]*>\s*", "", svg)
     return _renumber_ids(svg, f"fig-{fig.key}")
 
 
 def figure_png(fig: Figure, scale: float = PNG_SCALE) -> bytes:
-    """The figure as PNG bytes at ``scale`` times its CSS pixel size."""
-    return vlc.vegalite_to_png(fig.spec, scale=scale)
+    """The figure as PNG bytes at ``scale`` times its CSS pixel size (see :func:`figure_svg`)."""
+    return chart_render.to_png(fig.spec, scale=scale)

@@ -4,6 +4,7 @@ from __future__ import annotations
 import ast
 import io
 import json
+import re
 from pathlib import Path
 
 import numpy as np
@@ -16,6 +17,12 @@ from engine import cli
 from engine.chain import documents
 from engine.chain import pipeline
 from engine.io import sitefile
+
+
+def shown(markdown: str) -> str:
+    """The text a person reads from Markdown source whose user text is backslash-escaped."""
+    return re.sub(r"\\(.)", r"\1", markdown)
+
 
 ROOT = Path(__file__).resolve().parents[2]
 APP = str(ROOT / "dashboard" / "app.py")
@@ -40,7 +47,7 @@ def _go(at: AppTest, page: str) -> AppTest:
 
 
 def _texts(at: AppTest, kind: str) -> list:
-    return [e.value for e in getattr(at, kind)]
+    return [shown(e.value) for e in getattr(at, kind)]
 
 
 @pytest.fixture(scope="module")
@@ -344,6 +351,6 @@ def test_position_detail_gives_one_minimum_mast_the_rotor_clear_one(demo_eval):
     masts = [c.value for c in at.caption if c.value.startswith("Shortest mast")]
     assert masts == ["Shortest mast that keeps the whole rotor clear of the roof's "
                      f"high-turbulence zone: {best['mast_to_clear_turbulence_m']:.1f} m"]
-    notes = [m.value for m in at.markdown if m.value.startswith("- ")]
+    notes = [shown(m.value) for m in at.markdown if m.value.startswith("- ")]
     assert notes == [f"- {f}" for f in best["flags"]]
     assert not any("puts the hub above" in n for n in notes)

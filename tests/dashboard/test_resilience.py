@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import json
+import re
 from pathlib import Path
 
 import numpy as np
@@ -9,6 +10,12 @@ import pytest
 from streamlit.testing.v1 import AppTest
 
 from dashboard import exports
+
+
+def shown(markdown: str) -> str:
+    """The text a person reads from Markdown source whose user text is backslash-escaped."""
+    return re.sub(r"\\(.)", r"\1", markdown)
+
 
 ROOT = Path(__file__).resolve().parents[2]
 APP = str(ROOT / "dashboard" / "app.py")
@@ -23,7 +30,7 @@ def _app() -> AppTest:
 
 
 def _errors(at) -> list:
-    return [e.value for e in at.error]
+    return [shown(e.value) for e in at.error]
 
 
 def _demo() -> dict:
@@ -45,7 +52,6 @@ def _wrong_types() -> bytes:
 
 BAD_SITE_FILES = {
     "binary junk": lambda: np.random.default_rng(3).bytes(2048),
-    "utf-16": lambda: DEMO.read_text(encoding="utf-8").encode("utf-16"),
     "5000-digit number": lambda: b'{"format_version": ' + b"9" * 5000 + b"}",
     "deep nesting": lambda: b"[" * 100000 + b"]" * 100000,
     "newer format": _newer,
@@ -65,6 +71,17 @@ def test_bad_site_file_upload_is_named_and_the_open_site_kept(name):
     assert not at.exception, at.exception
     assert _errors(at), "no message shown"
     assert exports.site_file_bytes(at.session_state["valid"]) == before
+
+
+def test_utf16_site_file_opens():
+    """A site file saved as UTF-16 (with its byte-order mark) is decoded, not called binary."""
+    at = _app()
+    at.file_uploader(key="site_upload").upload("utf16.json", DEMO.read_text(
+        encoding="utf-8").encode("utf-16"), "application/json").run()
+    at.button(key="open_site").click().run()
+    assert not at.exception, at.exception
+    assert not _errors(at)
+    assert at.session_state["valid"].site.name.startswith("Larkspur Yard")
 
 
 def test_wrong_types_name_every_field_on_the_page():
@@ -91,7 +108,7 @@ def test_older_format_opens_with_a_note():
     at.button(key="open_site").click().run()
     assert not at.exception, at.exception
     assert not _errors(at), _errors(at)
-    infos = " ".join(i.value for i in at.info)
+    infos = " ".join(shown(i.value) for i in at.info)
     assert "format_version 0" in infos and "hub_height_m" in infos
     want = {p["id"]: p for p in _demo()["positions"]}
     for p in at.session_state["valid"].positions:
@@ -119,3 +136,26 @@ def test_bad_record_upload_is_named_and_the_climate_kept(name):
     assert not at.exception, at.exception
     assert _errors(at), "no message shown"
     assert at.session_state["valid"].climate == before
+
+
+def test_tiny_discount_rate_shows_results_and_summary():
+    """A discount rate so small that 1 + r rounds to 1 (below about 1e-16) once divided by zero
+    in the annuity factor; the limit as r -> 0 is the undiscounted sum (Short, Packey & Holt
+    1995, NREL/TP-462-5173). Results and the summary show, with no error."""
+    d = _demo()
+    d["economics"]["discount_rate"] = 1e-17
+    at = _app()
+    at.file_uploader(key="site_upload").upload("tiny-rate.json", json.dumps(d).encode(),
+                                               "application/json").run()
+    at.button(key="open_site").click().run()
+    assert not at.exception, at.exception
+    assert at.session_state["valid"].economics.discount_rate == 1e-17
+    for page in ("steps/step_results.py", "steps/step_summary.py"):
+        at.switch_page(page).run()
+        assert not at.exception, at.exception
+        assert not _errors(at), _errors(at)
+    at.button(key="make_report").click().run()
+    assert not at.exception, at.exception
+    assert not _errors(at), _errors(at)
+    labels = [b.label for b in at.get("download_button")]
+    assert any("HTML" in lb for lb in labels) and any("PDF" in lb for lb in labels), labels

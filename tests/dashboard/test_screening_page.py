@@ -9,6 +9,7 @@ from __future__ import annotations
 import copy
 import io
 import json
+import re
 from pathlib import Path
 
 import pandas as pd
@@ -56,7 +57,8 @@ def _upload(at: AppTest, name: str, data: bytes, mime: str = "text/csv") -> AppT
 
 
 def _texts(at: AppTest, kind: str) -> list:
-    return [e.value for e in getattr(at, kind)]
+    """The text a person reads: user text in Markdown is backslash-escaped (widgets.plain)."""
+    return [re.sub(r"\\(.)", r"\1", e.value) for e in getattr(at, kind)]
 
 
 def _metrics(at: AppTest) -> dict:

@@ -7,6 +7,7 @@ which is what the browser sends when a person edits the table.
 from __future__ import annotations
 
 import json
+import re
 import math
 
 import numpy as np
@@ -17,6 +18,12 @@ from engine.chain import pipeline
 from engine.io import sitefile
 
 from test_app import DEMO, _app, _go
+
+
+def shown(markdown: str) -> str:
+    """The text a person reads from Markdown source whose user text is backslash-escaped."""
+    return re.sub(r"\\(.)", r"\1", markdown)
+
 
 LAYOUT = "steps/step_layout.py"
 MPH_MS = 0.44704  # 1 mph = 0.44704 m/s, exact by definition (NIST SP 811, appendix B)
@@ -54,7 +61,7 @@ def _row(position="tower-centre", pos="5, 6, 7", ref="4, 5, 6", speed="m/s", len
 
 
 def _errors(at) -> str:
-    return " ".join(e.value for e in at.error)
+    return " ".join(shown(e.value) for e in at.error)
 
 
 def _demo_readings() -> list:

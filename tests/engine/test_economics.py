@@ -235,3 +235,11 @@ def test_money_invariants_on_random_cases():
     assert np.all(base["discounted_payback_years"][pays] <= e.lifetime_years + 1e-9)
     assert np.all(base["discounted_payback_years"][~pays] > e.lifetime_years - 1e-9)
     assert np.all(base["payback_years"] <= base["discounted_payback_years"] + 1e-9)
+
+
+@pytest.mark.parametrize("rate", [1e-16, 5e-17, 1e-17, 1e-300, 5e-324])
+def test_capital_recovery_factor_for_rates_where_one_plus_r_rounds_to_one(rate):
+    """The annuity factor tends to 1/n as r -> 0 (Short, Packey & Holt 1995, NREL/TP-462-5173);
+    rates below ~1e-16 used to divide by zero."""
+    assert economics.capital_recovery_factor(rate, 25) == pytest.approx(1 / 25, rel=1e-9)
+    assert economics.present_value_factor(rate, 25) == pytest.approx(25.0, rel=1e-9)

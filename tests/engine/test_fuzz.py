@@ -105,13 +105,14 @@ MUST_FAIL = {
     "whitespace": lambda s: b" \n\t\n",
     "binary junk": lambda s: _junk(4096),
     "nul bytes": lambda s: s[:40] + b"\x00" * 64 + s[40:],
-    "utf-16": lambda s: s.decode("utf-8").encode("utf-16"),
     "one very long line": lambda s: b"9" * 3_000_000,
     "million columns": lambda s: b",".join(b"c%d" % i for i in range(1_000_000)) + b"\n"
                                  + b",".join(b"1" for _ in range(1_000_000)) + b"\n",
 }
 
 MAY_READ = {
+    # UTF-16 text (with its byte-order mark) is decoded, not called binary.
+    "utf-16": lambda s: s.decode("utf-8").encode("utf-16"),
     "truncated 10%": lambda s: s[: len(s) // 10],
     "truncated 50%": lambda s: s[: len(s) // 2],
     "truncated minus one": lambda s: s[:-1],
@@ -235,14 +236,14 @@ def test_damaged_input_read_or_refused_clearly(parser, mutation, tmp_path):
 
 
 def test_site_file_size_limit_is_checked_before_parsing(tmp_path):
-    """A site file over the limit is refused at once, naming the limit in MB."""
+    """A site file over the limit is refused at once, naming the limit in MiB (as the docs)."""
     data = b" " * (sitefile.MAX_SITE_FILE_BYTES + 1)
     result, seconds, _ = _bounded(parse_site, data, tmp_path)
-    assert isinstance(result, InputError) and "MB" in result.problems[0][1]
+    assert isinstance(result, InputError) and "20 MiB" in result.problems[0][1]
     assert seconds < 1.0
     path = tmp_path / "big.json"
     path.write_bytes(data)
-    with pytest.raises(InputError, match="MB"):
+    with pytest.raises(InputError, match="20 MiB"):
         sitefile.load(path)
 
 
@@ -254,9 +255,9 @@ def test_record_size_limit_is_checked_before_parsing(tmp_path):
 
 
 def test_curve_size_limit_is_checked_before_parsing():
-    """A power-curve table over its byte limit is refused with the limit in MB."""
+    """A power-curve table over its byte limit is refused with the limit in MiB."""
     turbines = pytest.importorskip("engine.energy.turbines")
-    with pytest.raises(InputError, match="MB"):
+    with pytest.raises(InputError, match="1 MiB"):
         turbines.read_power_curve_csv(b"1,1\n" * (turbines.MAX_CURVE_FILE_BYTES // 4 + 1))
 
 

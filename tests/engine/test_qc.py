@@ -44,18 +44,20 @@ def test_each_injected_fault_counted_exactly():
     df.loc[[1400, 1401], "speed_ms"] = None                # 2 blanks
     df.loc[[1500], "temperature_c"] = -999.0               # 1 temperature value blanked
     a = 1600
-    df.iloc[[a, a + 1]] = df.iloc[[a + 1, a]].to_numpy()   # 1 out of order
+    df.iloc[[a, a + 1]] = df.iloc[[a + 1, a]].to_numpy()   # 1 out of order: sorted, kept
     df = pd.concat([df.iloc[:1701], df.iloc[[1700]], df.iloc[1701:]], ignore_index=True)  # 1 dup
     rec, rep = _report(df)
     # Counts are the faults injected above (constructed in this test).
     expect = {"sentinel": 4, "speed_out_of_range": 2, "impossible_direction": 3,
               "stuck_speed": 10, "stuck_direction": 8, "unreadable": 1, "missing": 2,
-              "out_of_order": 1, "duplicate_timestamp": 1, "bad_timestamp": 0}
+              "out_of_order": 0, "duplicate_timestamp": 1, "bad_timestamp": 0}
     assert {r.name: r.count for r in rep.rules} == expect
     assert rep.n_excluded == sum(expect.values())
     blanked = {(r.field, r.name): r.count for r in rep.value_rules}
     assert blanked[("temperature", "sentinel")] == 1 and sum(blanked.values()) == 1
     assert rep.rules[5].first_rows == (101, 301, 501, 701)   # data rows from 1
+    assert any("1 row(s) were out of time order and were sorted" in n for n in rep.notes)
+    assert any("1 row(s) were out of time order and were sorted" in n for n in rep.notes)
     t = rec.time_ns[rep.valid]
     assert np.all(np.diff(t) > 0)                            # valid times strictly increase
     text = rep.to_text()

@@ -110,3 +110,51 @@ def test_cut_in_rated_cut_out_order(demo_dict):
     with pytest.raises(InputError) as exc:
         sitefile.assessment_from_dict(d)
     assert any("cut-in < rated < cut-out" in m for _, m in exc.value.problems)
+
+
+@pytest.mark.parametrize("path, value, what", [
+    (("positions", 0, "id"), "mill\x00centre", "U+0000"),
+    (("buildings", 0, "id"), "block\x1f", "U+001F"),
+    (("turbines", 0, "name"), "T\ufffe", "U+FFFE"),
+    (("site", "name"), "Yard \ud800", "U+D800"),
+    (("positions", 0, "gap_buildings"), ["a\x07"], "U+0007"),
+])
+def test_text_fields_refuse_controls_surrogates_and_noncharacters(demo_dict, path, value, what):
+    """Every text field is checked on the way in, naming the field (Unicode 15 §23.7 for the
+    non-characters; C0 controls per ISO/IEC 6429)."""
+    d = copy.deepcopy(demo_dict)
+    node = d
+    for part in path[:-1]:
+        node = node[part]
+    node[path[-1]] = value
+    with pytest.raises(InputError) as exc:
+        sitefile.assessment_from_dict(d)
+    where = ".".join(str(p) if isinstance(p, str) else f"[{p}]" for p in path).replace(".[", "[")
+    assert any(w.startswith(where) and what in m for w, m in exc.value.problems), \
+        exc.value.problems
+
+
+def test_notes_keep_line_breaks(demo_dict):
+    d = copy.deepcopy(demo_dict)
+    d["site"]["notes"] = "first line\nsecond line\r\n\tindented"
+    assert sitefile.assessment_from_dict(d).site.notes.startswith("first line\n")
+
+
+def test_long_id_refused_at_once(demo_dict):
+    """A 100,000-character id is refused by the length limit (the summary took 115 s)."""
+    import time
+    d = copy.deepcopy(demo_dict)
+    d["positions"][0]["id"] = "p" * 100_000
+    t0 = time.perf_counter()
+    with pytest.raises(InputError) as exc:
+        sitefile.assessment_from_dict(d)
+    assert time.perf_counter() - t0 < 1.0
+    assert any(w == "positions[0].id" and "at most 200 characters" in m
+               for w, m in exc.value.problems)
+
+
+def test_schema_states_the_text_limits():
+    s = sitefile.json_schema()
+    assert s["$defs"]["Position"]["properties"]["id"]["maxLength"] == 200
+    assert s["$defs"]["Site"]["properties"]["notes"]["maxLength"] == 10_000
+    assert s["$defs"]["Position"]["properties"]["gap_buildings"]["items"]["maxLength"] == 200
