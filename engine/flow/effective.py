@@ -95,6 +95,75 @@ def ambient_turbulence_intensity(assessment, hub_height_m):
                                                  **site_canopy(assessment.site, settings))
 
 
+def position_terrain(assessment, px_m, py_m, exclude=None) -> dict:
+    """Terrain around each position: the site's, or per sector from the buildings upwind.
+
+    Parameters
+    ----------
+    assessment : :class:`engine.core.model.Assessment`
+    px_m, py_m : (P,) position on the plan [m]
+    exclude : (P, B) bool, the site's blocks left out of a position's surroundings (the roof
+        it stands on, whose flow the roof models give)
+
+    Returns
+    -------
+    dict: ``roughness_m``, ``displacement_m`` [m], ``frontal_area_fraction`` [-],
+    ``canopy_height_m`` [m] (None where unknown): scalars for the site's own terrain
+    (:func:`engine.flow.transfer.site_roughness`), or (P, S) arrays with
+    ``transfer.sector_morphometry`` on (:func:`engine.flow.sector_roughness.sector_terrain`
+    over the site's buildings within ``transfer.sector_fetch_m``; sectors with no building
+    keep the site's), then also ``from_buildings`` (P, S) bool.
+    """
+    from engine.core.model import TransferSettings
+    from engine.flow import sector_roughness
+    from engine.flow.transfer import site_roughness
+    settings = getattr(assessment, "transfer", None) or TransferSettings()
+    site = assessment.site
+    z0, d, _ = site_roughness(site, settings)
+    own = {"roughness_m": z0, "displacement_m": d,
+           "frontal_area_fraction": site.frontal_area_fraction,
+           "canopy_height_m": site.mean_building_height_m}
+    if not settings.sector_morphometry:
+        return own
+    bldg = buildings.building_arrays(assessment.buildings)
+    lp, lf, hbar = sector_roughness.sector_morphometry_points(
+        px_m, py_m, bldg, len(assessment.climate.frequency), settings.sector_fetch_m, exclude)
+    return sector_roughness.sector_terrain(lp, lf, hbar, own, settings.morphometry_layout)
+
+
+def ambient_climate(climate, terrain: dict, hub_height_m, settings):
+    """Undisturbed climate at each hub over each position's terrain, (P, S) arrays.
+
+    Parameters
+    ----------
+    climate : :class:`engine.core.model.WindClimate`
+    terrain : mapping as :func:`position_terrain` returns (scalars, (P,) or (P, S) arrays)
+    hub_height_m : (P,) hub heights above ground [m]
+    settings : :class:`engine.core.model.TransferSettings`
+
+    Returns
+    -------
+    (frequency, weibull_k, free_c_ms, ambient_ti), each (P, S): sector frequency [-], Weibull
+    shape [-] and scale [m/s] by :func:`engine.flow.transfer.weibull_at_hub`, and the
+    turbulence intensity of the same terrain and in-canopy profile
+    (:func:`engine.flow.profiles.turbulence_intensity_terrain`)
+    """
+    from engine.flow.transfer import weibull_at_hub
+    hub = np.atleast_1d(np.asarray(hub_height_m, float))
+    z0, d = terrain["roughness_m"], terrain["displacement_m"]
+    lf, hc = terrain.get("frontal_area_fraction"), terrain.get("canopy_height_m")
+    k, free_c = weibull_at_hub(climate, z0, d, hub, settings, lf, hc)
+    P, S = free_c.shape
+    freq = np.broadcast_to(np.asarray(climate.frequency, float), (P, S)).copy()
+    per_sector = max(np.ndim(z0), np.ndim(d)) == 2
+    attenuation = profiles.canopy_attenuation(z0, d, lf)
+    ti0 = profiles.turbulence_intensity_terrain(hub[:, None] if per_sector else hub, z0, d,
+                                                attenuation=attenuation, canopy_height_m=hc)
+    ti0 = np.array(np.broadcast_to(ti0 if per_sector else np.broadcast_to(ti0, hub.shape)[:, None],
+                                   (P, S)))
+    return freq, k, free_c, ti0
+
+
 def effective_climate(assessment, air_density_kgm3: float,
                       calibrate_with_spot_readings: bool = True) -> EffectiveClimate:
     """Effective climate of every position: free stream at hub height, then building effects.
@@ -154,12 +223,13 @@ def effective_climate(assessment, air_density_kgm3: float,
     """
     positions = assessment.positions
     hub = np.array([assessment.hub_height_m(p) for p in positions], dtype=float)
-    k, free_c = free_stream_at_hub(assessment, hub)
-    P, S = free_c.shape
-    freq = np.broadcast_to(np.asarray(assessment.climate.frequency, float), (P, S)).copy()
-    ti0 = np.broadcast_to(ambient_turbulence_intensity(assessment, hub)[:, None], (P, S)).copy()
+    terrain, (freq, k, free_c, ti0) = _undisturbed(assessment, hub)
     sector_deg = np.asarray(assessment.climate.sector_deg, float)
     fx = _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0)
+    if "from_buildings" in terrain:
+        fx["diagnostics"].update({"sector_roughness_m": terrain["roughness_m"],
+                                  "sector_displacement_m": terrain["displacement_m"],
+                                  "sector_roughness_from_buildings": terrain["from_buildings"]})
     eff = EffectiveClimate(
         position_ids=tuple(p.id for p in positions), sector_deg=sector_deg,
         hub_height_m=hub, frequency=freq, weibull_k=k, free_c_ms=free_c,
@@ -170,6 +240,22 @@ def effective_climate(assessment, air_density_kgm3: float,
         eff = _with_spot_readings(assessment, eff, calibrate_with_spot_readings)
     _check_physics(eff)
     return eff
+
+
+def _undisturbed(assessment, hub):
+    """(terrain, ambient climate) of the assessment's positions (see effective_climate)."""
+    from engine.core.model import TransferSettings
+    positions = assessment.positions
+    px = np.array([float(p.x_m) for p in positions])
+    py = np.array([float(p.y_m) for p in positions])
+    ids = {b.id: i for i, b in enumerate(assessment.buildings)}
+    own = np.zeros((len(positions), len(ids)), bool)
+    for i, p in enumerate(positions):
+        if p.kind == "roof" and p.building_id in ids:
+            own[i, ids[p.building_id]] = True
+    settings = getattr(assessment, "transfer", None) or TransferSettings()
+    terrain = position_terrain(assessment, px, py, own)
+    return terrain, ambient_climate(assessment.climate, terrain, hub, settings)
 
 
 def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_m):
