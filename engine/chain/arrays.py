@@ -141,7 +141,8 @@ def ambient_at_hub(climate, roughness_m, displacement_m, hub_height_m, transfer_
 
 #: Bases of a screened row's surroundings that describe the buildings around it (so its
 #: canopy is known), as :func:`engine.screening.settings.assessment_for_building` reads them.
-CANOPY_KNOWN_FROM = ("neighbours in the table", "table: area fractions")
+CANOPY_KNOWN_FROM = ("neighbours in the table", "table: area fractions",
+                     "neighbours by sector")
 
 
 def _terrain_canopy(terrain, n):
@@ -152,8 +153,12 @@ def _terrain_canopy(terrain, n):
     known = np.ones(n, bool)
     if "surroundings_from" in terrain:
         known = np.isin(np.asarray(terrain["surroundings_from"], object), CANOPY_KNOWN_FROM)
-    lf = np.where(known, np.asarray(terrain["frontal_area_fraction"], float), np.nan)
-    hc = np.where(known, np.asarray(terrain["surroundings_height_m"], float), np.nan)
+    lf = np.asarray(terrain["frontal_area_fraction"], float)
+    hc = np.asarray(terrain["surroundings_height_m"], float)
+    if lf.ndim == 2:  # per sector: (P, S)
+        known = known[:, None]
+    lf = np.where(known, lf, np.nan)
+    hc = np.where(known, hc, np.nan)
     return lf, hc
 
 
@@ -165,8 +170,9 @@ def roof_climate(roofs, terrain, mast_m, climate, air_density_kgm3, transfer_set
     ----------
     roofs : mapping of (P,) arrays: the block under each position (as :func:`roof_geometry`),
         ``roof_type`` ("flat"/"pitched") and ``id`` (position ids)
-    terrain : mapping with (P,) ``roughness_m`` and ``displacement_m`` of each position's
-        surroundings [m]
+    terrain : mapping with (P,) or (P, S) ``roughness_m`` and ``displacement_m`` of each
+        position's surroundings [m] (and optionally ``frontal_area_fraction``,
+        ``surroundings_height_m``, ``surroundings_from``)
     mast_m : (P,) mast above the roof surface [m]
     climate : :class:`engine.core.model.WindClimate`
     air_density_kgm3 : air density [kg/m³]
