@@ -241,7 +241,7 @@ def _screen_tile(frame, core, near, ctx):
     return (table[table["line"].isin(mine)], bad[bad["line"].isin(mine)])
 
 
-def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 500.0, client=None):
+def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None):
     """Screen a buildings table tile by tile, each tile with a halo of neighbours around it.
 
     Parameters
@@ -250,7 +250,9 @@ def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 500.0, client=None):
     ctx : :class:`engine.screening.settings.ScreeningContext` with
         ``transfer.sector_morphometry`` on (the halo is ``transfer.sector_fetch_m`` wide, all
         that a building's surroundings can reach)
-    tile_m : side of the tiles [m]
+    tile_m : side of the tiles [m]; the halo's rows are screened too (and dropped), so a
+        tile of side L screens about ((L + 2 r)/L)² rows per row kept: keep L several times
+        the fetch r
     client : a ``distributed.Client``: the tiles are screened on its workers (one task each)
 
     Returns
