@@ -56,7 +56,8 @@ def screening_costs(n: int) -> None:
     for tile in (500.0, 2000.0):
         t, _ = cpu(lambda: tiles.screen_tiled(frame, c, tile_m=tile))
         print(f"  tiled {tile:4.0f} m + 300 m halo {t:6.2f} s  {t / base:4.2f}  (halo rows "
-              f"are screened too: ((L + 600)/L)² = {((tile + 600) / tile) ** 2:.2f}x the rows)")
+              f"read and checked, not screened: ((L + 600)/L)² = {((tile + 600) / tile) ** 2:.2f}"
+              "x the rows)")
 
 
 def morphometry_costs() -> None:

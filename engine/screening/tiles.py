@@ -227,18 +227,34 @@ def _tile_frames(frame: pd.DataFrame, tile_m: float, halo_m: float):
 
 
 def _screen_tile(frame, core, near, ctx):
-    """One tile with its halo screened as its own table; the core rows' results, their lines
-    and bad rows mapped back to the whole table's lines."""
-    from engine.screening.local import screen_local
+    """One tile: its rows screened with the halo's rows as neighbours only. Returns the core
+    rows' results and bad rows, with lines mapped back to ``frame``'s."""
+    from dataclasses import replace
+
+    from engine.screening.compute import result_frame, screen_columns
+    from engine.screening.neighbourhood import (combine_anchors, combine_cell_sums,
+                                                neighbourhood_lookup, part_anchor, part_cells)
+    from engine.screening.passes import read_check
+    from engine.screening.table import table_parts
     sub = frame.iloc[near].reset_index(drop=True)
-    res = screen_local(sub, ctx)
+    checked = [read_check(p, ctx.zones()) for p in table_parts(sub)]
+    anchor = combine_anchors([part_anchor(c) for c in checked])
+    nb = neighbourhood_lookup(combine_cell_sums([part_cells(c, (), anchor) for c in checked]),
+                              anchor=anchor)
+    nb = replace(nb, blocks=combine_blocks([part_blocks(c) for c in checked]))
     line_of = near + 2  # a frame's rows are lines 2, 3, ... (as engine.screening.table)
-    keep = np.isin(near, core)
-    mine = set(line_of[keep].tolist())
-    table = res.table
-    table = table.assign(line=line_of[table["line"].to_numpy(np.int64) - 2])
-    bad = res.bad_rows.assign(line=line_of[res.bad_rows["line"].to_numpy(np.int64) - 2])
-    return (table[table["line"].isin(mine)], bad[bad["line"].isin(mine)])
+    mine = np.flatnonzero(np.isin(near, core)) + 2  # the core rows' lines within ``sub``
+    tables, bad = [], []
+    for c in checked:
+        own = c[c["line"].isin(mine)]
+        if len(own):
+            tables.append(result_frame(screen_columns(own, ctx, nb), ctx))
+            bad.append(own.loc[own["problem"] != "", ["line", "id", "problem"]])
+    table = pd.concat(tables, ignore_index=True) if tables else result_frame(None, ctx)
+    bad = pd.concat(bad, ignore_index=True) if bad else pd.DataFrame(
+        {"line": np.zeros(0, np.int64), "id": [], "problem": []})
+    return (table.assign(line=line_of[table["line"].to_numpy(np.int64) - 2]),
+            bad.assign(line=line_of[bad["line"].to_numpy(np.int64) - 2]))
 
 
 def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None):
@@ -250,9 +266,8 @@ def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None):
     ctx : :class:`engine.screening.settings.ScreeningContext` with
         ``transfer.sector_morphometry`` on (the halo is ``transfer.sector_fetch_m`` wide, all
         that a building's surroundings can reach)
-    tile_m : side of the tiles [m]; the halo's rows are screened too (and dropped), so a
-        tile of side L screens about ((L + 2 r)/L)² rows per row kept: keep L several times
-        the fetch r
+    tile_m : side of the tiles [m]; each tile reads and checks about ((L + 2 r)/L)² rows
+        per row it screens, r the fetch
     client : a ``distributed.Client``: the tiles are screened on its workers (one task each)
 
     Returns
@@ -261,9 +276,9 @@ def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None):
 
     Notes
     -----
-    Each tile's rows and the halo rows within the fetch of the tile's edges are screened as
-    one table (:func:`engine.screening.local.screen_local`); only the tile's own rows are
-    kept. Ids repeated anywhere in the table are left out first, as the whole-table
+    Each tile's rows are checked and screened with the rows within the fetch of the tile's
+    edges (the halo) as their neighbours only: the halo's rows are checked but not screened
+    (their own tile screens them). Ids repeated anywhere in the table are left out first, as the whole-table
     screening does. A building's surroundings are then the same to the last bit whatever the
     tiles; its yield is the same to rounding (the bins sums are summed in blocks whose size
     follows the table's, docs/screening.md "Engines").
