@@ -275,6 +275,10 @@ def _run_footprints(args, ctx) -> int:
     from engine.io.footprints import MAX_FOOTPRINT_BYTES
     from engine.screening.local import write_ranked_csv
     from engine.screening.positions import screen_footprints
+    if args.workers or args.scheduler:
+        raise InputError([("--workers" if args.workers else "--scheduler",
+                           "must not be given with a footprint file, got one: footprint files "
+                           "are screened on the local engine; leave it out")])
     if not args.height_field:
         raise InputError([("--height-field", "must name the footprints' height attribute "
                                              "(e.g. --height-field height_m), got nothing")])

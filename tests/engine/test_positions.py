@@ -153,3 +153,19 @@ def test_screen_command_reads_footprints(tmp_path):
     assert len(b) == 6 and set(b["building_id"]) == set("ABCDEF")
     assert set(b["position_id"]) <= set(e["position_id"])
     assert cli.main(["screen", str(src), "--out", str(best)]) == 2
+
+
+def test_positions_take_their_buildings_sectors(ctx):
+    """With per-sector surroundings the centre candidates still equal the table screening of
+    the same buildings (which finds the sectors itself)."""
+    on = replace(ctx, transfer=replace(ctx.transfer, sector_morphometry=True,
+                                       sector_fetch_m=120.0))
+    got = sp.screen_footprints(_geojson(), on, height_field="h", id_field="ref")
+    frame = sp.footprint_frame(fp.read_footprints(_geojson(), height_field="h",
+                                                   id_field="ref"))
+    table = screening.screen_local(frame, on).table.set_index("id")
+    assert (table["surroundings_from"] == "neighbours by sector").all()
+    for _, p in got.positions.iterrows():
+        row = table.loc[p["building_id"]]
+        for c in ("mast_height_m", "mean_speed_ms", "best_aep_kwh"):
+            assert p[c] == pytest.approx(row[c], rel=1e-12), c
