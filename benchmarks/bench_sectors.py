@@ -29,7 +29,7 @@ from engine.flow import buildings as geom  # noqa: E402
 from engine.flow import roof_candidates as rc  # noqa: E402
 from engine.flow import sector_roughness as sr  # noqa: E402
 from engine.io import sitefile  # noqa: E402
-from engine.screening import tiles  # noqa: E402
+from engine.screening import tiled  # noqa: E402
 import make_district  # noqa: E402
 
 
@@ -54,7 +54,7 @@ def screening_costs(n: int) -> None:
               f"{share * 100:.1f} %")
     c = replace(ctx, transfer=replace(ctx.transfer, sector_morphometry=True))
     for tile in (500.0, 2000.0):
-        t, _ = cpu(lambda: tiles.screen_tiled(frame, c, tile_m=tile))
+        t, _ = cpu(lambda: tiled.screen_tiled(frame, c, tile_m=tile))
         print(f"  tiled {tile:4.0f} m + 300 m halo {t:6.2f} s  {t / base:4.2f}  (halo rows "
               f"read and checked, not screened: ((L + 600)/L)² = {((tile + 600) / tile) ** 2:.2f}"
               "x the rows)")

@@ -13,7 +13,7 @@ import pytest
 from engine import screening
 from engine.core import model
 from engine.flow import effective as flow
-from engine.screening import tiles
+from engine.screening import tiled, tiles
 
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT / "demo_sites"))
@@ -145,9 +145,9 @@ def test_tiled_screening_equals_the_whole_table_alone_and_on_dask(frame, ctx_on,
     whole = screening.screen_local(frame, ctx_on).table.set_index("id")
     exact = ("roughness_m", "displacement_m", "plan_area_fraction", "frontal_area_fraction",
              "surroundings_height_m", "mast_height_m", "line")
-    runs = [tiles.screen_tiled(frame, ctx_on, tile_m=120.0),
-            tiles.screen_tiled(frame, ctx_on, tile_m=400.0),
-            tiles.screen_tiled(frame, ctx_on, tile_m=120.0, client=dask_client)]
+    runs = [tiled.screen_tiled(frame, ctx_on, tile_m=120.0),
+            tiled.screen_tiled(frame, ctx_on, tile_m=400.0),
+            tiled.screen_tiled(frame, ctx_on, tile_m=120.0, client=dask_client)]
     for res in runs:
         t = res.table.set_index("id").loc[whole.index]
         assert len(t) == len(frame) and res.problems == []
@@ -170,10 +170,10 @@ def test_tiled_screening_reports_bad_and_repeated_rows_by_line(frame, ctx_on):
     bad = frame.iloc[:40].copy()
     bad.loc[3, "height_m"] = -1.0
     bad.loc[7, "id"] = bad.loc[8, "id"]
-    res = tiles.screen_tiled(bad, ctx_on, tile_m=120.0)
+    res = tiled.screen_tiled(bad, ctx_on, tile_m=120.0)
     lines = sorted(res.bad_rows["line"].tolist())
     assert lines == [5, 9, 10]  # rows 3, 7, 8 of the frame are lines 5, 9, 10
     assert len(res.table) == 37
     off = replace(ctx_on, transfer=replace(ctx_on.transfer, sector_morphometry=False))
     with pytest.raises(model.InputError):
-        tiles.screen_tiled(frame, off)
+        tiled.screen_tiled(frame, off)
