@@ -186,8 +186,11 @@ def effective_climate(assessment, air_density_kgm3: float,
     of their own block (:mod:`engine.flow.roofzones`); gap positions the passage concentrator with
     spillage (:mod:`engine.flow.gaps`); every position the wake of the other upwind blocks
     (:mod:`engine.flow.shelter`; a position's own roof and its passage's walls are left out).
+    The terrain is the site's, or with ``transfer.sector_morphometry`` one per position and
+    sector from the buildings upwind (:func:`position_terrain`; diagnostics
+    ``sector_roughness_m``, ``sector_displacement_m``, ``sector_roughness_from_buildings``).
     Turbulence: the ambient intensity on the transfer's own terrain
-    (:func:`ambient_turbulence_intensity`); roof and passage keep the ambient σ_u through
+    (:func:`ambient_climate`); roof and passage keep the ambient σ_u through
     modest speed changes; each model adds its own turbulence in quadrature (see the modules).
 
     **Main energy sectors** (:func:`engine.flow.roofzones.main_energy_sectors`): per position, the

@@ -177,3 +177,30 @@ def test_fetch_setting_is_checked():
     with pytest.raises(model.InputError) as e:
         model.TransferSettings(sector_fetch_m=10.0)
     assert "sector_fetch_m" in str(e.value)
+
+
+from hypothesis import given, settings as hsettings, strategies as st  # noqa: E402
+
+
+@hsettings(max_examples=40, deadline=None)
+@given(st.lists(st.tuples(st.floats(-400, 400), st.floats(-400, 400), st.floats(2, 60),
+                          st.floats(2, 60), st.floats(2, 80), st.floats(0, 180)),
+                min_size=0, max_size=30),
+       st.floats(50, 400))
+def test_sector_terrain_stays_physical(blocks, fetch):
+    """Any layout: z0 within the chain's [1e-4, 5] m, 0 ≤ d < H̄ where buildings count, a
+    sector takes the buildings' terrain exactly when a block's centre lies in its wedge, and
+    the carried speeds are finite and positive (common practice bounds)."""
+    arr = geom.building_arrays([block(f"b{i}", *b) for i, b in enumerate(blocks)])
+    lp, lf, h = sr.sector_morphometry_points([0.0], [0.0], arr, 12, fetch)
+    t = sr.sector_terrain(lp, lf, h, {"roughness_m": 0.5, "displacement_m": 4.0,
+                                      "frontal_area_fraction": None, "canopy_height_m": None})
+    z0, d, have = t["roughness_m"], t["displacement_m"], t["from_buildings"]
+    assert np.all((z0 >= 1e-4) & (z0 <= 5.0))
+    assert np.all(d[have] >= 0) and np.all(d[have] < h[have])
+    near = [b for b in blocks if math.hypot(b[0], b[1]) <= fetch]
+    assert have.any() == bool(near)
+    climate = model.WindClimate(height_m=10.0, roughness_m=0.03, frequency=(1 / 12,) * 12,
+                                weibull_k=(2.0,) * 12, weibull_c_ms=(6.0,) * 12)
+    _, _, c, ti = flow.ambient_climate(climate, t, [12.0, 30.0], model.TransferSettings())
+    assert np.all(np.isfinite(c)) and np.all(c > 0) and np.all(np.isfinite(ti)) and np.all(ti > 0)
