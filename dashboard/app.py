@@ -1,11 +1,12 @@
 """Perch dashboard: a guided small-wind siting assessment.
 
-Run with ``streamlit run dashboard/app.py`` from the repository root. The pages read widgets,
-build the engine's dataclasses, call :func:`engine.chain.pipeline.evaluate` and draw the results;
-no model lives here.
+Start it with ``python -m dashboard`` (loopback only, no usage statistics, from any folder).
+The pages read widgets, build the engine's dataclasses, call
+:func:`engine.chain.pipeline.evaluate` and draw the results; no model lives here.
 """
 from __future__ import annotations
 
+import os
 import sys
 from pathlib import Path
 
@@ -15,16 +16,26 @@ if str(ROOT) not in sys.path:
 
 import streamlit as st  # noqa: E402
 
-from dashboard import state, widgets  # noqa: E402
+from dashboard import serving, state, widgets  # noqa: E402
 from engine.core import units  # noqa: E402
 
-st.set_page_config(page_title="Perch: small wind siting", page_icon=":material/air:", layout="wide")
+HERE = Path(__file__).resolve().parent
+# A local icon: a named Material icon as page icon makes the browser fetch it from a font
+# server on every load.
+st.set_page_config(page_title="Perch: small wind siting", page_icon=str(HERE / "perch-icon.png"),
+                   layout="wide")
+
+level, message = serving.exposure(st.get_option("server.address"), os.environ)
+if level == "refuse":
+    st.error(message, icon=":material/block:")
+    st.stop()
+elif level == "warn":
+    st.warning(message, icon=":material/warning:")
 
 state.init()
 state.sync_widgets()
 state.validate()
 
-HERE = Path(__file__).resolve().parent
 PAGE_FILES = {
     "site": "steps/step_site.py",
     "climate": "steps/step_climate.py",
@@ -36,8 +47,9 @@ PAGE_FILES = {
 
 
 def _title(i: int, key: str, title: str) -> str:
-    mark = "✓" if state.complete(key) else "!"
-    return f"{i}. {title} {mark}"
+    if key == "summary" or not widgets.editing():
+        return f"{i}. {title}"
+    return f"{i}. {title} {'✓' if state.complete(key) else '!'}"
 
 
 pages = [st.Page(HERE / PAGE_FILES[key], title=_title(i + 1, key, title), url_path=key,
@@ -51,22 +63,24 @@ if (HERE / "screening_page.py").exists():
                          url_path="screening"))
 nav = st.navigation({"Assessment": pages, **({"More": extra} if extra else {})})
 
-with st.sidebar:
+
+def _sidebar() -> None:
     st.markdown("### Perch")
     st.caption(f"Working on: **{state.get_path('site.name', '')}** "
                f"(from {st.session_state['loaded_from']})")
     st.toggle("Presentation mode", key="presentation",
-              help="Hide the editing widgets for a client session; switch off to edit again.")
-    with st.expander("Display units", expanded=False):
-        st.radio("Speeds", list(units.SPEED_UNITS), key="speed_unit", horizontal=True)
-        st.radio("Lengths", list(units.LENGTH_UNITS), key="length_unit", horizontal=True,
-                 format_func=lambda u: {"m": "metres", "ft": "feet"}[u])
-        st.caption("Inside, everything is SI; exports keep SI with the unit in each column "
-                   "name.")
-    found = st.session_state.get("autosave_found")
+              help="Hide the editing widgets, step marks and settings for a client session; "
+                   "switch off to edit again.")
+    if widgets.editing():
+        with st.expander("Display units", expanded=False):
+            st.radio("Speeds", list(units.SPEED_UNITS), key="speed_unit", horizontal=True)
+            st.radio("Lengths", list(units.LENGTH_UNITS), key="length_unit", horizontal=True,
+                     format_func=lambda u: {"m": "metres", "ft": "feet"}[u])
+            st.caption("Inside, everything is SI; exports keep SI with the unit in each "
+                       "column name.")
+    found = state.earlier_work()
     if found:
-        st.info(f"Work from an earlier session was autosaved on "
-                f"{found[1]:%Y-%m-%d %H:%M} UTC.")
+        st.info(found)
         # One above the other: side by side the sidebar cut the second label short.
         st.button("Restore it", key="autosave_restore", on_click=state.restore_autosave,
                   width="stretch")
@@ -74,11 +88,25 @@ with st.sidebar:
                   width="stretch")
     if st.session_state.get("autosave_error"):
         st.warning(st.session_state["autosave_error"])
-    n_bad = sum(1 for k, _, _ in state.STEPS if not state.complete(k))
-    if n_bad:
-        st.warning(f"{n_bad} step(s) need attention (marked !).")
-    else:
-        st.success("All steps complete.")
+    if widgets.editing():
+        n_bad = len(state.steps_needing_attention())
+        if n_bad:
+            st.warning(f"{n_bad} step(s) need attention (marked !).")
+        else:
+            st.success("All steps complete.")
     widgets.cautions()
 
-nav.run()
+
+with st.sidebar:
+    _sidebar()
+drawn = st.session_state["drawn_status"] = state.status_signature()
+try:
+    nav.run()
+finally:
+    state.flush_autosave()  # also when a page stops or reruns early
+# A page's action (a table edit, a button) can change the steps' state after the sidebar, the
+# marks and the banner were drawn: draw once more so the status says what is true now.
+if state.status_signature() != drawn and not st.session_state.get("status_rerun"):
+    st.session_state["status_rerun"] = True
+    st.rerun()
+st.session_state["status_rerun"] = False

@@ -29,6 +29,20 @@ def evaluate_text(text: str):
     return pipeline.evaluate(sitefile.loads(text))
 
 
+@st.cache_data(show_spinner=False, max_entries=48)
+def top_rows(text: str, speed_unit: str, length_unit: str):
+    """The five best rows as text for the ranked table."""
+    from . import results_view
+    return results_view.top_rows(evaluate_text(text).table, speed_unit, length_unit, n=5)
+
+
+@st.cache_data(show_spinner=False, max_entries=16)
+def display_table(text: str, speed_unit: str, length_unit: str):
+    """Every ranked row, converted and labelled for reading."""
+    from . import results_view
+    return results_view.display_table(evaluate_text(text).table, speed_unit, length_unit)
+
+
 @st.cache_data(show_spinner=False)
 def turbine_library() -> tuple:
     """The invented generic turbines shipped with the engine (empty if none are shipped)."""

@@ -7,12 +7,24 @@ import pandas as pd
 from engine.chain import columns
 from engine.core import units
 
-#: Columns shown in the ranked table, in this order, when the chain provides them.
-SHOWN = ("rank", "position_id", "turbine_id", "kind", "hub_height_m", "mean_speed_ms",
-         "speedup", "turbulence_intensity", "turbulence_effect", "aep_kwh", "p50_aep_kwh",
-         "p90_aep_kwh", "p90_one_year_aep_kwh", "aep_bins_kwh", "capacity_factor", "lcoe_per_kwh", "payback_years", "min_clear_mast_m",
-         "in_recirculation_zone", "in_turbulence_zone", "spilled_fraction", "noise_margin_db",
-         "thrust_extreme_n", "excluded", "flags")
+#: Columns shown in the ranked table, in this order, when the chain provides them: what a
+#: client asks first (where, which turbine, how much, at what cost, allowed or not) in view.
+SHOWN = ("rank", "position_id", "turbine_id", "aep_kwh", "p90_aep_kwh", "p90_one_year_aep_kwh",
+         "lcoe_per_kwh", "excluded", "hub_height_m", "mean_speed_ms", "kind", "payback_years",
+         "capacity_factor", "p50_aep_kwh", "aep_bins_kwh", "speedup", "turbulence_intensity",
+         "turbulence_effect", "min_clear_mast_m", "in_recirculation_zone", "in_turbulence_zone",
+         "spilled_fraction", "noise_margin_db", "thrust_extreme_n", "flags")
+
+#: Display format of each numeric column (printf style, as the table draws it).
+FORMATS = {"rank": "%d", "aep_kwh": "%.0f", "p50_aep_kwh": "%.0f", "p90_aep_kwh": "%.0f",
+           "p90_one_year_aep_kwh": "%.0f", "aep_bins_kwh": "%.0f",
+           "lcoe_per_kwh": "%.2f", "payback_years": "%.1f", "capacity_factor": "%.3f",
+           "hub_height_m": "%.1f", "mean_speed_ms": "%.2f", "speedup": "%.2f",
+           "turbulence_intensity": "%.3f", "turbulence_effect": "%.3f",
+           "min_clear_mast_m": "%.1f", "spilled_fraction": "%.2f", "noise_margin_db": "%.1f",
+           "thrust_extreme_n": "%.0f"}
+#: Columns kept in view while the wide table scrolls sideways.
+PINNED = ("rank", "position_id", "turbine_id")
 
 HEADERS = {
     "rank": "rank", "position_id": "position", "turbine_id": "turbine", "kind": "kind",
@@ -65,6 +77,25 @@ def p90_labels(life_years) -> dict:
             "p90_one_year_aep_kwh": "P90, a single year (kWh/yr)"}
 
 
+def display_config(table: pd.DataFrame, speed_unit: str, length_unit: str,
+                   columns=SHOWN) -> dict:
+    """``st.column_config`` arguments for :func:`display_table`'s frame: a format for every
+    number (no raw floats), the first columns pinned, the notes column wide. Returned as
+    ``{header: (kind, options)}`` so this module does not import streamlit."""
+    out = {}
+    for c in columns:
+        if c not in table.columns:
+            continue
+        h = header(c, speed_unit, length_unit)
+        if c in FORMATS:
+            out[h] = ("number", {"format": FORMATS[c], "pinned": c in PINNED})
+        elif c == "flags":
+            out[h] = ("text", {"width": "large"})
+        elif c in PINNED:
+            out[h] = ("text", {"pinned": True})
+    return out
+
+
 def top_rows(table: pd.DataFrame, speed_unit: str, length_unit: str, n: int = 5) -> pd.DataFrame:
     """The first ``n`` rows as short text, for a static table anyone can read aloud."""
     t = table.head(n)
@@ -113,48 +144,62 @@ def scenario_outcome(evaluation, speed_unit: str, length_unit: str) -> dict:
     return out
 
 
+def _row_keys(rows: list) -> list:
+    """How rows of a list are told apart: by their ``id`` when every row has its own one, so
+    scenarios line up a building or position with the same one (never two different
+    buildings that happen to share a place in the list), else by place."""
+    ids = [r.get("id") if isinstance(r, dict) else None for r in rows]
+    if all(isinstance(i, str) and i for i in ids) and len(set(ids)) == len(ids):
+        return ids
+    return [str(i) for i in range(len(rows))]
+
+
 def flatten(data, prefix: str = "") -> dict:
-    """Site-file dict as ``path -> value`` for comparing scenarios (``positions[2].x_m``)."""
+    """Site-file dict as ``path -> value`` for comparing scenarios (``positions[tower].x_m``;
+    rows without their own ids by place, ``climate.table[2]``)."""
     out = {}
     if isinstance(data, dict):
         for k, v in data.items():
             out.update(flatten(v, f"{prefix}.{k}" if prefix else str(k)))
     elif isinstance(data, list) and data and isinstance(data[0], (dict, list)):
-        for i, v in enumerate(data):
-            out.update(flatten(v, f"{prefix}[{i}]"))
+        for key, v in zip(_row_keys(data), data):
+            out.update(flatten(v, f"{prefix}[{key}]"))
     else:
         out[prefix] = data
     return out
 
 
 def input_differences(docs: dict) -> pd.DataFrame:
-    """Inputs that differ between scenarios (site-file dicts by name): one row per input."""
+    """Inputs that differ between scenarios (site-file dicts by name): one row per input; a
+    row that only one scenario has is shown empty in the others."""
     flat = {name: flatten(d) for name, d in docs.items()}
-    keys = []
-    for f in flat.values():
-        for k in f:
-            if k not in keys:
-                keys.append(k)
+    keys = list(dict.fromkeys(k for f in flat.values() for k in f))
     rows = []
     names = list(docs)
     for k in keys:
         vals = [flat[n].get(k) for n in names]
         if any(v != vals[0] for v in vals[1:]):
-            rows.append({"input": _readable(k, docs[names[0]]), **{
-                n: _fmt(v) for n, v in zip(names, vals)}})
+            rows.append({"input": _readable(k), **{n: _fmt(v) for n, v in zip(names, vals)}})
     return pd.DataFrame(rows, columns=["input"] + names)
 
 
-def _readable(path: str, doc: dict) -> str:
-    """``positions[2].mast_height_m`` -> ``positions tower-centre: mast height (m)``."""
+def different_sites(docs: dict) -> list:
+    """Names of the sites when the scenarios are of more than one (by site name or by the
+    ids of their buildings), else an empty list."""
+    seen = {}
+    for d in docs.values():
+        site = (d.get("site") or {}).get("name", "")
+        ids = tuple(sorted(str(b.get("id")) for b in d.get("buildings", []) or []))
+        seen.setdefault((site, ids), site or "unnamed")
+    return list(seen.values()) if len(seen) > 1 else []
+
+
+def _readable(path: str) -> str:
+    """``positions[tower-centre].mast_height_m`` -> ``positions tower-centre: mast height (m)``."""
     head, _, rest = path.partition(".")
     if "[" in head:
-        group, idx = head.split("[")
-        idx = int(idx.rstrip("]"))
-        try:
-            name = doc[group][idx].get("id", idx)
-        except (KeyError, IndexError, AttributeError):
-            name = idx
+        group, name = head.split("[", 1)
+        name = name[:-1] if name.endswith("]") else name
         return f"{group} {name}: {units.column_label(rest) if rest else ''}".strip()
     return f"{head}: {units.column_label(rest)}" if rest else units.column_label(head)
 

@@ -5,7 +5,8 @@ assessment's climate, site and turbines (:func:`engine.screening.screen_local`),
 the plan, sort the shortlist and open one building in the detailed assessment. The page only
 arranges and calls: every number comes from :mod:`engine.screening`.
 
-"Open in detailed assessment" leaves the building's :class:`engine.core.model.Assessment` in
+"Open in detailed assessment" asks first, keeps the working copy as a scenario, then leaves
+the building's :class:`engine.core.model.Assessment` in
 ``st.session_state[engine.screening.SESSION_KEY]`` (``"screening_assessment"``) and makes it
 the working copy of the detailed steps.
 """
@@ -51,6 +52,36 @@ def _run(source_path: Path, turbine_ids) -> None:
     st.session_state["screening_result"] = res
     st.session_state["screening_context"] = ctx
     st.session_state["screening_error"] = None
+
+
+def _confirm_open(pick, short, table) -> None:
+    """Ask before the working copy is replaced; keep it as a scenario when opening."""
+    ss = st.session_state
+    keep = f"before screening building {pick}"
+    current = ss["valid"].site.name
+    with st.container(border=True):
+        st.warning(f"Opening building {pick} replaces the working copy (**{current}**). It is "
+                   f"kept first as the scenario “{keep}” (Compare what-ifs can make it the "
+                   "working copy again)."
+                   + (" The working copy has problems not yet fixed: the scenario keeps its "
+                      "last complete version." if state.any_problems() else ""),
+                   icon=":material/warning:")
+        c1, c2 = st.columns(2)
+        if c1.button(f"Keep it as “{keep}” and open {pick}", key="screening_open_yes",
+                     type="primary"):
+            used = state.save_scenario(keep)
+            row = table.loc[short[short["id"] == pick].index[0]]
+            a = screening.assessment_for_building(row, ss["screening_context"])
+            ss[screening.SESSION_KEY] = a
+            state.replace_draft(sitefile.assessment_to_dict(a), f"screening: building {pick}")
+            ss.pop("screening_confirm", None)
+            # Run again, so that the sidebar ("Working on ...") and the steps' marks, drawn
+            # before this page, show the new working copy; the message waits for that run.
+            ss["screening_opened"] = (pick, used)
+            st.rerun()
+        if c2.button("Cancel", key="screening_open_no"):
+            ss.pop("screening_confirm", None)
+            st.rerun()
 
 
 st.title("District screening")
@@ -153,18 +184,13 @@ if res is not None:
         pick = st.selectbox("Building", list(rank_of), key="screening_pick",
                             format_func=lambda i: f"{i} (rank {int(rank_of[i])})")
         if st.button("Open in detailed assessment", key="screening_open"):
-            row = short[short["id"] == pick].index[0]
-            row = table.loc[row]
-            a = screening.assessment_for_building(row, st.session_state["screening_context"])
-            st.session_state[screening.SESSION_KEY] = a
-            state.replace_draft(sitefile.assessment_to_dict(a), f"screening: building {pick}")
-            # Run again, so that the sidebar ("Working on ...") and the steps' marks, drawn
-            # before this page, show the new working copy; the message waits for that run.
-            st.session_state["screening_opened"] = pick
-            st.rerun()
+            st.session_state["screening_confirm"] = pick
+        if st.session_state.get("screening_confirm") == pick:
+            _confirm_open(pick, short, table)
         opened = st.session_state.pop("screening_opened", None)
         if opened is not None:
-            st.success(f"Building {opened} is now the working assessment: one roof position at "
-                       "its centre on the screening's mast. Go to the steps to refine it.")
+            st.success(f"Building {opened[0]} is now the working assessment: one roof position "
+                       f"at its centre on the screening's mast. Go to the steps to refine it. "
+                       f"The previous working copy is kept as the scenario “{opened[1]}”.")
     else:
         st.info("No building in the chosen classes.")

@@ -18,7 +18,7 @@ from engine.io import sitefile
 from engine.core import units
 from engine.core.errors import InputError
 
-from . import cache
+from . import cache, scenario_store
 
 #: (key, title, where-prefixes of the site file the step edits)
 STEPS = (
@@ -56,6 +56,7 @@ def init() -> None:
     # An autosave from an earlier session is offered, not applied; it is not overwritten until
     # the working copy changes (and even then its previous version stays as .bak).
     ss["autosaved_text"] = autosave.draft_text(ss["draft"])
+    ss["validated_text"] = ss["autosaved_text"]  # ``valid`` was built from this very text
     ss["autosave_error"] = ""
     try:
         found = autosave.read_draft()
@@ -64,6 +65,41 @@ def init() -> None:
         ss["autosave_error"] = e.problems[0][1]
     if found is not None and autosave.draft_text(found[0]) != ss["autosaved_text"]:
         ss["autosave_found"] = found
+    _find_saved_scenarios()
+
+
+def _find_saved_scenarios() -> None:
+    """Scenarios saved in an earlier session are offered with the working copy."""
+    ss = st.session_state
+    try:
+        found = scenario_store.read()
+    except InputError as e:
+        ss["autosave_error"] = e.problems[0][1]
+        return
+    if found is None:
+        return
+    scenarios, saved_at, problems = found
+    if problems:
+        ss["autosave_error"] = "; ".join(f"{w}: {m}" for w, m in problems)
+    if scenarios:
+        ss["autosave_found_scenarios"] = (scenarios, saved_at)
+
+
+def earlier_work() -> str:
+    """What an earlier session left to restore, in words ('' when nothing)."""
+    ss = st.session_state
+    draft, scen = ss.get("autosave_found"), ss.get("autosave_found_scenarios")
+    parts, times = [], []
+    if draft:
+        parts.append("the working copy")
+        times.append(draft[1])
+    if scen:
+        parts.append(f"{len(scen[0])} saved scenario(s)")
+        times.append(scen[1])
+    if not parts:
+        return ""
+    return f"{' and '.join(parts).capitalize()} from an earlier session (autosaved " \
+           f"{max(times):%Y-%m-%d %H:%M} UTC)."
 
 
 def units_now() -> tuple[str, str]:
@@ -147,21 +183,32 @@ def sync_widgets() -> None:
 
 
 def validate() -> None:
-    """Rebuild the assessment from the draft; keep the last valid one when there are problems."""
+    """Rebuild the assessment from the draft; keep the last valid one when there are problems.
+
+    The draft's text is compared first: a run that changed nothing (most reruns) skips the
+    rebuild and the autosave.
+    """
     ss = st.session_state
+    text = autosave.draft_text(ss["draft"])
+    if text == ss.get("validated_text"):
+        return
     try:
         ss["valid"] = sitefile.assessment_from_dict(ss["draft"])
         ss["problems"] = []
     except InputError as e:
         ss["problems"] = list(e.problems)
-    _autosave()
+    ss["validated_text"] = text
 
 
-def _autosave() -> None:
-    """Write the working copy to the autosave file when it has changed since the last write."""
+def flush_autosave() -> None:
+    """Write the working copy to the autosave file when it has changed since the last write.
+
+    Called at the end of a run, after the page is drawn, so the write (with its fsync) is not
+    between a change and its result; a run cut short by a rerun leaves it to the next one.
+    """
     ss = st.session_state
-    text = autosave.draft_text(ss["draft"])
-    if text == ss.get("autosaved_text"):
+    text = ss.get("validated_text")
+    if text is None or text == ss.get("autosaved_text"):
         return
     try:
         autosave.write_draft(ss["draft"])
@@ -172,14 +219,20 @@ def _autosave() -> None:
 
 
 def restore_autosave() -> None:
-    """Make the autosaved working copy from an earlier session the working copy."""
+    """Make the earlier session's working copy and scenarios the current ones."""
     ss = st.session_state
-    data, saved_at = ss.pop("autosave_found")
-    replace_draft(data, f"autosave of {saved_at:%Y-%m-%d %H:%M} UTC")
+    found = ss.pop("autosave_found", None)
+    scen = ss.pop("autosave_found_scenarios", None)
+    if scen is not None:
+        ss["scenarios"] = {**scen[0], **ss["scenarios"]}
+    if found is not None:
+        data, saved_at = found
+        replace_draft(data, f"autosave of {saved_at:%Y-%m-%d %H:%M} UTC")
 
 
 def dismiss_autosave() -> None:
     st.session_state.pop("autosave_found", None)
+    st.session_state.pop("autosave_found_scenarios", None)
 
 
 def set_local_problems(step: str, problems: list) -> None:
@@ -212,9 +265,65 @@ def complete(step: str) -> bool:
     return not step_problems(step)
 
 
+def steps_needing_attention() -> list:
+    """(key, title) of the input steps with problems; the summary is not a step of its own."""
+    return [(k, t) for k, t, _ in STEPS if k != "summary" and not complete(k)]
+
+
+def status_signature() -> tuple:
+    """Everything the status marks and banners are drawn from, to notice a change."""
+    ss = st.session_state
+    return (tuple(map(tuple, ss["problems"])),
+            tuple((k, tuple(map(tuple, v))) for k, v in sorted(ss["local_problems"].items())))
+
+
 def any_problems() -> bool:
     ss = st.session_state
     return bool(ss["problems"]) or any(ss["local_problems"].values())
+
+
+# ---------------------------------------------------------------- renames
+
+def renamed_ids(before: list, after: list) -> dict:
+    """``{old id: new id}`` for rows of a table renamed in one edit (same row, new id).
+
+    Only a table that kept its number of rows is read this way; an id that still names
+    another row, or a new id that already named a row, is not a rename.
+    """
+    if len(before) != len(after):
+        return {}
+    old_ids = {str(r.get("id")) for r in before if isinstance(r, dict)}
+    new_ids = {str(r.get("id")) for r in after if isinstance(r, dict)}
+    out = {}
+    for b, a in zip(before, after):
+        old, new = str(b.get("id") or ""), str(a.get("id") or "")
+        if old and new and old != new and old not in new_ids and new not in old_ids:
+            out[old] = new
+    return out
+
+
+def carry_renames(draft: dict, positions: dict, buildings: dict) -> bool:
+    """Make the rows that name a renamed position or building name it by its new id.
+
+    Spot readings name positions; roof and gap positions name buildings. Returns True when
+    anything changed.
+    """
+    changed = False
+    for r in draft.get("spot_readings", []) or []:
+        if isinstance(r, dict) and r.get("position_id") in positions:
+            r["position_id"] = positions[r["position_id"]]
+            changed = True
+    for p in draft.get("positions", []) or []:
+        if not isinstance(p, dict):
+            continue
+        if p.get("building_id") in buildings:
+            p["building_id"] = buildings[p["building_id"]]
+            changed = True
+        gap = p.get("gap_buildings") or []
+        if any(g in buildings for g in gap):
+            p["gap_buildings"] = [buildings.get(g, g) for g in gap]
+            changed = True
+    return changed
 
 
 # ---------------------------------------------------------------- replacing the whole draft
@@ -243,8 +352,12 @@ def replace_draft(data: dict, loaded_from: str, notes=()) -> None:
 
 
 def draft_text() -> str:
-    """Site-file text of the last valid assessment."""
-    return sitefile.dumps(st.session_state["valid"])
+    """Site-file text of the last valid assessment (written once per assessment)."""
+    ss = st.session_state
+    memo = ss.get("valid_text")
+    if memo is None or memo[0] is not ss["valid"]:
+        memo = ss["valid_text"] = (ss["valid"], sitefile.dumps(ss["valid"]))
+    return memo[1]
 
 
 def evaluation():
@@ -254,10 +367,20 @@ def evaluation():
 
 # ---------------------------------------------------------------- what-if scenarios
 
+def _store_scenarios() -> None:
+    ss = st.session_state
+    try:
+        scenario_store.write(ss["scenarios"])
+    except OSError as e:
+        ss["autosave_error"] = (f"scenarios not saved to disk ({e.strerror}); save the site "
+                                "file by hand")
+
+
 def save_scenario(name: str) -> str:
-    """Save the last valid assessment under ``name``; returns the name used."""
+    """Save the last valid assessment under ``name`` (kept on disk too); returns the name."""
     name = name.strip() or f"Scenario {len(st.session_state['scenarios']) + 1}"
     st.session_state["scenarios"][name] = draft_text()
+    _store_scenarios()
     return name
 
 
@@ -268,3 +391,4 @@ def restore_scenario(name: str) -> None:
 
 def delete_scenario(name: str) -> None:
     st.session_state["scenarios"].pop(name, None)
+    _store_scenarios()

@@ -216,8 +216,11 @@ def table(name: str, rows: list, columns: list, *, dynamic: bool = True,
     return out
 
 
-def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> None:
-    """Messages for rows of a table, as ``Row 3 (mill), height (m): ...``."""
+def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> int:
+    """Messages for rows of a table, as ``Buildings, row 3 (mill), height (m): ...`` (the
+    table named, so a spot reading's message never reads like a position's); returns how many
+    were shown."""
+    table_name = group.replace("_", " ").capitalize()
     prefix = f"{group}["
     shown = 0
     for where, msg in st.session_state["problems"]:
@@ -230,26 +233,40 @@ def row_messages(group: str, rows: list, labels: dict, id_field: str = "id") -> 
         field = where.split("].", 1)[1] if "]." in where else ""
         rid = rows[i].get(id_field) if i < len(rows) else ""
         label = labels.get(field.split("[")[0], field.replace("_", " ")) if field else ""
-        st.error(f"**Row {i + 1}{f' ({rid})' if rid else ''}{', ' + label if label else ''}:** "
+        st.error(f"**{table_name}, row {i + 1}{f' ({rid})' if rid else ''}"
+                 f"{', ' + label if label else ''}:** "
                  f"{msg}", icon=":material/error:")
         shown += 1
     for where, msg in st.session_state["problems"]:
         if where == group:
-            st.error(f"**{group.capitalize()}:** {msg}", icon=":material/error:")
+            st.error(f"**{table_name}:** {msg}", icon=":material/error:")
             shown += 1
     return shown
 
 
 def step_banner(step: str, title: str) -> None:
-    """Heading with the step's state."""
-    ok = state.complete(step)
+    """Heading with the step's state: one banner, green only when nothing needs attention.
+
+    The results and the summary also say which earlier steps need attention (their figures
+    then come from the last complete inputs). Presentation mode shows the heading alone.
+    """
     st.title(title)
-    if ok:
-        st.success("Complete: this step's inputs are consistent.", icon=":material/check_circle:")
+    if not editing():
+        return
+    own = state.step_problems(step)
+    earlier = []
+    if step in ("results", "summary"):
+        earlier = [t for k, t in state.steps_needing_attention() if k != step]
+    if own:
+        st.warning(f"Needs attention: {len(own)} problem(s) below. The results keep using the "
+                   "last complete inputs until they are fixed.", icon=":material/warning:")
+    elif earlier:
+        st.warning("Shown from the last complete inputs. Needs attention: "
+                   + ", ".join(earlier) + ".", icon=":material/warning:")
+    elif step == "summary":
+        st.success("Every step is complete.", icon=":material/check_circle:")
     else:
-        n = len(state.step_problems(step))
-        st.warning(f"Needs attention: {n} problem(s) below. The results keep using the last "
-                   "complete inputs until they are fixed.", icon=":material/warning:")
+        st.success("Complete: this step's inputs are consistent.", icon=":material/check_circle:")
 
 
 def editing() -> bool:

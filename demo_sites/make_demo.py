@@ -16,9 +16,11 @@ sys.path.insert(0, str(ROOT))
 
 from engine.core import model  # noqa: E402
 from engine.io import sitefile  # noqa: E402
+from engine.chain import rules as rule_set  # noqa: E402
 
 SEED = 20261201
 OUT = Path(__file__).with_name("larkspur_yard.json")
+RULES = Path(__file__).with_name("rules") / "example_borough.json"
 
 
 def invented_curve(rated_w, area_m2, cp, cut_in, cut_out, step=1.0):
@@ -63,7 +65,8 @@ def build() -> model.Assessment:
                       air_temperature_c=10.0, terrain_roughness_m=0.5, displacement_m=4.0,
                       plan_area_fraction=0.3, frontal_area_fraction=0.15,
                       mean_building_height_m=9.0,
-                      notes="Invented mixed-use estate for demonstration; no real place.")
+                      notes="Invented mixed-use estate for demonstration; no real place.",
+                      origin_lat_deg=52.2, origin_lon_deg=-1.5)
     buildings = (
         model.Building("mill", 0.0, 0.0, 40.0, 14.0, 13.0, orientation_deg=90.0, parapet_height_m=0.6),
         model.Building("tower", 38.0, 0.0, 20.0, 20.0, 25.0, orientation_deg=0.0, parapet_height_m=1.0),
@@ -92,10 +95,14 @@ def build() -> model.Assessment:
                 installed_cost=8000.0, iec_class="III"),
     )
     receptors = (
-        model.Receptor("neighbour-window", -35.0, 60.0, 6.0, 40.0),
+        model.Receptor("neighbour-window", -35.0, 60.0, 6.0, 40.0, facing_deg=150.0),
         model.Receptor("garden", 60.0, -35.0, 1.5, 45.0),
     )
     climate = station_climate(rng)
+    _, _, rules = rule_set.load_rule_set(RULES)
+    consent = model.ConsentSettings(rule_set_name="Invented example borough (demo only)",
+                                    rules=rules, boundary_x_m=(-70.0, 80.0, 80.0, -70.0),
+                                    boundary_y_m=(-70.0, -70.0, 80.0, 80.0))
     # Invented handheld readings on the mill roof beside the station's, wind from the south-west.
     ref = np.round(3.5 + 3.0 * rng.random(8), 1)
     at_pos = np.round(np.clip(0.8 * ref + 0.25 * rng.standard_normal(8), 0.0, None), 1)
@@ -104,7 +111,7 @@ def build() -> model.Assessment:
                                note="Invented 1-minute means, handheld at hub height"),)
     return model.Assessment(site=site, climate=climate, buildings=buildings,
                             positions=positions, turbines=turbines, receptors=receptors,
-                            spot_readings=spots)
+                            spot_readings=spots, consent=consent)
 
 
 if __name__ == "__main__":

@@ -36,6 +36,11 @@ if len(docs) < 2:
     st.info("Pick at least two scenarios (or one and the current inputs).", icon=":material/info:")
     st.stop()
 
+sites = results_view.different_sites(docs)
+if sites:
+    st.warning("These scenarios are of different sites (" + ", ".join(f"“{s}”" for s in sites)
+               + "): buildings and positions are matched by name, so one site's rows show "
+               "empty in the other's column.", icon=":material/warning:")
 first = list(docs)[0]
 st.subheader("Outcomes")
 st.caption(f"Cells that differ from “{first}” are highlighted.")

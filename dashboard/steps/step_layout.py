@@ -32,6 +32,7 @@ B_LABELS = {f: lab for f, lab, _, _ in B_COLS}
 st.subheader("Buildings")
 rows = widgets.table("buildings", draft["buildings"], B_COLS, disabled=not edit)
 changed = rows != draft["buildings"]
+renamed_b = state.renamed_ids(draft["buildings"], rows)
 draft["buildings"] = rows
 
 building_ids = [str(r.get("id")) for r in rows if r.get("id")]
@@ -59,7 +60,14 @@ for r in prow:
     if r.get("gap_buildings") is None:
         r["gap_buildings"] = []
 changed |= prow != draft["positions"]
+renamed_p = state.renamed_ids(draft["positions"], prow)
 draft["positions"] = prow
+if (renamed_b or renamed_p) and state.carry_renames(draft, renamed_p, renamed_b):
+    # The rows naming a renamed position or building follow the new name; the tables start
+    # again from the working copy, which holds every edit so far.
+    state.clear_widgets()
+    state.validate()
+    st.rerun()
 
 R_COLS = [
     ("id", "name", "text", st.column_config.TextColumn(required=True)),
@@ -128,7 +136,7 @@ widgets.row_messages("spot_readings", srow, SP_LABELS, id_field="position_id")
 
 if not state.step_problems("layout"):
     st.vega_lite_chart(cache.chart_spec("plan", state.draft_text(), state.unit_of("speed"), L),
-                       width="content", theme=None)
+                       width="stretch", theme=None)
 else:
     st.info("The plan is drawn again once the tables above have no problems.",
             icon=":material/info:")

@@ -7,7 +7,18 @@ from dashboard import state, widgets
 from engine.io import sitefile
 from engine.core.errors import InputError
 
+#: Heading of the message for a site file that could not be opened.
+FILE_NOT_OPENED = ("**{name} was not opened**; the working copy is unchanged. Fix the file "
+                   "and open it again:")
+
 widgets.step_banner("site", "1. Site")
+if st.session_state["loaded_from"] == "built-in demo site":
+    st.info("**The built-in demo is open and complete**: an invented estate with its wind "
+            "climate, buildings, candidate positions and turbines already entered. Look at "
+            "**5. Results** first for the ranked positions, the plan and each position's "
+            "detail; change anything on the steps and the results follow. Open your own site "
+            "file below to start a real assessment.", icon=":material/waving_hand:")
+    st.page_link("steps/step_results.py", label="Go to 5. Results", icon=":material/bar_chart:")
 st.caption("Where the site is and what surrounds it. Heights and roughness set how the "
            "reference wind is carried to each rotor.")
 
@@ -33,13 +44,19 @@ if widgets.editing():
                 st.rerun()
             except InputError as e:
                 st.session_state["open_problems"] = e.problems
+                st.session_state["open_problems_file"] = up.name
         if c2.button("Start again from the demo site", key="reset_demo"):
             from dashboard import cache
             state.replace_draft(json.loads(cache.demo_text()), "built-in demo site")
             st.session_state["climate_mode"] = "demo"
             st.rerun()
-        for where, msg in st.session_state.get("open_problems", []):
-            st.error(f"**{where}:** {msg}", icon=":material/error:")
+        bad = st.session_state.get("open_problems", [])
+        if bad:
+            # One message for the file (not for this step's inputs, which are unchanged).
+            name = st.session_state.get("open_problems_file", "the file")
+            st.error(f"{FILE_NOT_OPENED.format(name=name)}\n\n"
+                     + "\n".join(f"- **{where}:** {msg}" for where, msg in bad),
+                     icon=":material/error:")
         if up is None and "open_problems" in st.session_state:
             del st.session_state["open_problems"]
     for n in st.session_state.get("notes", []):

@@ -12,11 +12,14 @@ S, L = state.units_now()
 a = ss["valid"]
 ev = state.evaluation()
 
-st.markdown("**Steps**")
-for i, (key, title, _) in enumerate(state.STEPS):
-    ok = state.complete(key)
-    mark = ":material/check_circle:" if ok else ":material/warning:"
-    st.markdown(f"{mark} {i + 1}. {title}: {'complete' if ok else 'needs attention'}")
+if widgets.editing():
+    st.markdown("**Steps**")
+    for i, (key, title, _) in enumerate(state.STEPS):
+        if key == "summary":
+            continue  # this page sums the others up; it is not a step of its own
+        ok = state.complete(key)
+        mark = ":material/check_circle:" if ok else ":material/warning:"
+        st.markdown(f"{mark} {i + 1}. {title}: {'complete' if ok else 'needs attention'}")
 
 st.subheader("Best positions")
 st.markdown(f"**{headline_for(ev)}**")

@@ -137,14 +137,16 @@ COLUMNS = (
       "chain.pipeline", digits=1),
     C("rotor_in_turbulence_zone", "", "Rotor in high-turbulence zone", "part of the rotor "
       "inside a roof's high-turbulence zone", "chain.pipeline", "flag"),
-    C("noise_db_at_receptors", "dB(A)", "Noise at receptors", "sound pressure level at each "
-      "receptor", "energy.noise", "mapping", 1),
-    C("noise_exceeds_limit", "", "Noise over limit", "any receptor above its limit",
-      "energy.noise", "flag"),
-    C("noise_margin_db", "dB(A)", "Noise margin", "smallest margin below a receptor's limit "
-      "(negative: over it)", "energy.noise", digits=1),
+    C("noise_db_at_receptors", "dB(A)", "Noise at receptors", "highest sound pressure level "
+      "at each receptor over the assessed hub wind speeds (ISO 9613-2 octave bands)",
+      "energy.noise_bands", "mapping", 1),
+    C("noise_exceeds_limit", "", "Noise over criterion", "any receptor above its criterion "
+      "(plus tolerance) at any assessed hub wind speed", "energy.noise_bands", "flag"),
+    C("noise_margin_db", "dB(A)", "Noise margin", "smallest margin below a receptor's "
+      "criterion over the assessed wind speeds (negative: over it)", "energy.noise_bands",
+      digits=1),
     C("noise_worst_receptor", "", "Receptor with the least margin", "receptor id",
-      "energy.noise", "text"),
+      "energy.noise_bands", "text"),
     C("monthly_aep_kwh", "kWh", "Net energy by month", "net energy of each month, January "
       "first", "energy.aep", "list", 0),
     C("flags", "", "Notes and exclusions", "advice on the position and the reasons it is "
@@ -202,6 +204,36 @@ COLUMNS = (
       "61400-2 class is designed for", "energy.loads", "fraction", 0),
     C("ti_above_class_design", "", "TI above class design", "the site's turbulence exceeds "
       "the class design value", "energy.loads", "flag"),
+    C("noise_worst_speed_ms", "m/s", "Wind speed of the least noise margin", "hub wind speed "
+      "bin at which the least margin occurs", "energy.noise_bands", digits=0),
+    C("noise_hours_over_limit", "h/yr", "Noise over criterion", "hours a year in hub-speed "
+      "bins where any receptor is above its criterion", "energy.noise_bands", digits=0),
+    C("noise_screening_db", "dB", "Noise screening by buildings", "what the site's buildings "
+      "take off the level at the receptor and speed of the least margin", "energy.noise_bands",
+      digits=1),
+    C("flicker_worst_hours", "h/yr", "Flicker, worst case", "shadow flicker at the worst "
+      "window, sun always out and rotor face-on to it", "energy.flicker", digits=1),
+    C("flicker_worst_day_min", "min", "Flicker, worst day", "most worst-case flicker minutes "
+      "in one day at any window", "energy.flicker", digits=0),
+    C("flicker_expected_hours", "h/yr", "Flicker, expected", "shadow flicker at the worst "
+      "window with the wind's directions, operating time and sunshine", "energy.flicker",
+      digits=1),
+    C("flicker_worst_window", "", "Window with most flicker", "receptor id of the window "
+      "with the most worst-case flicker", "energy.flicker", "text"),
+    C("flicker_over_limit", "", "Flicker over limit", "any window above a flicker limit "
+      "(hours a year, minutes a day or expected hours)", "energy.flicker", "flag"),
+    C("rules_met", "", "Chosen rules met", "ids of the chosen local rules the position meets",
+      "chain.rules", "list"),
+    C("rules_broken", "", "Chosen rules broken", "ids of the chosen local rules the position "
+      "breaks (the local authority decides)", "chain.rules", "list"),
+    C("rule_results", "", "Rule results", "each chosen rule's value against its limit, or "
+      "why it was not checked", "chain.rules", "mapping"),
+    C("turbine_certified", "", "Power curve certified", "the turbine's power curve was tested "
+      "by an independent body", "chain.neighbours", "flag"),
+    C("certification", "", "Power-curve certification", "test standard and body, or the "
+      "caution for an untested curve", "chain.neighbours", "text"),
+    C("vibration_caution", "", "Vibration", "the rotor's 1P and 3P frequencies beside the "
+      "structure's, and who must check it", "chain.neighbours", "text"),
 )
 
 #: Columns derived for reading only (never in the ranked table or its files).

@@ -15,8 +15,8 @@ from engine.energy import economics
 from engine.energy import aep as energy
 from engine.flow import effective as flow
 from engine.energy import loads
-from engine.energy import noise
 from engine.chain import arrays
+from engine.chain import neighbours
 from engine.chain import ranking
 from engine.chain import verdict
 from engine.energy import uncertainty
@@ -42,7 +42,8 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     the energy [-]. P75/P90 come from :mod:`engine.energy.uncertainty` for the average year of the
     project life (``p75_aep_kwh``, ``p90_aep_kwh`` = ``p90_life_aep_kwh``) and for a single
     year (``p75_one_year_aep_kwh``, ``p90_one_year_aep_kwh``);
-    loads (:mod:`engine.energy.loads`) and noise (:mod:`engine.energy.noise`) are screening cautions;
+    loads (:mod:`engine.energy.loads`) are a screening caution; noise by hub wind speed,
+    shadow flicker, local rules and certification come from :mod:`engine.chain.neighbours`;
     money and CO2 use the net (P50) energy (:mod:`engine.energy.economics`).
     """
     turbines = assessment.turbines
@@ -61,9 +62,6 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     pos = assessment.positions
     mast = np.array([float(p.mast_height_m) for p in pos])
     ld = loads.turbine_loads(turbines, mast, rho)
-    hub_xyz = np.column_stack([[p.x_m for p in pos], [p.y_m for p in pos], eff.hub_height_m])
-    levels, exceeds, margin, worst = noise.receptor_levels_db(
-        hub_xyz, assessment.receptors, [t.sound_power_db for t in turbines])
     k_mean = np.sum(eff.frequency * eff.weibull_k, axis=-1)  # (P,) shape of hourly speeds
     money = economics.position_money(net_kwh, mean_ms, k_mean, [p.kind for p in pos], mast,
                                      turbines, assessment.economics,
@@ -111,12 +109,9 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
         rows["rotor_in_turbulence_zone"] = np.where(
             np.isfinite(clear_mast), mast[:, None] < clear_mast - 1e-9, False).ravel()
     df = pd.DataFrame(rows)
-    rec_ids = [r.id for r in assessment.receptors]
-    flat_levels = levels.reshape(P * T, len(rec_ids))
-    df["noise_db_at_receptors"] = [dict(zip(rec_ids, map(float, row))) for row in flat_levels]
-    df["noise_exceeds_limit"] = exceeds.ravel()
-    df["noise_margin_db"] = margin.ravel()
-    df["noise_worst_receptor"] = [rec_ids[i] if i >= 0 else "" for i in worst.ravel()]
+    # Noise by wind speed, flicker, local rules, certification, vibration (engine.chain.neighbours).
+    for name, values in neighbours.consent_columns(assessment, eff, df).items():
+        df[name] = values
     months = assessment.climate.monthly_mean_ms
     if months:
         monthly = energy.monthly_energy_wh(y.net_wh, months, assessment.climate,

@@ -5,7 +5,9 @@ taller than allowed, rotor in a building's high-turbulence zone (the whole rotor
 table has ``rotor_in_turbulence_zone``; else the hub) or recirculation zone, noise above
 a receptor's limit, extreme rotor thrust above the load limit. Its reasons, with the numbers
 behind them, are appended to ``flags`` and it is ranked after every eligible row, never
-silently dropped.
+silently dropped. Each row keeps one piece of advice per matter
+(:func:`one_advice_per_matter`): one minimum mast, the one that clears the whole rotor, and one
+recirculation note.
 
 Objectives: ``net_aep``, ``p90_aep`` and ``npv`` (larger is better), ``lcoe`` and ``payback``
 (smaller is better). With ``viability_first`` the options that pay back within their life come
@@ -49,7 +51,7 @@ def exclusion_reasons(table: pd.DataFrame, settings) -> list:
         need = table["mast_to_clear_turbulence_m"].to_numpy(dtype=float)
         add(table["rotor_in_turbulence_zone"].to_numpy(dtype=bool),
             lambda idx: {i: "rotor in the roof's high-turbulence zone; a mast of at least "
-                            f"{need[i]:.1f} m clears it" for i in idx})
+                            f"{need[i]:.1f} m clears it with the whole rotor" for i in idx})
     elif settings.require_clear_of_turbulence_zone and "in_turbulence_zone" in table:
         add(table["in_turbulence_zone"].to_numpy(dtype=bool),
             "rotor in the roof's high-turbulence zone; raise the mast or move the position")
@@ -61,8 +63,12 @@ def exclusion_reasons(table: pd.DataFrame, settings) -> list:
         if {"noise_margin_db", "noise_worst_receptor"} <= set(table.columns):
             margin = table["noise_margin_db"].to_numpy(dtype=float)
             worst = table["noise_worst_receptor"].to_numpy()
+            speed = (table["noise_worst_speed_ms"].to_numpy(dtype=float)
+                     if "noise_worst_speed_ms" in table else np.full(n, np.nan))
             add(mask, lambda idx: {i: f"noise {-margin[i]:.1f} dB(A) above the limit at "
-                                      f"{worst[i]}" for i in idx})
+                                      f"{worst[i]}" + (f" at {speed[i]:g} m/s"
+                                                       if np.isfinite(speed[i]) else "")
+                                   for i in idx})
         else:
             add(mask, "noise above a receptor's limit")
     if settings.max_thrust_n > 0 and "thrust_extreme_n" in table:
@@ -71,6 +77,45 @@ def exclusion_reasons(table: pd.DataFrame, settings) -> list:
             lambda idx: {i: f"extreme thrust {thrust[i]:.0f} N above the "
                             f"{settings.max_thrust_n:g} N load limit" for i in idx})
     return reasons
+
+
+def one_advice_per_matter(table: pd.DataFrame, reasons: list) -> list:
+    """Each row's notes with its exclusion reasons appended, one piece of advice per matter.
+
+    Where the rotor check gives the mast that clears the whole rotor
+    (``mast_to_clear_turbulence_m``, m), the building model's hub-only mast note goes: an
+    assessor following the lower figure would still be excluded. The rotor-clear figure is
+    added as a note when the rotor is in the zone but the constraint is not applied. A
+    recirculation exclusion replaces the zone's plain note.
+
+    Parameters
+    ----------
+    table : rows with ``flags`` and optionally ``mast_to_clear_turbulence_m`` (m) and
+        ``rotor_in_turbulence_zone``.
+    reasons : per row, the texts of :func:`exclusion_reasons`.
+
+    Returns
+    -------
+    list of lists of str, one per row.
+    """
+    n = len(table)
+    need = (table["mast_to_clear_turbulence_m"].to_numpy(dtype=float)
+            if "mast_to_clear_turbulence_m" in table else np.full(n, np.nan))
+    rotor_in = (table["rotor_in_turbulence_zone"].to_numpy(dtype=bool)
+                if "rotor_in_turbulence_zone" in table else np.zeros(n, bool))
+    merged = []
+    for f, rs, clear, inside in zip(table["flags"], reasons, need, rotor_in):
+        f = list(f)
+        if np.isfinite(clear):
+            f = [x for x in f if not (x.startswith("a mast of ") and "puts the hub above" in x)]
+            if inside and not any(r.startswith("rotor in the roof's high-turbulence")
+                                  for r in rs):
+                f.append("rotor in the roof's high-turbulence zone; a mast of at least "
+                         f"{clear:.1f} m clears it with the whole rotor")
+        if "hub in a recirculation zone" in rs:
+            f = [x for x in f if x != "in roof recirculation zone"]
+        merged.append(f + [r for r in rs if r not in f])
+    return merged
 
 
 def rank(table: pd.DataFrame, settings) -> pd.DataFrame:
@@ -86,7 +131,7 @@ def rank(table: pd.DataFrame, settings) -> pd.DataFrame:
     out = table.copy()
     reasons = exclusion_reasons(out, settings)
     out["excluded"] = [bool(r) for r in reasons]
-    out["flags"] = [list(f) + [r for r in rs if r not in f] for f, rs in zip(out["flags"], reasons)]
+    out["flags"] = one_advice_per_matter(out, reasons)
     out["exclusion_reason"] = ["; ".join(r) for r in reasons]
     key = out[col].to_numpy(dtype=float)
     key = np.where(np.isfinite(key), key, -np.inf if larger_better else np.inf)

@@ -3,17 +3,20 @@
 The table format shows one line per combination with its status (``ranked``, or
 ``excluded`` with the constraints it fails) and the advice for it, both wrapped to a
 readable width; ``--format json`` and ``--format csv`` write every column of the ranked
-table as :mod:`engine.chain.columns` declares it.
+table as :mod:`engine.chain.columns` declares it. ``--rules FILE`` checks the positions
+against a chosen rule-set file (:func:`engine.chain.rules.load_rule_set`) instead of the site
+file's own rules.
 """
 from __future__ import annotations
 
 import json
 import sys
 import textwrap
+from dataclasses import replace
 
 import numpy as np
 
-from engine.chain import columns, pipeline
+from engine.chain import columns, pipeline, rules
 from engine.chain.documents import rank_document, ranking_csv_text
 from engine.chain.ranking import exclusion_reasons
 from engine.chain.verdict import headline_for
@@ -91,7 +94,12 @@ def _block(wrapped, width, n_right) -> list:
 
 
 def cmd_rank(args) -> int:
-    ev = pipeline.evaluate(sitefile.load(args.site))
+    assessment = sitefile.load(args.site)
+    if getattr(args, "rules", None):
+        name, _, chosen = rules.load_rule_set(args.rules)
+        assessment = replace(assessment, consent=replace(assessment.consent, rules=chosen,
+                                                         rule_set_name=name))
+    ev = pipeline.evaluate(assessment)
     if args.format == "json":
         print(json.dumps(rank_document(ev), indent=2, ensure_ascii=False))
     elif args.format == "csv":
@@ -111,6 +119,7 @@ def register_rank(sub):
     p.add_argument("site", help="site file (JSON)")
     p.add_argument("--format", choices=("table", "json", "csv"), default="table",
                    help=FORMAT_HELP)
+    p.add_argument("--rules", help="local rule-set file (JSON) replacing the site file's rules")
     p.set_defaults(func=cmd_rank)
 
 

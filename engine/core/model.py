@@ -20,6 +20,9 @@ from dataclasses import dataclass, field
 from typing import Optional
 
 from engine.core.errors import InputError, Problems, check_range
+from engine.core.consent import (ConsentSettings, FlickerSettings, NoiseSettings,  # noqa: F401
+                                 SitingRule, receptor_problems,
+                                 turbine_problems)
 
 FORMAT_VERSION = 1
 
@@ -74,8 +77,9 @@ class Site:
     air_pressure_pa: Optional[float] = None
     assessor: str = ""
     notes: str = ""
-    #: Where the local plan's origin (x 0, y 0) is on Earth [deg], when the site came from GIS
-    #: data; the plan is a transverse Mercator about it (engine.io.footprints).
+    #: Where the local plan's origin (x 0, y 0) is on Earth [deg]: set when the site came from
+    #: GIS data (the plan is a transverse Mercator about it, engine.io.footprints) and needed
+    #: for the sun's path (shadow flicker, engine.energy.flicker).
     origin_lat_deg: Optional[float] = None
     origin_lon_deg: Optional[float] = None
     #: The coordinate reference system the buildings were given in ("EPSG:27700"), for exports.
@@ -296,6 +300,18 @@ class Turbine:
     blade_projected_area_m2: float = 0.0
     #: The maker's declared parked-rotor load at the class's extreme wind [N]; 0 = not declared.
     parked_thrust_n: float = 0.0
+    #: Certification (checked in engine.core.consent.turbine_problems): test standard and body,
+    #: reference annual energy at 5 m/s mean [kWh], declared apparent sound power [dB(A)],
+    #: and sound power per hub wind speed as declared in the manner of IEC 61400-11.
+    certified: bool = False
+    test_standard: str = ""
+    test_body: str = ""
+    reference_aep_5ms_kwh: float = 0.0
+    declared_sound_power_db: float = 0.0
+    sound_power_speed_ms: tuple[float, ...] = ()
+    sound_power_by_speed_db: tuple[float, ...] = ()
+    #: Rotor speed range [rpm] as (lowest, highest) in operation, where known (vibration).
+    rotor_speed_rpm: tuple[float, ...] = ()
 
     def __post_init__(self):
         p = Problems()
@@ -349,6 +365,7 @@ class Turbine:
                                       "(or swept_area_m2)")
         if self.iec_class == "S" and self.v_ref_ms <= 0:
             p.add("v_ref_ms", "class S needs its reference wind speed v_ref_ms > 0 m/s")
+        p.extend(turbine_problems(self))
         if not p and self.area_m2 > 0:
             # Betz: no curve point may hold more power than 16/27 of the wind's at 1.225 kg/m³.
             for i, (v, pw) in enumerate(zip(speeds, power)):
@@ -502,13 +519,22 @@ class Uncertainty:
 
 @dataclass(frozen=True)
 class Receptor:
-    """A place where noise matters (a window, a garden), with its limit."""
+    """A place where noise matters (a window, a garden), with its limit.
+
+    ``facing_deg`` is the bearing a window looks out to (None: not a window, no flicker);
+    ``background_db`` per ``background_speed_ms`` is the measured background (else a default).
+    """
 
     id: str
     x_m: float
     y_m: float
     height_m: float = 4.0
     limit_db: float = 40.0
+    facing_deg: Optional[float] = None
+    window_height_m: float = 1.2
+    dwelling: bool = True
+    background_speed_ms: tuple[float, ...] = ()
+    background_db: tuple[float, ...] = ()
 
     def __post_init__(self):
         p = Problems()
@@ -517,6 +543,7 @@ class Receptor:
         check_range(p, "y_m", self.y_m, -1e5, 1e5, "m")
         check_range(p, "height_m", self.height_m, 0, 300, "m")
         check_range(p, "limit_db", self.limit_db, 10, 100, "dB(A)")
+        p.extend(receptor_problems(self))
         _raise(p)
 
 
@@ -660,6 +687,7 @@ class Assessment:
     spot_readings: tuple[SpotReading, ...] = ()
     transfer: TransferSettings = field(default_factory=TransferSettings)
     energy: EnergySettings = field(default_factory=EnergySettings)
+    consent: ConsentSettings = field(default_factory=ConsentSettings)
     format_version: int = FORMAT_VERSION
 
     def __post_init__(self):

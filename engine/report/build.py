@@ -1,14 +1,16 @@
 """Building the siting summary's content: the body a client reads (numbered sections).
 
 :func:`build_summary` turns an :class:`~engine.chain.pipeline.Evaluation` into a
-:class:`~engine.report.content.Summary`: the body here (question, recommendation, ranking,
-costs, charts, data quality, cautions) and the appendix from :mod:`engine.report.appendix`
+:class:`~engine.report.content.Summary`: the body here (the answer in two sentences, the
+question, leading option, ranking, costs, charts, data quality, cautions) and the appendix from
+:mod:`engine.report.appendix`
 (inputs as entered, further results, methods, reproducibility, data files). Every number is
 formatted here, once, for both renderers.
 """
 from __future__ import annotations
 
 from engine.chain import columns as contract
+from engine.chain.answer import answer_for
 from engine.chain.documents import rank_document
 from engine.chain.ranking import OBJECTIVE_COLUMNS, exclusion_reasons
 from engine.chain.verdict import headline_for
@@ -29,7 +31,8 @@ def ranking_limits(a) -> list:
     if rs.require_clear_of_turbulence_zone:
         limits.append("rotors clear of the roofs' high-turbulence zones")
     if rs.apply_noise_limits and a.receptors:
-        limits.append(f"noise within the limits at {len(a.receptors)} receptor(s)")
+        limits.append(f"noise within the criteria at {len(a.receptors)} receptor(s) at every "
+                      f"hub wind speed up to {a.consent.noise.max_assessed_speed_ms:g} m/s")
     if rs.max_thrust_n > 0:
         limits.append(f"extreme thrust up to {rs.max_thrust_n:g} N")
     return limits
@@ -93,7 +96,7 @@ def _why(records, eligible, reasons, best, col, larger, label) -> list:
             diff = (float(a1) - float(a2)) / abs(float(a2))
             word = "more" if diff >= 0 else "less"
             why.append(f"The next best, {second['turbine_id']} at {second['position_id']}, has "
-                       f"{label} {format_cell(col, a2)}; the recommended one has "
+                       f"{label} {format_cell(col, a2)}; the leading one has "
                        f"{abs(diff):.1%} {word}.")
     why.append(f"Its hub stands {format_cell('hub_height_m', best['hub_height_m'])} m above "
                f"ground, where the mean wind speed is "
@@ -194,6 +197,10 @@ MONEY_COLUMNS = ("verdict", "installed_cost", "self_consumed_share", "npv", "pay
                  "lcoe_per_kwh", "break_even_import_price", "co2_avoided_kg_per_year")
 
 
+#: Most rows of the body's cost table (the ranking files hold every row).
+COST_TABLE_ROWS = 10
+
+
 def _costs(a, records, raw) -> tuple[Section, list]:
     present = {c for r in records for c in r}
     cost_cols = [c for c in MONEY_COLUMNS if c in present]
@@ -209,11 +216,19 @@ def _costs(a, records, raw) -> tuple[Section, list]:
                               fmt_fixed(t.installed_cost, 0)) for t in a.turbines),
                        ("l", "l", "r", "r"))
     if cost_cols:
+        # The allowed combinations first, then the best-ranked excluded ones, up to
+        # COST_TABLE_ROWS rows; every row's money is in the attached ranking files.
+        order = sorted(range(len(records)), key=lambda i: (bool(records[i].get("excluded")), i))
+        keep = sorted(order[:COST_TABLE_ROWS])
+        left = len(records) - len(keep)
+        note = (f" {left} more excluded combination(s) are in the attached ranking files."
+                if left else "")
         blocks = (econ, records_table(
-            "costs", records, ["rank", "position_id", "turbine_id"] + cost_cols,
-            f"Cost metrics per combination ({e.currency}). A payback of \"never\" means the "
-            "yearly income does not cover operation and maintenance.", raw=raw,
-            currency=e.currency), turb_costs)
+            "costs", [records[i] for i in keep], ["rank", "position_id", "turbine_id"]
+            + cost_cols,
+            f"Cost metrics per combination ({e.currency}), the allowed ones first. A payback of "
+            "\"never\" means the yearly income does not cover operation and maintenance." + note,
+            raw=[raw[i] for i in keep], currency=e.currency), turb_costs)
     else:
         blocks = (econ, turb_costs, Paragraph(
             "No cost metrics (cost of energy, payback) were computed for this site.", "note"))
@@ -256,7 +271,7 @@ def _quality(a, best, records, centre) -> Section:
             and float(best[centre]) > 0:
         ratio = float(best["p90_aep_kwh"]) / float(best[centre])
         qual.append(Paragraph(
-            f"For the recommended combination P90 is {ratio:.0%} of P50: nine years in ten "
+            f"For the leading combination P90 is {ratio:.0%} of P50: nine years in ten "
             f"should give at least {format_cell('p90_aep_kwh', best['p90_aep_kwh'])} kWh."))
     elif centre == "aep_kwh":
         qual.append(Paragraph(
@@ -313,8 +328,9 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
     best, rec_blocks = recommendation(evaluation, records)
     ranking, shown = _ranking(evaluation, records, centre)
     costs, cost_cols = _costs(a, records, raw)
-    body = [_question(a, doc, stamp, assessor, notes),
-            Section("recommendation", "Recommended position and why", tuple(rec_blocks)),
+    body = [Section("answer", "The answer", tuple(Paragraph(t) for t in answer_for(evaluation))),
+            _question(a, doc, stamp, assessor, notes),
+            Section("recommendation", "Leading option and why", tuple(rec_blocks)),
             ranking, costs, _charts(evaluation, best, with_charts),
             _quality(a, best, records, centre), _cautions(assessor)]
     extra, attachments = appendix.appendix_sections(

@@ -462,7 +462,8 @@ def ranking_bars(table: pd.DataFrame, top: int = 12) -> alt.LayerChart:
     order = list(df["row"])
     y = alt.Y("row:N", sort=order, title=None, axis=alt.Axis(labelLimit=280))
     bars = alt.Chart(df).mark_bar().encode(
-        y=y, x=alt.X(f"{centre}:Q", title="net energy per year (kWh)"),
+        y=y, x=alt.X(f"{centre}:Q", title="net energy per year (kWh)",
+                     axis=alt.Axis(labelOverlap=True, labelSeparation=8)),
         color=alt.Color("status:N", title=None,
                         scale=alt.Scale(domain=["eligible", "excluded"],
                                         range=[ACCENT, EXCLUDED_COLOUR])),

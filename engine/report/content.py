@@ -113,7 +113,7 @@ class Summary:
 
 
 #: Section keys of the body (numbered), in order; the client reads these.
-BODY_KEYS = ("question", "recommendation", "ranking", "costs", "charts", "quality", "cautions")
+BODY_KEYS = ("answer", "question", "recommendation", "ranking", "costs", "charts", "quality", "cautions")
 #: Section keys of the appendix (lettered), in order: inputs and records for checking.
 APPENDIX_KEYS = ("positions", "further", "methods", "inputs", "reproducibility", "data")
 #: Section keys in order; every summary has all of them.

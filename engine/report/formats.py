@@ -62,7 +62,8 @@ def _by_kind(col, v) -> str:
         items = [fmt_fixed(x, d) if finite(x) else str(x) for x in v]
         return "; ".join(items) if items else DASH
     if kind == "mapping":
-        return "; ".join(f"{k} {fmt_fixed(x, d)}" for k, x in v.items()) if v else DASH
+        return "; ".join(f"{k} {x if isinstance(x, str) else fmt_fixed(x, d)}"
+                         for k, x in v.items()) if v else DASH
     return fmt_value(v)
 
 

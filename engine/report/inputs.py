@@ -15,7 +15,8 @@ from engine.report.formats import DASH
 SUFFIX_UNITS = (("_kg_per_kwh", "kg CO2/kWh"), ("_per_kwh", "per kWh"),
                 ("_per_year", "a year"), ("_ms", "m/s"), ("_m2", "m²"), ("_m", "m"),
                 ("_deg", "°"), ("_db", "dB(A)"), ("_pa", "Pa"), ("_c", "°C"), ("_w", "W"),
-                ("_kg", "kg"), ("_n", "N"), ("_years", "years"))
+                ("_kg", "kg"), ("_n", "N"), ("_years", "years"), ("_pct", "%"), ("_hz", "Hz"),
+                ("_min", "min"), ("_m3", "m³"))
 
 #: Labels that need more words than the key gives: (group, key) or key -> label.
 LABELS = {
@@ -43,7 +44,9 @@ TITLES = {"site": "Site", "climate": "Reference climate", "transfer": "Climate t
           "losses": "Losses", "uncertainty": "Uncertainty (one sigma)",
           "economics": "Economics", "ranking": "Ranking settings", "buildings": "Buildings",
           "positions": "Positions", "turbines": "Turbines", "receptors": "Noise receptors",
-          "spot_readings": "Spot readings"}
+          "spot_readings": "Spot readings", "consent": "Neighbours and consent",
+          "consent.noise": "Noise assessment", "consent.flicker": "Shadow flicker",
+          "consent.rules": "Local siting rules"}
 
 #: Groups whose fractions are shown as percentages.
 PERCENT_GROUPS = ("losses", "uncertainty")
@@ -132,6 +135,21 @@ def _power_curves(turbines: list) -> Table:
         title="Power curves as entered")
 
 
+def _is_items(v) -> bool:
+    return isinstance(v, list) and bool(v) and all(isinstance(x, dict) for x in v)
+
+
+def _nested(group: str, d: dict) -> list:
+    """Tables of a group's own groups (``consent.noise``) and lists of items (``consent.rules``)."""
+    out = []
+    for k, x in d.items():
+        if isinstance(x, dict):
+            out.append(_settings(f"{group}.{k}", x))
+        elif _is_items(x):
+            out.append(_items(f"{group}.{k}", x))
+    return out
+
+
 def input_tables(site_dict: dict) -> tuple:
     """Tables of every input of a site-file dict (:func:`engine.io.sitefile.assessment_to_dict`)."""
     out = []
@@ -139,6 +157,8 @@ def input_tables(site_dict: dict) -> tuple:
         if isinstance(v, dict):
             arrays = {k for k, x in v.items() if isinstance(x, list)} if group == "climate" \
                 else set()
+            out.extend(_nested(group, v))
+            arrays |= {k for k, x in v.items() if isinstance(x, dict) or _is_items(x)}
             out.append(_settings(group, v, skip=arrays))
             if group == "climate" and v.get("frequency"):
                 out.append(_sectors(v))

@@ -115,7 +115,7 @@ def _merge_close_bands(bands: list, min_gap_m: float) -> list:
 
 
 def summary_figures(evaluation, position_id: str | None, turbine_id: str | None) -> list:
-    """The summary's charts: plan, wind roses, profile at the recommended position, yields."""
+    """The summary's charts: plan, wind roses, profile at the leading position, yields."""
     a = evaluation.assessment
     figs = [_figure(
         "plan", "Site plan",
@@ -131,7 +131,7 @@ def summary_figures(evaluation, position_id: str | None, turbine_id: str | None)
     kinds = {p.id: p.kind for p in a.positions}
     profiles = []
     if position_id is not None and turbine_id is not None:
-        profiles.append(("profile", position_id, turbine_id, "the recommended position"))
+        profiles.append(("profile", position_id, turbine_id, "the leading position"))
     if position_id is None or kinds.get(position_id) != "roof":
         # Roof zones matter on roofs: show the best-ranked roof row too (eligible or not).
         roof_rows = evaluation.table[evaluation.table["kind"] == "roof"]

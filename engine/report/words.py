@@ -50,7 +50,10 @@ METHOD_STEPS = (
     ("Energy yield", "engine.energy.aep"),
     ("Uncertainty (P50/P90)", "engine.energy.uncertainty"),
     ("Loads", "engine.energy.loads"),
-    ("Noise", "engine.energy.noise"),
+    ("Noise by wind speed", "engine.energy.noise_bands"),
+    ("Noise screening by buildings", "engine.energy.noise_paths"),
+    ("Shadow flicker", "engine.energy.flicker"),
+    ("Local siting rules", "engine.chain.rules"),
     ("Economics", "engine.energy.economics"),
     ("Ranking", "engine.chain.ranking"),
 )

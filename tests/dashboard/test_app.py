@@ -6,6 +6,7 @@ import io
 import json
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 import pytest
 from streamlit.testing.v1 import AppTest
@@ -117,7 +118,7 @@ def test_invalid_table_row_is_named_by_row():
     at.session_state["gen"] = at.session_state["gen"] + 1
     at = _go(at, "steps/step_layout.py")
     errs = " ".join(_texts(at, "error"))
-    assert "Row 2 (tower)" in errs and "height" in errs
+    assert "Buildings, row 2 (tower)" in errs and "height" in errs
 
 
 def test_mast_height_change_reranks():
@@ -302,7 +303,7 @@ def test_results_label_one_year_and_life_p90_and_turbulence_effect(demo_eval):
     at = _go(_app(), "steps/step_results.py")
     labels = [m.label for m in at.metric]
     assert any("single year" in lab for lab in labels)
-    assert any(lab.startswith("P90 over") and "life" in lab for lab in labels)
+    assert any(lab.startswith("P90, ") and "-year life" in lab for lab in labels)
     assert any("Turbulence effect" in lab for lab in labels)
     shown = at.table[0].value
     best = demo_eval.table.iloc[0]
@@ -311,3 +312,38 @@ def test_results_label_one_year_and_life_p90_and_turbulence_effect(demo_eval):
     assert float(shown["P90, a single year (kWh/yr)"].iloc[0].replace(",", "")) == \
         pytest.approx(best["p90_one_year_aep_kwh"], abs=0.5)
     assert shown["turbulence effect"].iloc[0][0] in "+−"
+
+
+def test_all_rows_table_formats_every_number_and_leads_with_key_columns(demo_eval):
+    """Every numeric column of the all-rows table has a display format (no raw floats); the
+    position, turbine, energy, P90, cost and exclusion come first."""
+    shown = results_view.display_table(demo_eval.table, "m/s", "m")
+    config = results_view.display_config(demo_eval.table, "m/s", "m")
+    numeric = [c for c in shown.columns if pd.api.types.is_float_dtype(shown[c])
+               or pd.api.types.is_integer_dtype(shown[c])]
+    assert numeric
+    for c in numeric:
+        assert config.get(c, ("", {}))[1].get("format"), c
+    lead = ["rank", "position_id", "turbine_id", "aep_kwh", "p90_aep_kwh",
+            "p90_one_year_aep_kwh", "lcoe_per_kwh", "excluded"]
+    assert list(shown.columns[:8]) == [results_view.header(c, "m/s", "m") for c in lead]
+    at = _go(_app(), "steps/step_results.py")
+    assert list(at.dataframe[0].value.columns[:3]) == [
+        results_view.header(c, "m/s", "m") for c in lead[:3]]
+
+
+def test_position_detail_gives_one_minimum_mast_the_rotor_clear_one(demo_eval):
+    """The detail of the best row states one shortest mast: the chain's rotor-clear figure
+    for that turbine (not the lower hub-only one), and its notes hold no other mast advice."""
+    at = _go(_app(), "steps/step_results.py")
+    t = demo_eval.table
+    # The best-ranked roof row (a roof has a turbulence zone to clear), opened in the detail.
+    best = t[np.isfinite(t["mast_to_clear_turbulence_m"].astype(float))].iloc[0]
+    at.selectbox(key="detail_position_w").set_value(best["position_id"]).run()
+    at.selectbox(key="detail_turbine_w").set_value(best["turbine_id"]).run()
+    masts = [c.value for c in at.caption if c.value.startswith("Shortest mast")]
+    assert masts == ["Shortest mast that keeps the whole rotor clear of the roof's "
+                     f"high-turbulence zone: {best['mast_to_clear_turbulence_m']:.1f} m"]
+    notes = [m.value for m in at.markdown if m.value.startswith("- ")]
+    assert notes == [f"- {f}" for f in best["flags"]]
+    assert not any("puts the hub above" in n for n in notes)

@@ -150,6 +150,10 @@ def test_screen_the_demo_district_and_open_the_top_building(page, dashboard_url)
     open_button.scroll_into_view_if_needed()
     open_button.click()
     idle(page)
+    # it asks first, and keeps the working copy as a scenario
+    expect(page.get_by_text(re.compile("replaces the working copy"))).to_be_visible()
+    page.get_by_role("button", name=re.compile("^Keep it as")).click()
+    idle(page)
     # the engine's own top building for the demo assessment, ranked beside the page
     ranked = screening.screen_local(ROOT / "demo_sites" / "district_1000.csv",
                                     screening.context_from_assessment(
@@ -157,6 +161,8 @@ def test_screen_the_demo_district_and_open_the_top_building(page, dashboard_url)
     top = ranked.table.iloc[0]["id"]
     expect(page.get_by_text(f"Building {top} is now the working assessment")).to_be_visible()
     expect(page.get_by_test_id("stSidebar")).to_contain_text(f"screening: building {top}")
+    expect(page.get_by_text(f"kept as the scenario “before screening building {top}”",
+                            exact=False)).to_be_visible()
     page.mouse.move(0, 0)  # no hover toolbar in the picture
     shot(page, "browser-7b-screening-opened")
 
@@ -218,12 +224,21 @@ def test_results_show_the_two_p90s_and_the_turbulence_effect(page, dashboard_url
     idle(page)
     page.get_by_role("link", name=re.compile("^5. Results")).click()
     idle(page)
-    expect(page.get_by_text("P90, a single year", exact=True).first).to_be_visible()
+    expect(page.get_by_text("P90, a single year (kWh/yr)", exact=True).first).to_be_visible()
     expect(page.get_by_text("Turbulence effect", exact=True)).to_be_visible()
-    expect(page.get_by_text(re.compile(r"^P90 over \d+-year life$"))).to_be_visible()
+    expect(page.get_by_text(re.compile(r"^P90, \d+-year life \(kWh/yr\)$"))).to_be_visible()
     expect(page.get_by_text(re.compile(r"^P90, average year over \d+ years \(kWh/yr\)$")).first
            ).to_be_visible()
     value = page.locator('[data-testid="stMetric"]', has_text="Turbulence effect")
     expect(value.locator('[data-testid="stMetricValue"]')).to_have_text(
         re.compile(r"^[+\u2212]\d+\.\d %$"))
     shot(page, "browser-11-p90-and-turbulence")
+    assert cut_metric_labels(page) == []
+
+
+def cut_metric_labels(page) -> list:
+    """Texts of the metric labels drawn cut short (an element narrower than its text)."""
+    return page.evaluate(
+        "() => [...document.querySelectorAll('[data-testid=\"stMetricLabel\"]')]"
+        ".filter(l => [l, ...l.querySelectorAll('*')]"
+        ".some(e => e.scrollWidth > e.clientWidth + 1)).map(l => l.innerText)")

@@ -16,8 +16,9 @@ import pyarrow as pa
 import pytest
 from streamlit.testing.v1 import AppTest
 
-from engine.chain import pipeline
+from dashboard import scenario_store
 from engine import screening
+from engine.chain import pipeline
 from engine.io import sitefile
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -174,8 +175,19 @@ def test_open_top_building_in_the_detailed_assessment(engine_result, demo_ctx):
     at = _screen(_page())
     top = engine_result.table.iloc[0]
     assert at.selectbox(key="screening_pick").value == top["id"]  # the default pick
+    before = at.session_state["draft"]
+    before_text = sitefile.dumps(at.session_state["valid"])
     at.button(key="screening_open").click().run()
     assert not at.exception, at.exception
+    # it asks first: nothing replaced yet
+    assert any("replaces the working copy" in w for w in _texts(at, "warning"))
+    assert at.session_state["draft"] == before
+    at.button(key="screening_open_yes").click().run()
+    assert not at.exception, at.exception
+    # the old working copy is kept as a scenario, on disk as well
+    keep = f"before screening building {top['id']}"
+    assert at.session_state["scenarios"][keep] == before_text
+    assert scenario_store.read()[0][keep] == before_text
     assert any(f"Building {top['id']} is now the working assessment" in s
                for s in _texts(at, "success"))
     # the sidebar, drawn before the page, names the new working copy too
@@ -203,11 +215,23 @@ def test_open_top_building_in_the_detailed_assessment(engine_result, demo_ctx):
         assert not _texts(at, "error"), step
 
 
+def test_open_can_be_cancelled():
+    """Cancel leaves the working copy as it was, with no scenario added."""
+    at = _screen(_page())
+    before = at.session_state["draft"]
+    at.button(key="screening_open").click().run()
+    at.button(key="screening_open_no").click().run()
+    assert not at.exception, at.exception
+    assert at.session_state["draft"] == before and not at.session_state["scenarios"]
+    assert not any("replaces the working copy" in w for w in _texts(at, "warning"))
+
+
 def test_opened_building_draws_on_the_layout_step():
     """The opened building (no noise receptors: an empty table) draws on the buildings &
     positions step, and its receptors table can be drawn empty."""
     at = _screen(_page())
     at.button(key="screening_open").click().run()
+    at.button(key="screening_open_yes").click().run()
     at.switch_page("steps/step_layout.py").run()
     assert not at.exception, at.exception
     assert not _texts(at, "error")

@@ -125,7 +125,7 @@ def test_bad_reading_is_named_by_row_and_column(pos, ref, column, words):
     at = _layout()
     _edit(at, added=[_row(pos=pos, ref=ref)])
     errs = _errors(at)
-    assert f"Row 2 (tower-centre), {column}:" in errs and words in errs
+    assert f"Spot readings, row 2 (tower-centre), {column}:" in errs and words in errs
     assert all(w.startswith("spot_readings[1].") for w, _ in at.session_state["problems"])
     assert at.session_state["draft"]["spot_readings"][1]["note"] == "by the tank room door"
     assert at.session_state["valid"].spot_readings == sitefile.load(DEMO).spot_readings
@@ -140,7 +140,7 @@ def test_a_position_that_is_not_in_the_layout_is_named():
     at = _layout()
     _edit(at, added=[_row(position="no-such-place")])
     errs = _errors(at)
-    assert "Row 2 (no-such-place), position:" in errs and "not in positions" in errs
+    assert "Spot readings, row 2 (no-such-place), position:" in errs and "not in positions" in errs
 
 
 def test_results_draw_after_a_valid_reading():

@@ -217,9 +217,15 @@ def test_footprints_to_site_to_geojson_round_trip(tmp_path):
 
 
 def test_geojson_of_a_drawn_site_is_refused_naming_the_origin(tmp_path, capsys):
-    """A site drawn by hand has no place on Earth: exit 2 naming site.origin_lat_deg."""
+    """A site drawn by hand has no place on Earth: exit 2 naming site.origin_lat_deg.
+
+    (The demo site carries a plan origin for the sun's path, so it is written without one.)"""
     from engine import cli
-    assert cli.main(["geojson", str(DEMO_SITE), "--out", str(tmp_path / "x.geojson")]) == 2
+    drawn = json.loads(DEMO_SITE.read_text(encoding="utf-8"))
+    drawn["site"]["origin_lat_deg"] = drawn["site"]["origin_lon_deg"] = None
+    site = tmp_path / "drawn.json"
+    site.write_text(json.dumps(drawn), encoding="utf-8")
+    assert cli.main(["geojson", str(site), "--out", str(tmp_path / "x.geojson")]) == 2
     assert "origin_lat_deg" in capsys.readouterr().err
     assert not (tmp_path / "x.geojson").exists()
 

@@ -64,6 +64,34 @@ def test_rotor_check_takes_precedence_over_hub_flag():
     assert not out.loc["c", "excluded"]
 
 
+def test_one_minimum_mast_and_one_recirculation_note_per_row():
+    """A hub-only mast note from the building model gives way to the rotor-clear mast; the
+    exclusion for recirculation replaces the zone's plain note (hand-made rows, common
+    practice: one piece of advice per matter)."""
+    t = table()
+    t["rotor_in_turbulence_zone"] = [True, True, False, False]
+    t["mast_to_clear_turbulence_m"] = [8.8, 9.0, 4.0, np.nan]
+    t["in_recirculation_zone"] = [True, False, False, False]
+    t["flags"] = [("in roof recirculation zone",
+                   "a mast of 7.5 m puts the hub above the roof's high-turbulence zone"),
+                  ("a mast of 7.0 m puts the hub above the roof's high-turbulence zone",),
+                  (), ()]
+    s = model.RankingSettings(max_mast_height_m=60.0, apply_noise_limits=False)
+    out = ranking.rank(t, s).set_index("position_id")
+    flags_a = out.loc["a", "flags"]
+    masts = [f for f in flags_a if "a mast of" in f]
+    assert masts == ["rotor in the roof's high-turbulence zone; a mast of at least 8.8 m "
+                     "clears it with the whole rotor"]
+    assert [f for f in flags_a if "recirculation" in f] == ["hub in a recirculation zone"]
+    # without the rotor requirement the one mast note is still the rotor-clear one
+    s2 = model.RankingSettings(max_mast_height_m=60.0, apply_noise_limits=False,
+                               require_clear_of_turbulence_zone=False)
+    out2 = ranking.rank(t, s2).set_index("position_id")
+    assert [f for f in out2.loc["b", "flags"] if "a mast of" in f] == [
+        "rotor in the roof's high-turbulence zone; a mast of at least 9.0 m clears it with "
+        "the whole rotor"]
+
+
 def test_excluded_rows_rank_after_eligible():
     """Excluded rows are kept, ranked after every eligible row."""
     out = ranking.rank(table(), model.RankingSettings())

@@ -124,7 +124,7 @@ def test_every_section_present(demo, tmp_path):
     flat = " ".join(text.split())
     for sec in s.sections:
         assert sec.heading in flat
-    assert [x.number for x in s.sections] == [str(i) for i in range(1, 8)] + list("ABCDEF")
+    assert [x.number for x in s.sections] == [str(i) for i in range(1, 9)] + list("ABCDEF")
     for needle in ("R. Quill", STAMP_TEXT, "Checked on a calm day.", s.site_sha256[:16]):
         assert needle in flat and needle in demo["html"]
 
@@ -353,7 +353,7 @@ def test_pdf_without_unicode_font_uses_core_fonts(demo, tmp_path):
     pdf = report.render_pdf(s, font=None)
     assert pdf.startswith(b"%PDF-")
     flat = " ".join(_pdf_text(pdf, tmp_path).split())
-    assert "1. The question" in flat and "R. Quill" in flat
+    assert "1. The answer" in flat and "2. The question" in flat and "R. Quill" in flat
 
 
 def test_cautions_in_both_formats(demo, tmp_path):
@@ -365,7 +365,7 @@ def test_cautions_in_both_formats(demo, tmp_path):
     for w in words:
         assert w in flat_html and w in flat_pdf, w
     # A short reminder comes before the first section, then the full list.
-    assert flat_html.index("Safety:") < flat_html.index("1. The question")
+    assert flat_html.index("Safety:") < flat_html.index("1. The answer")
 
 
 def test_effective_climate_csv_against_weibull_mean(demo):

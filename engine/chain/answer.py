@@ -1,0 +1,132 @@
+"""The site's answer in two sentences: the verdict with its money, then the energy and what to
+measure next to firm it up.
+
+The first sentence is the verdict of the option the summary leads with (the leading allowed
+option, or the least bad one when none pays back; :mod:`engine.chain.verdict`), with the money
+from its ``verdict_reason``. The second gives its P50 and P90 energy and names the measurement
+that would narrow the largest uncertainty in that energy (:func:`largest_uncertainty`).
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from engine.chain.verdict import VERDICTS, add_verdicts
+from engine.energy.uncertainty import SPEED_COMPONENTS
+
+#: What to measure or ask for next, by the uncertainty component it narrows.
+MEASURE_NEXT = {
+    "speed_building_model": (
+        "measure the wind at the proposed hub position for at least a year (an anemometer on a "
+        "temporary mast there, installed by people trained for work at height), which replaces "
+        "the building-flow estimate"),
+    "speed_transfer": (
+        "measure the wind on site near hub height for at least a year, which replaces the "
+        "transfer of the climate from its reference height and roughness"),
+    "speed_data": (
+        "check the wind record's instruments and calibration, or log a calibrated anemometer "
+        "on site"),
+    "speed_long_term": (
+        "correlate the site's record with a long-term reference station "
+        "(measure-correlate-predict) to place it in a typical year"),
+    "energy_power_curve": (
+        "ask the maker for a power curve measured to IEC 61400-12-1 (or a turbine certified to "
+        "IEC 61400-2)"),
+    "interannual_speed": (
+        "expect the year-to-year variation of the wind, which no measurement removes; only the "
+        "life-average P90 narrows with a longer record"),
+}
+
+#: Words for each component in the sentence.
+COMPONENT_WORDS = {
+    "speed_building_model": "the building-flow model",
+    "speed_transfer": "the transfer of the climate to the site",
+    "speed_data": "the wind data",
+    "speed_long_term": "the long-term correction",
+    "energy_power_curve": "the power curve",
+    "interannual_speed": "the year-to-year variation of the wind",
+}
+
+
+def largest_uncertainty(speed_sensitivity: float, uncertainty) -> tuple[str, float]:
+    """The component that contributes most to the energy's uncertainty, and its share [-].
+
+    Parameters
+    ----------
+    speed_sensitivity : d ln E / d ln V of the option [-]
+    uncertainty : :class:`engine.core.model.Uncertainty` (relative standard uncertainties)
+
+    Returns
+    -------
+    (name, sigma) : the component's field name and its relative energy uncertainty [-]
+
+    Notes
+    -----
+    A speed component u_i moves the energy by s u_i (s the speed sensitivity); the power
+    curve's u_E is already in energy; the year-to-year variation gives s u_IAV in a single
+    year. The largest of these names the measurement to make next (common practice: reduce
+    the largest term of a root-sum-square first).
+    """
+    s = abs(float(speed_sensitivity)) if np.isfinite(speed_sensitivity) else 0.0
+    terms = {name: s * float(getattr(uncertainty, name)) for name in SPEED_COMPONENTS}
+    terms["energy_power_curve"] = float(uncertainty.energy_power_curve)
+    terms["interannual_speed"] = s * float(uncertainty.interannual_speed)
+    name = max(terms, key=lambda k: (terms[k], k))
+    return name, terms[name]
+
+
+def _option(table):
+    """The row the answer speaks of: the least bad allowed one when none pays back."""
+    ok = table[table["verdict"] != VERDICTS[3]]
+    if len(ok) == 0:
+        return None
+    if not ok["verdict"].isin(VERDICTS[:2]).any() and "npv" in ok:
+        return ok.iloc[int(np.argmax(ok["npv"].to_numpy(dtype=float)))]
+    return ok.iloc[0]
+
+
+def _kwh(v) -> str:
+    return f"{float(v):,.0f} kWh" if np.isfinite(float(v)) else "no figure"
+
+
+def answer_sentences(table, economics, uncertainty) -> tuple[str, str]:
+    """The answer in two sentences: (verdict and money, energy and what to measure next).
+
+    Parameters
+    ----------
+    table : ranked table (verdicts added when missing), best first
+    economics : :class:`engine.core.model.Economics`
+    uncertainty : :class:`engine.core.model.Uncertainty`
+    """
+    if "verdict" not in table:
+        table = add_verdicts(table, economics)
+    if len(table) == 0:
+        return ("There is nothing to judge: the site lists no position or no turbine.",
+                "Add candidate positions and turbines, then assess again.")
+    row = _option(table)
+    if row is None:
+        first = table.iloc[0]
+        return ("None of the options is allowed here: every position and turbine fails a "
+                f"constraint (the first, {first['turbine_id']} at {first['position_id']}: "
+                f"{first['verdict_reason']}).",
+                "No energy figure is given for an option that is not allowed; the ranking "
+                "lists each constraint and the change that would lift it.")
+    name = f"{row['turbine_id']} at {row['position_id']}"
+    ok = table[table["verdict"] != VERDICTS[3]]
+    if not ok["verdict"].isin(VERDICTS[:2]).any():
+        first = (f"None of the options pays back at these prices; the least bad, {name}, "
+                 f"{row['verdict_reason']}.")
+    else:
+        first = f"{name} {row['verdict']}: {row['verdict_reason']}."
+    p50 = row.get("p50_aep_kwh", row.get("aep_kwh", np.nan))
+    p90 = row.get("p90_aep_kwh", np.nan)
+    comp, sigma = largest_uncertainty(row.get("speed_sensitivity", np.nan), uncertainty)
+    second = (f"It would make about {_kwh(p50)} a year (P50; P90 {_kwh(p90)} as a life "
+              f"average); the largest uncertainty in that is {COMPONENT_WORDS[comp]} "
+              f"(±{sigma:.0%} of the energy), so to firm it up, {MEASURE_NEXT[comp]}.")
+    return first, second
+
+
+def answer_for(evaluation) -> tuple[str, str]:
+    """:func:`answer_sentences` of an :class:`engine.chain.pipeline.Evaluation`."""
+    a = evaluation.assessment
+    return answer_sentences(evaluation.table, a.economics, a.uncertainty)
