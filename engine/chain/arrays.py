@@ -27,9 +27,7 @@ import numpy as np
 from engine.climate.weibull import mixture_mean_ms
 from engine.energy import aep as energy
 from engine.flow import effective as flow
-from engine.flow import profiles
 from engine.flow import roofzones
-from engine.flow import transfer
 
 
 @dataclass(frozen=True)
@@ -123,6 +121,8 @@ def ambient_at_hub(climate, roughness_m, displacement_m, hub_height_m, transfer_
                    frontal_area_fraction=None, canopy_height_m=None):
     """Undisturbed climate at each hub over each position's terrain, (P, S) arrays.
 
+    The terrain may be one per position, (P,), or one per position and sector, (P, S)
+    (:func:`engine.flow.effective.ambient_climate`, which the detailed chain calls).
     ``frontal_area_fraction`` and ``canopy_height_m`` (P,) describe the surrounding buildings
     where known (NaN or None elsewhere): below the log law's lowest height the speed and the
     turbulence then follow the in-canopy profile, as in the detailed chain
@@ -134,22 +134,15 @@ def ambient_at_hub(climate, roughness_m, displacement_m, hub_height_m, transfer_
     and scale [m/s] by :func:`engine.flow.transfer.weibull_at_hub`, turbulence intensity of
     the same terrain and profile (:func:`engine.flow.profiles.turbulence_intensity_terrain`)
     """
-    hub = np.asarray(hub_height_m, float)
-    k, free_c = transfer.weibull_at_hub(climate, roughness_m, displacement_m, hub,
-                                        transfer_settings, frontal_area_fraction,
-                                        canopy_height_m)
-    P, S = free_c.shape
-    freq = np.broadcast_to(np.asarray(climate.frequency, float), (P, S)).copy()
-    attenuation = profiles.canopy_attenuation(roughness_m, displacement_m, frontal_area_fraction)
-    ti0 = np.broadcast_to(profiles.turbulence_intensity_terrain(
-        hub, roughness_m, displacement_m, attenuation=attenuation,
-        canopy_height_m=canopy_height_m)[:, None], (P, S)).copy()
-    return freq, k, free_c, ti0
+    terrain = {"roughness_m": roughness_m, "displacement_m": displacement_m,
+               "frontal_area_fraction": frontal_area_fraction, "canopy_height_m": canopy_height_m}
+    return flow.ambient_climate(climate, terrain, hub_height_m, transfer_settings)
 
 
 #: Bases of a screened row's surroundings that describe the buildings around it (so its
 #: canopy is known), as :func:`engine.screening.settings.assessment_for_building` reads them.
-CANOPY_KNOWN_FROM = ("neighbours in the table", "table: area fractions")
+CANOPY_KNOWN_FROM = ("neighbours in the table", "table: area fractions",
+                     "neighbours by sector")
 
 
 def _terrain_canopy(terrain, n):
@@ -160,8 +153,12 @@ def _terrain_canopy(terrain, n):
     known = np.ones(n, bool)
     if "surroundings_from" in terrain:
         known = np.isin(np.asarray(terrain["surroundings_from"], object), CANOPY_KNOWN_FROM)
-    lf = np.where(known, np.asarray(terrain["frontal_area_fraction"], float), np.nan)
-    hc = np.where(known, np.asarray(terrain["surroundings_height_m"], float), np.nan)
+    lf = np.asarray(terrain["frontal_area_fraction"], float)
+    hc = np.asarray(terrain["surroundings_height_m"], float)
+    if lf.ndim == 2:  # per sector: (P, S)
+        known = known[:, None]
+    lf = np.where(known, lf, np.nan)
+    hc = np.where(known, hc, np.nan)
     return lf, hc
 
 
@@ -173,8 +170,9 @@ def roof_climate(roofs, terrain, mast_m, climate, air_density_kgm3, transfer_set
     ----------
     roofs : mapping of (P,) arrays: the block under each position (as :func:`roof_geometry`),
         ``roof_type`` ("flat"/"pitched") and ``id`` (position ids)
-    terrain : mapping with (P,) ``roughness_m`` and ``displacement_m`` of each position's
-        surroundings [m]
+    terrain : mapping with (P,) or (P, S) ``roughness_m`` and ``displacement_m`` of each
+        position's surroundings [m] (and optionally ``frontal_area_fraction``,
+        ``surroundings_height_m``, ``surroundings_from``)
     mast_m : (P,) mast above the roof surface [m]
     climate : :class:`engine.core.model.WindClimate`
     air_density_kgm3 : air density [kg/m³]

@@ -265,6 +265,51 @@ def _run(args, ctx):
     return res
 
 
+#: File endings read as GeoJSON footprints rather than a buildings table.
+FOOTPRINT_SUFFIXES = (".geojson", ".json")
+
+
+def _run_footprints(args, ctx) -> int:
+    """A footprint file: every building's best position to --out, every position to
+    --positions-out (both written whole or not at all)."""
+    from engine.io.footprints import MAX_FOOTPRINT_BYTES
+    from engine.screening.local import write_ranked_csv
+    from engine.screening.positions import screen_footprints
+    if args.workers or args.scheduler:
+        raise InputError([("--workers" if args.workers else "--scheduler",
+                           "must not be given with a footprint file, got one: footprint files "
+                           "are screened on the local engine; leave it out")])
+    if not args.height_field:
+        raise InputError([("--height-field", "must name the footprints' height attribute "
+                                             "(e.g. --height-field height_m), got nothing")])
+    path = Path(args.buildings)
+    regular_file_or_raise(path, "a GeoJSON footprint file")
+    with open(path, "rb") as fh:
+        data = fh.read(MAX_FOOTPRINT_BYTES + 1)
+    if len(data) > MAX_FOOTPRINT_BYTES:
+        raise InputError([(str(path), f"must be at most {MAX_FOOTPRINT_BYTES // 2**20} MiB, "
+                                      "got more; split the file by district")])
+    t0 = time.perf_counter()
+    got = screen_footprints(data, ctx, height_field=args.height_field,
+                            id_field=args.id_field or None, crs=args.crs or None,
+                            spacing_m=args.grid_spacing_m, setback_m=args.setback_m)
+    for where, msg in got.problems:
+        print(f"perch screen: {where}: {msg}", file=sys.stderr)
+    try:
+        write_ranked_csv(got.buildings, args.out)
+        if args.positions_out:
+            write_ranked_csv(got.positions, args.positions_out)
+    except OSError as e:
+        raise OutputWriteError(args.out, e) from None
+    print(f"perch screen: {len(got.buildings)} of {got.n_features} footprints screened at "
+          f"{len(got.positions)} positions in {time.perf_counter() - t0:.1f} s; best position "
+          f"per building written to {args.out}"
+          f"{f', every position to {args.positions_out}' if args.positions_out else ''}",
+          file=sys.stderr)
+    print(f"perch screen: {CAUTION}", file=sys.stderr)
+    return 0 if len(got.buildings) else 2
+
+
 def _report(args, res, seconds: float) -> int:
     for where, msg in res.problems:
         print(f"perch screen: {where}: {msg}", file=sys.stderr)
@@ -284,6 +329,8 @@ def cmd_screen(args) -> int:
     try:
         check_arguments(args)
         ctx = build_context(args.climate, args.turbines)
+        if Path(args.buildings).suffix.lower() in FOOTPRINT_SUFFIXES:
+            return _run_footprints(args, ctx)
         t0 = time.perf_counter()
         res = _run(args, ctx)
         return _report(args, res, time.perf_counter() - t0)
@@ -312,7 +359,8 @@ def cmd_screen(args) -> int:
 def register_screen(sub):
     p = sub.add_parser("screen", help="screen a buildings table (CSV or Parquet) for roofs "
                                       "worth a visit")
-    p.add_argument("buildings", help="buildings table: CSV or Parquet (see docs/screening.md)")
+    p.add_argument("buildings", help="buildings table: CSV or Parquet, or GeoJSON footprints "
+                                     "(.geojson; see docs/screening.md)")
     p.add_argument("--out", required=True, help="ranked table to write (CSV), written whole "
                                                 "or not at all")
     p.add_argument("--workers", type=int, default=None,
@@ -331,6 +379,17 @@ def register_screen(sub):
     p.add_argument("--climate", action="append", metavar="[ZONE=]FILE",
                    help="site file or climate JSON; ZONE=FILE for the rows of one zone "
                         "(repeatable)")
+    p.add_argument("--height-field", default="",
+                   help="footprint files (.geojson): the attribute holding each height [m]")
+    p.add_argument("--id-field", default="", help="footprint files: the attribute of the ids")
+    p.add_argument("--crs", default="", help="footprint files: their CRS when not stated")
+    p.add_argument("--grid-spacing-m", type=float, default=None,
+                   help="footprint files: candidate grid spacing on each roof [m] (default: "
+                        "the roof centre only)")
+    p.add_argument("--setback-m", type=float, default=2.0,
+                   help="footprint files: candidates kept this far from every roof edge [m]")
+    p.add_argument("--positions-out", default="",
+                   help="footprint files: also write every candidate position (CSV)")
     p.add_argument("--quiet", action="store_true", help="no progress line")
     p.add_argument("--debug", action="store_true", help="show the traceback of an internal error")
     p.set_defaults(func=cmd_screen)

@@ -612,13 +612,23 @@ class TransferSettings:
     morphometry_layout: str = "staggered"
     #: Adjust the Weibull shape k with height (Justus & Mikhail 1976); else k is kept.
     adjust_shape_with_height: bool = False
+    #: Roughness and displacement per direction sector from the buildings upwind of each
+    #: position (Macdonald et al. 1998 over a wedge of radius ``sector_fetch_m``,
+    #: engine.flow.sector_roughness); sectors with no building keep the site's own. Off by
+    #: default: the buildings of a site file are seldom all the buildings within the fetch,
+    #: and a sparse wedge reads as smooth ground (faster wind). Turn it on when the buildings
+    #: cover the fetch (e.g. a GIS footprint file).
+    sector_morphometry: bool = False
+    #: Radius of the upwind wedge for ``sector_morphometry`` [m].
+    sector_fetch_m: float = 300.0
 
     def __post_init__(self):
         p = Problems()
         _choice(p, "method", self.method, TRANSFER_METHODS)
         check_range(p, "power_law_exponent", self.power_law_exponent, 0, 0.6, "")
         _choice(p, "morphometry_layout", self.morphometry_layout, MORPHOMETRY_LAYOUTS)
-        for name in ("use_morphometry", "adjust_shape_with_height"):
+        check_range(p, "sector_fetch_m", self.sector_fetch_m, 50, 5000, "m")
+        for name in ("use_morphometry", "adjust_shape_with_height", "sector_morphometry"):
             if not isinstance(getattr(self, name), bool):
                 p.add(name, f"must be true or false, got {getattr(self, name)!r}")
         _raise(p)

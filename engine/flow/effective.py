@@ -19,6 +19,8 @@ from engine.flow import measured_position
 from engine.flow import profiles
 from engine.flow import roofflow
 from engine.flow import roofzones
+# The roof branch's array functions, read from here by the chain and the screening too.
+from engine.flow.roof_arrays import roof_effects, roof_flow, roof_geometry  # noqa: F401
 from engine.flow import shelter
 from engine.flow import spot
 from engine.core.errors import InputError
@@ -96,6 +98,75 @@ def ambient_turbulence_intensity(assessment, hub_height_m):
                                                  **site_canopy(assessment.site, settings))
 
 
+def position_terrain(assessment, px_m, py_m, exclude=None) -> dict:
+    """Terrain around each position: the site's, or per sector from the buildings upwind.
+
+    Parameters
+    ----------
+    assessment : :class:`engine.core.model.Assessment`
+    px_m, py_m : (P,) position on the plan [m]
+    exclude : (P, B) bool, the site's blocks left out of a position's surroundings (the roof
+        it stands on, whose flow the roof models give)
+
+    Returns
+    -------
+    dict: ``roughness_m``, ``displacement_m`` [m], ``frontal_area_fraction`` [-],
+    ``canopy_height_m`` [m] (None where unknown): scalars for the site's own terrain
+    (:func:`engine.flow.transfer.site_roughness`), or (P, S) arrays with
+    ``transfer.sector_morphometry`` on (:func:`engine.flow.sector_roughness.sector_terrain`
+    over the site's buildings within ``transfer.sector_fetch_m``; sectors with no building
+    keep the site's), then also ``from_buildings`` (P, S) bool.
+    """
+    from engine.core.model import TransferSettings
+    from engine.flow import sector_roughness
+    from engine.flow.transfer import site_roughness
+    settings = getattr(assessment, "transfer", None) or TransferSettings()
+    site = assessment.site
+    z0, d, _ = site_roughness(site, settings)
+    own = {"roughness_m": z0, "displacement_m": d,
+           "frontal_area_fraction": site.frontal_area_fraction,
+           "canopy_height_m": site.mean_building_height_m}
+    if not settings.sector_morphometry:
+        return own
+    bldg = buildings.building_arrays(assessment.buildings)
+    lp, lf, hbar = sector_roughness.sector_morphometry_points(
+        px_m, py_m, bldg, len(assessment.climate.frequency), settings.sector_fetch_m, exclude)
+    return sector_roughness.sector_terrain(lp, lf, hbar, own, settings.morphometry_layout)
+
+
+def ambient_climate(climate, terrain: dict, hub_height_m, settings):
+    """Undisturbed climate at each hub over each position's terrain, (P, S) arrays.
+
+    Parameters
+    ----------
+    climate : :class:`engine.core.model.WindClimate`
+    terrain : mapping as :func:`position_terrain` returns (scalars, (P,) or (P, S) arrays)
+    hub_height_m : (P,) hub heights above ground [m]
+    settings : :class:`engine.core.model.TransferSettings`
+
+    Returns
+    -------
+    (frequency, weibull_k, free_c_ms, ambient_ti), each (P, S): sector frequency [-], Weibull
+    shape [-] and scale [m/s] by :func:`engine.flow.transfer.weibull_at_hub`, and the
+    turbulence intensity of the same terrain and in-canopy profile
+    (:func:`engine.flow.profiles.turbulence_intensity_terrain`)
+    """
+    from engine.flow.transfer import weibull_at_hub
+    hub = np.atleast_1d(np.asarray(hub_height_m, float))
+    z0, d = terrain["roughness_m"], terrain["displacement_m"]
+    lf, hc = terrain.get("frontal_area_fraction"), terrain.get("canopy_height_m")
+    k, free_c = weibull_at_hub(climate, z0, d, hub, settings, lf, hc)
+    P, S = free_c.shape
+    freq = np.broadcast_to(np.asarray(climate.frequency, float), (P, S)).copy()
+    per_sector = max(np.ndim(z0), np.ndim(d)) == 2
+    attenuation = profiles.canopy_attenuation(z0, d, lf)
+    ti0 = profiles.turbulence_intensity_terrain(hub[:, None] if per_sector else hub, z0, d,
+                                                attenuation=attenuation, canopy_height_m=hc)
+    ti0 = np.array(np.broadcast_to(ti0 if per_sector else np.broadcast_to(ti0, hub.shape)[:, None],
+                                   (P, S)))
+    return freq, k, free_c, ti0
+
+
 def effective_climate(assessment, air_density_kgm3: float,
                       calibrate_with_spot_readings: bool = True) -> EffectiveClimate:
     """Effective climate of every position: free stream at hub height, then building effects.
@@ -118,8 +189,11 @@ def effective_climate(assessment, air_density_kgm3: float,
     of their own block (:mod:`engine.flow.roofzones`); gap positions the passage concentrator with
     spillage (:mod:`engine.flow.gaps`); every position the wake of the other upwind blocks
     (:mod:`engine.flow.shelter`; a position's own roof and its passage's walls are left out).
+    The terrain is the site's, or with ``transfer.sector_morphometry`` one per position and
+    sector from the buildings upwind (:func:`position_terrain`; diagnostics
+    ``sector_roughness_m``, ``sector_displacement_m``, ``sector_roughness_from_buildings``).
     Turbulence: the ambient intensity on the transfer's own terrain
-    (:func:`ambient_turbulence_intensity`); roof and passage keep the ambient σ_u through
+    (:func:`ambient_climate`); roof and passage keep the ambient σ_u through
     modest speed changes; each model adds its own turbulence in quadrature (see the modules).
 
     **Main energy sectors** (:func:`engine.flow.roofzones.main_energy_sectors`): per position, the
@@ -159,12 +233,10 @@ def effective_climate(assessment, air_density_kgm3: float,
                                      here)
     positions = assessment.positions
     hub = np.array([assessment.hub_height_m(p) for p in positions], dtype=float)
-    k, free_c = free_stream_at_hub(assessment, hub)
-    P, S = free_c.shape
-    freq = np.broadcast_to(np.asarray(assessment.climate.frequency, float), (P, S)).copy()
-    ti0 = np.broadcast_to(ambient_turbulence_intensity(assessment, hub)[:, None], (P, S)).copy()
+    terrain, (freq, k, free_c, ti0) = _undisturbed(assessment, hub)
     sector_deg = np.asarray(assessment.climate.sector_deg, float)
     fx = _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0)
+    fx["diagnostics"].update(_terrain_diagnostics(terrain))
     eff = EffectiveClimate(
         position_ids=tuple(p.id for p in positions), sector_deg=sector_deg,
         hub_height_m=hub, frequency=freq, weibull_k=k, free_c_ms=free_c,
@@ -175,6 +247,15 @@ def effective_climate(assessment, air_density_kgm3: float,
         eff = _with_spot_readings(assessment, eff, calibrate_with_spot_readings)
     _check_physics(eff)
     return eff
+
+
+def _terrain_diagnostics(terrain) -> dict:
+    """The per-sector terrain as diagnostics, when it came from the buildings ({} otherwise)."""
+    if "from_buildings" not in terrain:
+        return {}
+    return {"sector_roughness_m": terrain["roughness_m"],
+            "sector_displacement_m": terrain["displacement_m"],
+            "sector_roughness_from_buildings": terrain["from_buildings"]}
 
 
 def _measured_at_position(assessment, air_density_kgm3, calibrate, here):
@@ -219,6 +300,20 @@ def reference_climate(assessment, air_density_kgm3: float = 1.225):
     # transfer's terrain differs from the site's z0, e.g. by morphometry) times speed-up.
     factor = at_logger.weibull_c_ms[0] / np.asarray(assessment.climate.weibull_c_ms, float)
     return measured_position.free_stream_equivalent(assessment, factor).climate
+def _undisturbed(assessment, hub):
+    """(terrain, ambient climate) of the assessment's positions (see effective_climate)."""
+    from engine.core.model import TransferSettings
+    positions = assessment.positions
+    px = np.array([float(p.x_m) for p in positions])
+    py = np.array([float(p.y_m) for p in positions])
+    ids = {b.id: i for i, b in enumerate(assessment.buildings)}
+    own = np.zeros((len(positions), len(ids)), bool)
+    for i, p in enumerate(positions):
+        if p.kind == "roof" and p.building_id in ids:
+            own[i, ids[p.building_id]] = True
+    settings = getattr(assessment, "transfer", None) or TransferSettings()
+    terrain = position_terrain(assessment, px, py, own)
+    return terrain, ambient_climate(assessment.climate, terrain, hub, settings)
 
 
 def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_m):
@@ -237,125 +332,6 @@ def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_
     need = np.asarray(eff.diagnostics.get("min_clear_mast_m", np.full(eff.n_positions, np.nan)))
     low = (np.asarray(mast_height_m, float)[:, None] - np.asarray(rotor_radius_m, float)[None, :])
     return np.where(np.isfinite(need)[:, None], low < need[:, None] - 1e-9, False)
-
-
-def roof_effects(sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m,
-                 pitched, u_m, v_m, mast_height_m, ambient_ti, main_sector,
-                 clearance_only: bool = False, geometry=None) -> dict:
-    """Roof zones and roof flow at roof positions, vectorised over positions: (P, S) arrays.
-
-    Parameters
-    ----------
-    sector_deg : (S,) sector centres [deg from north, wind from]
-    height_m, length_m, width_m, orientation_deg, parapet_height_m : (P,) the block under each
-        position: eaves height [m], plan size [m], bearing of the length side [deg], parapet [m]
-    pitched : (P,) bool, pitched roof (ridge along the length)
-    u_m, v_m : (P,) position in the block's own axes, from its centre [m]
-    mast_height_m : (P,) mast above the roof surface [m]
-    ambient_ti : (P, S) turbulence intensity of the undisturbed flow at the hub [-]
-    main_sector : (P, S) bool, the main energy sectors
-        (:func:`engine.flow.roofzones.main_energy_sectors`)
-    clearance_only : return only the zone geometry and ``min_clear_mast_m`` (no roof flow)
-    geometry : :func:`roof_geometry` of the same positions when already found (it does not
-        depend on the mast, so a mast search can find it once)
-
-    Returns
-    -------
-    dict: ``roof_scaling_length_m`` R, ``zone_top_m`` (high-turbulence zone's top above the roof
-    surface, parapet included) (P, S) [m], ``min_clear_mast_m`` (P,) [m]; unless
-    ``clearance_only``: ``speed_factor``, ``turbulence_intensity``, ``inflow_skew_deg`` (P, S)
-    and ``clearance`` (dict of (P, S) clearances to the recirculation, turbulence and wake
-    zones [m]).
-
-    Notes
-    -----
-    R = B_s^(2/3) B_L^(1/3) of the windward face (:func:`engine.flow.roofzones.scaling_length_m`,
-    ASHRAE), the roof fetch X from the windward edge to the position
-    (:func:`engine.flow.buildings.roof_fetch_m`), heights above the roof surface z = mast − parapet;
-    the speed-up, turbulence and skew of :mod:`engine.flow.roofflow` with the direction weights of
-    the angle γ between the wind and the ridge's normal (0..90°). Used by
-    :func:`effective_climate` and by the portfolio screening, so both give the same numbers.
-    """
-    geo = geometry if geometry is not None else roof_geometry(
-        sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m, u_m, v_m)
-    out = {"roof_scaling_length_m": geo["roof_scaling_length_m"],
-           "zone_top_m": geo["zone_top_m"],
-           "min_clear_mast_m": roofzones.min_clear_mast_m(geo["zone_top_m"], main_sector)}
-    if clearance_only:
-        return out
-    out.update(roof_flow(geo, sector_deg, orientation_deg, parapet_height_m, pitched,
-                         mast_height_m, ambient_ti))
-    return out
-
-
-def roof_geometry(sector_deg, height_m, length_m, width_m, orientation_deg, parapet_height_m,
-                  u_m, v_m) -> dict:
-    """The mast-independent part of :func:`roof_effects`: scaling length, fetch, zone top.
-
-    Parameters
-    ----------
-    as :func:`roof_effects`
-
-    Returns
-    -------
-    dict of (P, S) arrays [m]: ``roof_scaling_length_m`` R, ``fetch_m`` X (windward edge to
-    the position), ``roof_length_m`` X + X_d (along the wind across the roof), ``zone_top_m``
-    (the high-turbulence zone's top above the roof surface, parapet included), and above the
-    parapet's top ``recirculation_top_m`` and ``zone_top_above_parapet_m``
-
-    Notes
-    -----
-    R = B_s^(2/3) B_L^(1/3) of the windward face (ASHRAE), with the block's eaves height plus
-    parapet as its height; the zone top of :func:`engine.flow.roofzones.turbulence_zone_top_m`.
-    """
-    sector_deg = np.asarray(sector_deg, float)
-    para = np.asarray(parapet_height_m, float)
-    phi = np.asarray(orientation_deg, float)
-    L = np.asarray(length_m, float)
-    W = np.asarray(width_m, float)
-    cross = buildings.crosswind_width_m(L, W, phi, sector_deg)
-    R = roofzones.scaling_length_m((np.asarray(height_m, float) + para)[:, None], cross)
-    X, Xd = buildings.roof_fetch_m(u_m, v_m, L, W, phi, sector_deg)
-    roof_len = X + Xd
-    z1 = roofzones.recirculation_boundary_m(X, R, roof_len)
-    top = np.maximum(z1, roofzones.turbulence_boundary_m(X, R))  # turbulence_zone_top_m
-    return {"roof_scaling_length_m": R, "fetch_m": X, "roof_length_m": roof_len,
-            "zone_top_m": top + para[:, None], "recirculation_top_m": z1,
-            "zone_top_above_parapet_m": top}
-
-
-def roof_flow(geometry: dict, sector_deg, orientation_deg, parapet_height_m, pitched,
-              mast_height_m, ambient_ti) -> dict:
-    """The mast-dependent part of :func:`roof_effects`: speed-up, turbulence, skew, clearances.
-
-    Parameters
-    ----------
-    geometry : :func:`roof_geometry` of the same positions
-    others : as :func:`roof_effects`
-
-    Returns
-    -------
-    dict: ``speed_factor``, ``turbulence_intensity``, ``inflow_skew_deg`` (P, S) and
-    ``clearance`` (dict of (P, S) clearances to the recirculation, turbulence and wake zones [m])
-    """
-    sector_deg = np.asarray(sector_deg, float)
-    phi = np.asarray(orientation_deg, float)
-    X, R, roof_len = geometry["fetch_m"], geometry["roof_scaling_length_m"], \
-        geometry["roof_length_m"]
-    z = (np.asarray(mast_height_m, float) - np.asarray(parapet_height_m, float))[:, None]
-    # Angle between the wind and the ridge's normal (ridge along the length), 0..90 deg.
-    gamma = np.abs(np.mod(sector_deg[None, :] - phi[:, None], 180.0) - 90.0)
-    ds, dt = roofflow.direction_weights(np.asarray(pitched, bool)[:, None], gamma)
-    z1, top = geometry["recirculation_top_m"], geometry["zone_top_above_parapet_m"]
-    s_roof = roofflow.roof_speed_factor(z, X, R, roof_len, ds, recirculation_top_m=z1)
-    return {
-        "speed_factor": s_roof,
-        "turbulence_intensity": roofflow.roof_turbulence_intensity(
-            np.asarray(ambient_ti, float), s_roof, z, X, R, roof_len, dt, zone_top_m=top),
-        "inflow_skew_deg": roofflow.roof_inflow_skew_deg(z, X, R, roof_len,
-                                                         recirculation_top_m=z1),
-        "clearance": roofzones.zone_clearances_m(z, X, R, roof_len, recirculation_top_m=z1,
-                                                 zone_top_m=top)}
 
 
 def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):

@@ -130,3 +130,110 @@ def sector_roughness(buildings, n_sectors: int, fallback_z0_m: float, fallback_d
         z0_b, d_b = morphometric_roughness(lp[have], lf[have], hbar[have], layout)
         z0[have], d[have] = z0_b, d_b
     return z0, d, have
+
+
+def sector_index(bearing_deg, n_sectors: int):
+    """Sector of each bearing [deg]: sector i spans i·w ± w/2, w = 360/n (int array)."""
+    w = 360.0 / int(n_sectors)
+    return np.floor(np.mod(np.asarray(bearing_deg, float) + 0.5 * w, 360.0) / w).astype(
+        np.int64) % int(n_sectors)
+
+
+def sector_morphometry_points(px_m, py_m, bldg, n_sectors: int,
+                              fetch_m: float = DEFAULT_FETCH_M, exclude=None):
+    """Plan and frontal area fractions and mean height upwind of each point, per sector.
+
+    The array form used by the chain (detailed assessment and screening alike): a building
+    counts, whole, in the sector its centre lies in as seen from the point, when its centre is
+    within ``fetch_m``.
+
+    Parameters
+    ----------
+    px_m, py_m : (P,) points the fetch is measured from [m]
+    bldg : :class:`engine.flow.buildings.BuildingArrays` (B blocks)
+    n_sectors : sectors, sector i centred on i·360/n deg (the wind's direction of origin)
+    fetch_m : radius of the upwind wedge [m]
+    exclude : (P, B) bool, blocks left out for a point (the one it stands on)
+
+    Returns
+    -------
+    lambda_p, lambda_f, mean_height_m : (P, n) arrays [-], [-], [m]; NaN height where a wedge
+        holds no building
+
+    Notes
+    -----
+    Over the wedge W_s of area A_W = π r² / n, with the blocks b whose centres lie in W_s:
+    λp = Σ L_b W_b / A_W; λf = Σ H_b w_b(θ_s) / A_W, w_b(θ_s) = L |sin γ| + W |cos γ| the
+    block's crosswind width to the sector's centre direction θ_s; H̄ = Σ L_b W_b H_b / Σ L_b W_b.
+    The whole footprint is counted where its centre is (:func:`sector_morphometry` clips the
+    footprints to the wedge instead; the two agree when the blocks are small beside the
+    fetch, and are tested against each other).
+    """
+    from engine.flow.buildings import crosswind_width_m as block_crosswind_m
+    n = int(n_sectors)
+    px = np.atleast_1d(np.asarray(px_m, float))
+    py = np.atleast_1d(np.asarray(py_m, float))
+    P, B = px.size, bldg.n
+    shape = (P, n)
+    if B == 0:
+        return np.zeros(shape), np.zeros(shape), np.full(shape, np.nan)
+    dx = bldg.x_m[None, :] - px[:, None]
+    dy = bldg.y_m[None, :] - py[:, None]
+    use = np.hypot(dx, dy) <= fetch_m
+    if exclude is not None:
+        use &= ~np.asarray(exclude, bool)
+    # Bearing from the point to the block = the direction a wind it shelters comes from.
+    sec = sector_index(np.degrees(np.arctan2(dx, dy)), n)
+    pi, bi = np.nonzero(use)
+    si = sec[pi, bi]
+    key = pi * n + si
+    area = (bldg.length_m * bldg.width_m)[bi]
+    cross = block_crosswind_m(bldg.length_m, bldg.width_m, bldg.orientation_deg,
+                              np.arange(n) * (360.0 / n))  # (B, n)
+    frontal = bldg.height_m[bi] * cross[bi, si]
+    wedge = math.pi * fetch_m ** 2 / n
+    a_sum = np.bincount(key, area, P * n).reshape(shape)
+    f_sum = np.bincount(key, frontal, P * n).reshape(shape)
+    ah_sum = np.bincount(key, area * bldg.height_m[bi], P * n).reshape(shape)
+    hbar = np.divide(ah_sum, a_sum, out=np.full(shape, np.nan), where=a_sum > 0)
+    return a_sum / wedge, f_sum / wedge, hbar
+
+
+def sector_terrain(lambda_p, lambda_f, mean_height_m, fallback, layout: str = "staggered"):
+    """Terrain per position and sector from upwind area fractions, the fallback elsewhere.
+
+    Parameters
+    ----------
+    lambda_p, lambda_f, mean_height_m : (P, S) of :func:`sector_morphometry_points`
+    fallback : mapping of ``roughness_m``, ``displacement_m``, ``frontal_area_fraction``,
+        ``canopy_height_m``: scalars or (P,) arrays (NaN where unknown), the terrain a sector
+        with no building upwind keeps
+    layout : Macdonald et al. (1998) layout, "staggered" or "square"
+
+    Returns
+    -------
+    dict of (P, S) arrays: ``roughness_m``, ``displacement_m`` [m],
+    ``frontal_area_fraction`` [-], ``canopy_height_m`` [m], ``from_buildings`` (bool)
+
+    Notes
+    -----
+    z0 and d by :func:`engine.flow.transfer.morphometric_roughness`; λp and λf held in
+    [1e-6, 0.95] as the screening's square neighbourhood holds them (Macdonald's range is
+    0 < λp < 1).
+    """
+    lp = np.asarray(lambda_p, float)
+    have = np.isfinite(mean_height_m) & (lp > 0)
+    lp_c = np.clip(lp, 1e-6, 0.95)
+    lf_c = np.clip(np.asarray(lambda_f, float), 1e-6, 0.95)
+    h = np.where(have, mean_height_m, 1.0)
+    z0_b, d_b = morphometric_roughness(lp_c, lf_c, h, layout)
+
+    def fb(name):
+        v = np.asarray(np.nan if fallback.get(name) is None else fallback[name], float)
+        return np.broadcast_to(v[..., None] if v.ndim == 1 else v, lp.shape)
+
+    return {"roughness_m": np.where(have, z0_b, fb("roughness_m")),
+            "displacement_m": np.where(have, d_b, fb("displacement_m")),
+            "frontal_area_fraction": np.where(have, lf_c, fb("frontal_area_fraction")),
+            "canopy_height_m": np.where(have, mean_height_m, fb("canopy_height_m")),
+            "from_buildings": have}

@@ -232,17 +232,18 @@ def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings,
     ----------
     climate : :class:`engine.core.model.WindClimate` at its own height, roughness, displacement
     roughness_m, displacement_m : the terrain at the hub [m], scalars or (P,) (one terrain per
-        position, e.g. per building of a screened table)
+        position, e.g. per building of a screened table), or (P, S) / (1, S) (one terrain per
+        position and sector, :func:`engine.flow.sector_roughness.sector_terrain`)
     hub_height_m : (P,) hub heights above ground [m]
     settings : :class:`engine.core.model.TransferSettings`
-    frontal_area_fraction : λf of that terrain [-], scalar or (P,), for the in-canopy
+    frontal_area_fraction : λf of that terrain [-], of the roughness's shape, for the in-canopy
         attenuation (:func:`engine.flow.profiles.canopy_attenuation`); None when unknown
-    canopy_height_m : mean height of the surrounding buildings [m], scalar or (P,); None
+    canopy_height_m : mean height of the surrounding buildings [m], same shape; None
         when unknown (then only the log law's continuation below z_t)
 
     Notes
     -----
-    c = c_ref · ratio, the ratio by the log law (:func:`engine.flow.profiles.transfer_speed_ratio`)
+    c = c_ref · ratio per sector, the ratio by the log law (:func:`engine.flow.profiles.transfer_speed_ratio`)
     or the power law (:func:`speed_ratio_power_law`). Heights for the shape adjustment are
     heights above the displacement plane, held at 1 m at least (the Justus–Mikhail fit is for
     open-terrain towers). Below z_t = d + z_min, where EN 1991-1-4 §4.3.2 holds the profile
@@ -250,9 +251,13 @@ def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings,
     (:func:`engine.flow.profiles.canopy_factor`, Macdonald 2000) on both sides of the transfer, so
     it keeps falling towards the ground.
     """
-    hub = np.atleast_1d(np.asarray(hub_height_m, float))
     z0 = np.asarray(roughness_m, float)
     d = np.asarray(displacement_m, float)
+    hub = np.atleast_1d(np.asarray(hub_height_m, float))
+    # Per-sector terrain: (P, S) or (1, S) roughness; the hubs become a (P, 1) column.
+    per_sector = max(z0.ndim, d.ndim) == 2
+    if per_sector:
+        hub = hub[:, None]
     attenuation = profiles.canopy_attenuation(z0, d, frontal_area_fraction)
     if settings.method == "power_law":
         # Like EN 1991-1-4, hold the profile at its value at z_min above the displacement plane.
@@ -268,13 +273,19 @@ def weibull_at_hub(climate, roughness_m, displacement_m, hub_height_m, settings,
                                               d, climate.displacement_m,
                                               attenuation_to=attenuation,
                                               canopy_height_to_m=canopy_height_m)
-    ratio = np.broadcast_to(np.asarray(ratio, float), hub.shape)
-    c = np.asarray(climate.weibull_c_ms, float)[None, :] * ratio[:, None]
+    c_ref = np.asarray(climate.weibull_c_ms, float)[None, :]
+    if per_sector:
+        c = c_ref * np.asarray(ratio, float)
+    else:
+        c = c_ref * np.broadcast_to(np.asarray(ratio, float), hub.shape)[:, None]
+    c = np.array(np.broadcast_to(c, (hub.shape[0], c_ref.shape[1])))
     k_ref = np.asarray(climate.weibull_k, float)
     if settings.adjust_shape_with_height:
         z_ref = max(climate.height_m - climate.displacement_m, 1.0)
-        z_hub = np.broadcast_to(np.maximum(hub - d, 1.0), hub.shape)
-        k = shape_justus_mikhail(k_ref[None, :], z_ref, z_hub[:, None])
+        z_hub = np.maximum(hub - d, 1.0)
+        z_hub = z_hub if per_sector else np.broadcast_to(z_hub, hub.shape)[:, None]
+        k = shape_justus_mikhail(k_ref[None, :], z_ref, z_hub)
+        k = np.broadcast_to(k, c.shape)
         k = np.clip(k, 0.5, 10.0)
     else:
         k = np.broadcast_to(k_ref, c.shape).copy()

@@ -101,6 +101,10 @@ def transfer_words(t) -> str:
         words = f" by the {method} method" if method else ""
     if getattr(t, "use_morphometry", False):
         words += f" (Macdonald et al. 1998, {getattr(t, 'morphometry_layout', '')} layout)"
+    if getattr(t, "sector_morphometry", False):
+        words += (f"; per direction sector, roughness and displacement from the site's "
+                  f"buildings within {getattr(t, 'sector_fetch_m', 0):g} m upwind of each "
+                  "position (Macdonald et al. 1998), the site's own where a sector holds none")
     if getattr(t, "adjust_shape_with_height", False):
         words += ", Weibull shape adjusted with height"
     return words

@@ -37,6 +37,8 @@ from engine.screening.neighbourhood import (AREA_QUANTUM, CELL_M, HALF_CELLS, Ne
                                             combine_cell_sums, frontal_area_mean_m2,
                                             neighbourhood_lookup, part_cells, surroundings)
 from engine.screening.passes import ScreeningResult, finish_table
+from engine.screening.positions import (FootprintScreening, best_per_building,
+                                        screen_footprints, screen_positions)
 from engine.screening.settings import (CLASSES, SESSION_KEY, ScreeningContext,
                                        ScreeningSettings, assessment_for_building,
                                        context_from_assessment)
@@ -44,7 +46,8 @@ from engine.screening.table import (NUMERIC_LIMITS, PART_BYTES, PART_ROWS, Part,
                                     table_parts)
 
 __all__ = [
-    "AREA_QUANTUM", "CELL_M", "CLASSES", "HALF_CELLS", "NUMERIC_LIMITS", "Neighbourhood",
+    "AREA_QUANTUM", "CELL_M", "CLASSES", "FootprintScreening", "best_per_building",
+    "screen_footprints", "screen_positions", "HALF_CELLS", "NUMERIC_LIMITS", "Neighbourhood",
     "PART_BYTES", "PART_ROWS", "Part", "RESULT_COLUMNS", "SESSION_KEY", "SURROUNDINGS_FROM",
     "ScreeningContext", "ScreeningResult", "ScreeningSettings", "assessment_for_building",
     "cell_index", "cell_sums", "check_part", "choose_mast_m", "combine_cell_sums",

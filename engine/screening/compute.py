@@ -21,6 +21,12 @@ from engine.screening.checks import good_rows
 from engine.screening.merge import rank_key_arrays, ranking_order
 from engine.screening.neighbourhood import Neighbourhood, surroundings
 from engine.screening.settings import CLASSES, ScreeningContext
+from engine.screening.tiles import sector_surroundings
+
+#: Per-sector surroundings (N, S) -> the chain's terrain keys.
+SECTOR_TERRAIN = {"roughness_m": "sector_roughness_m", "displacement_m": "sector_displacement_m",
+                  "frontal_area_fraction": "sector_frontal_area_fraction",
+                  "surroundings_height_m": "sector_height_m"}
 
 #: Output columns before the per-turbine ones, in order.
 RESULT_COLUMNS = ("rank", "id", "line", "zone", "suitability", "reasons", "best_turbine_id",
@@ -215,6 +221,8 @@ def screen_chunk(rows: dict, sur: dict, climate, air_density_kgm3,
     turbine whose rotor the roof cannot carry (:func:`roof_carries`); the mast is chosen for
     the largest rotor the roof carries
     """
+    if "sector_roughness_m" in sur:  # per sector: the chain takes the (n, S) terrain
+        sur = {**sur, **{k: sur[v] for k, v in SECTOR_TERRAIN.items()}}
     carried = roof_carries(rows, ctx.turbines, ctx.settings)
     radius = np.array([float(t.rotor_radius_m) for t in ctx.turbines])
     # One mast for the largest rotor the roof carries (the largest chosen one where none fits).
@@ -278,13 +286,19 @@ def screen_columns(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourho
                 else rows[c].to_numpy(object)) for c in rows.columns}
     n = len(rows["id"])
     sur = surroundings(rows, nb, ctx.transfer.morphometry_layout)
+    if ctx.transfer.sector_morphometry and nb.blocks is not None:
+        sur = sector_surroundings(rows, sur, nb.blocks, ctx.site, ctx.transfer,
+                                  _sector_count(ctx))
     got = _screen_zones(rows, sur, ctx)
+    sector = {k: sur.pop(v) for k, v in SECTOR_TERRAIN.items() if v in sur}
     net_kwh, cf = got.pop("net_kwh"), got.pop("capacity_factor")
     carried = np.isfinite(net_kwh).any(axis=1)
     best = np.argmax(np.where(np.isfinite(net_kwh), net_kwh, -np.inf), axis=1)
     take = np.arange(n)
     best_aep, best_cf = net_kwh[take, best], cf[take, best]
-    code, reasons = suitability(best_cf, got["mast_height_m"], got["hub_height_m"], sur, rows,
+    # The hub must clear the displacement height of every sector (the deepest wake).
+    deep = {**sur, "displacement_m": sector["displacement_m"].max(axis=1)} if sector else sur
+    code, reasons = suitability(best_cf, got["mast_height_m"], got["hub_height_m"], deep, rows,
                                 ctx, mean_speed_ms=got["mean_speed_ms"], carried=carried)
     best_ids = np.asarray([t.id for t in ctx.turbines], dtype=object)[best]
     best_ids[~carried] = ""
@@ -305,6 +319,18 @@ def screen_columns(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourho
         out[f"aep_kwh_{t.id}"] = net_kwh[:, j]
         out[f"capacity_factor_{t.id}"] = cf[:, j]
     return out
+
+
+def _sector_count(ctx: ScreeningContext) -> int:
+    """Sectors of the context's climates, which per-sector surroundings need to be one."""
+    from engine.core.errors import InputError
+    counts = sorted({len(c.frequency) for c in ctx.climates.values()})
+    if len(counts) != 1:
+        raise InputError([("transfer.sector_morphometry", "needs every zone's climate to "
+                           "have the same number of sectors, got "
+                           f"{', '.join(map(str, counts))}; use one sector count or turn it "
+                           "off")])
+    return counts[0]
 
 
 def rank_results(table: pd.DataFrame) -> pd.DataFrame:

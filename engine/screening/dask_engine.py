@@ -22,6 +22,7 @@ from engine.screening.checks import (check_part, duplicate_problems, origin_from
                                      row_problems)
 from engine.screening.compute import empty_result, rank_results, result_columns, screen_part
 from engine.screening.merge import block_rows_for, merge_sorted_parts, spill_dir
+from engine.screening.tiles import combine_blocks, part_blocks
 from engine.screening.neighbourhood import (combine_anchors, combine_cell_sums,
                                             neighbourhood_lookup)
 from engine.screening.passes import (OutputWriteError, ScreeningResult, bad_rows_frame,
@@ -172,6 +173,9 @@ def screen_dask(source, ctx: ScreeningContext, client, part_bytes: int = None,
         rejected = duplicate_lines(facts)
         anchor = combine_anchors([f["anchor"] for f in facts])
         nb, dups = _neighbourhood(client, checked, rejected, anchor)
+        if ctx.transfer.sector_morphometry:
+            nb = replace(nb, blocks=combine_blocks(dask.compute(
+                *[dask.delayed(part_blocks)(d, rejected) for d in checked.to_delayed()])))
         bad = bad_rows_frame([f["bad"] for f in facts], dups)
         n_rows = int(sum(f["n"] for f in facts))
         del facts

@@ -26,6 +26,7 @@ from engine.screening.compute import (empty_result, rank_results, result_columns
                                       result_frame, screen_columns, screen_part)
 from engine.screening.merge import (block_rows_for, descending_aep_key, merge_sorted_parts,
                                     ranking_order, spill_dir)
+from engine.screening.tiles import combine_blocks, part_blocks
 from engine.screening.neighbourhood import (combine_anchors, combine_cell_sums,
                                             neighbourhood_lookup, part_anchor, part_cells)
 from engine.screening.passes import (OutputWriteError, ScreeningResult, bad_rows_frame,
@@ -95,6 +96,8 @@ def _screen_in_memory(parts, ctx: ScreeningContext, tell) -> ScreeningResult:
     anchor = combine_anchors([part_anchor(c) for c in checked])
     nb = neighbourhood_lookup(combine_cell_sums([part_cells(c, rejected, anchor)
                                                  for c in checked]), anchor=anchor)
+    if ctx.transfer.sector_morphometry:
+        nb = replace(nb, blocks=combine_blocks([part_blocks(c, rejected) for c in checked]))
     tell(0.3, "surroundings summed")
     results = []
     for i, c in enumerate(checked):
@@ -126,18 +129,24 @@ def _streamed_facts(parts, ctx: ScreeningContext, tell):
     return ctx, facts, origin
 
 
-def _streamed_neighbourhood(parts, zones, origin, rejected, anchor):
-    """Second pass: cell sums added part by part (whole numbers), and the duplicates' rows."""
-    cells, dup_parts = None, []
+def _streamed_neighbourhood(parts, zones, origin, rejected, anchor, with_blocks=False):
+    """Second pass: cell sums added part by part (whole numbers), and the duplicates' rows;
+    ``with_blocks`` also gathers every good building (per-sector surroundings)."""
+    cells, dup_parts, blocks = None, [], []
     for p in parts:
-        part_cells_, part_dups = cells_and_ids(read_check(p, zones, origin), rejected, anchor)
+        checked = read_check(p, zones, origin)
+        part_cells_, part_dups = cells_and_ids(checked, rejected, anchor)
+        if with_blocks:
+            blocks.append(part_blocks(checked, rejected))
         cells = combine_cell_sums(([cells] if cells is not None else []) + [part_cells_])
         dup_parts.append(part_dups)
     if cells is None:
         cells = combine_cell_sums([])
     dup_rows = pd.concat(dup_parts, ignore_index=True)
-    return (neighbourhood_lookup(cells, anchor=anchor),
-            duplicate_problems(dup_rows["id"], dup_rows["line"]))
+    nb = neighbourhood_lookup(cells, anchor=anchor)
+    if with_blocks:
+        nb = replace(nb, blocks=combine_blocks(blocks))
+    return nb, duplicate_problems(dup_rows["id"], dup_rows["line"])
 
 
 def _screen_streamed(parts, ctx: ScreeningContext, out_csv: Path, tell) -> ScreeningResult:
@@ -145,7 +154,8 @@ def _screen_streamed(parts, ctx: ScreeningContext, out_csv: Path, tell) -> Scree
     zones = ctx.zones()
     rejected = duplicate_lines(facts)
     anchor = combine_anchors([f["anchor"] for f in facts])
-    nb, dups = _streamed_neighbourhood(parts, zones, origin, rejected, anchor)
+    nb, dups = _streamed_neighbourhood(parts, zones, origin, rejected, anchor,
+                                       ctx.transfer.sector_morphometry)
     bad, n_bad = listed_bad_rows(facts, dups)
     n_rows = int(sum(f["n"] for f in facts))
     del facts

@@ -134,6 +134,9 @@ class Neighbourhood:
     area_height: np.ndarray  # (C,) int64 area x height in quanta
     lot_area_m2: float
     anchor: tuple = (0.0, 0.0)  # [m] where cell (0, 0) starts
+    #: Every good building of the table (:class:`engine.screening.tiles.TableBlocks`) when
+    #: the surroundings are found per sector (``transfer.sector_morphometry``), else None.
+    blocks: object = None
 
     def at(self, x_m, y_m):
         """Plan area fraction, frontal area fraction, mean height [m] around each point.
@@ -261,7 +264,7 @@ def surroundings(rows: pd.DataFrame, nb: Neighbourhood, layout: str = "staggered
 
 #: Basis of a row's surroundings (:func:`surroundings`), by precedence index.
 SURROUNDINGS_FROM = np.array(["neighbours in the table", "table: area fractions",
-                              "table: terrain category", "table: roughness length"],
-                             dtype=object)
+                              "table: terrain category", "table: roughness length",
+                              "neighbours by sector"], dtype=object)
 
 

@@ -191,6 +191,12 @@ def assessment_for_building(row, ctx: ScreeningContext) -> model.Assessment:
     """
     from_fractions = str(row["surroundings_from"]) in ("neighbours in the table",
                                                        "table: area fractions")
+    if str(row["surroundings_from"]) == "neighbours by sector":
+        raise InputError([("surroundings_from", "must not be 'neighbours by sector' here, got "
+                                                "it: a row screened with per-sector "
+                                                "surroundings is assessed in detail with its "
+                                                "neighbours (open the footprint file's site) "
+                                                "or with transfer.sector_morphometry off")])
     site = replace(
         ctx.site, name=f"{ctx.site.name}: building {row['id']}"[:200],
         terrain_roughness_m=float(row["roughness_m"]), displacement_m=float(row["displacement_m"]),

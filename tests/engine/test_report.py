@@ -657,3 +657,12 @@ def test_export_names_match_the_dashboard(demo):
     assert dash_exports.export_names(a) == names
     assert dash_exports.file_stem(a) + ".perch.json" == names["site"]
     assert dash_exports.file_stem(a) + "-ranking.csv" == names["rank_csv"]
+
+
+def test_summary_says_when_the_terrain_is_per_sector():
+    """The assumptions name the per-sector terrain and its fetch, so the number is traceable."""
+    from engine.core.model import TransferSettings
+    from engine.report.words import transfer_words
+    on = transfer_words(TransferSettings(sector_morphometry=True, sector_fetch_m=250.0))
+    assert "per direction sector" in on and "250 m" in on
+    assert "sector" not in transfer_words(TransferSettings())

@@ -1,0 +1,199 @@
+"""Screening from GIS footprints: candidate positions on every roof, the best one per building.
+
+A GeoJSON footprint file (:func:`engine.io.footprints.read_footprints`: polygons with a height,
+in any CRS, onto a local plan, each footprint as its oriented rectangle) becomes a buildings
+table, which the screening takes as it takes a CSV (surroundings, classes and ranking
+unchanged). Each roof then gets candidate positions (:func:`engine.flow.roof_candidates.
+roof_candidate_arrays`: the centre and, with a spacing, a grid set back from the edges), each
+with its own mast, the shortest that keeps the largest carried rotor clear of the roof's
+high-turbulence zone (:func:`engine.screening.compute.screen_chunk`, the screening's own mast
+search and the chain's array entry). The output is a table per position and a table per
+building holding its best position (best class, then the larger net AEP, then the position id).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from engine.climate import air
+from engine.core.errors import InputError
+from engine.flow.roof_candidates import DEFAULT_SETBACK_M, roof_candidate_arrays
+from engine.screening.compute import screen_chunk, suitability
+from engine.screening.merge import descending_aep_key, ranking_order
+from engine.screening.neighbourhood import SURROUNDINGS_FROM
+from engine.screening.settings import CLASSES, ScreeningContext
+from engine.screening.tiles import combine_blocks, sector_surroundings
+
+#: Building columns a position row carries from its block.
+BLOCK_FIELDS = ("x_m", "y_m", "length_m", "width_m", "height_m", "orientation_deg",
+                "roof_type", "roof_pitch_deg", "parapet_height_m")
+#: Surroundings columns of the screened table a position inherits from its building.
+SURROUNDINGS_FIELDS = ("plan_area_fraction", "frontal_area_fraction", "surroundings_height_m",
+                       "roughness_m", "displacement_m", "surroundings_from")
+
+
+@dataclass(frozen=True)
+class FootprintScreening:
+    """Per position and per building (its best position) results of a footprint screening."""
+
+    positions: pd.DataFrame
+    buildings: pd.DataFrame
+    problems: tuple  # (where, message) of the features that could not be read
+    n_features: int
+
+
+def footprint_frame(footprints) -> pd.DataFrame:
+    """A screening buildings table (DataFrame) from a :class:`~engine.io.footprints.FootprintSet`."""
+    b = footprints.buildings
+    return pd.DataFrame({
+        "id": [x.id for x in b], "x_m": [x.x_m for x in b], "y_m": [x.y_m for x in b],
+        "length_m": [x.length_m for x in b], "width_m": [x.width_m for x in b],
+        "height_m": [x.height_m for x in b], "orientation_deg": [x.orientation_deg for x in b],
+        "roof_type": [x.roof_type for x in b], "roof_pitch_deg": [x.roof_pitch_deg for x in b],
+        "parapet_height_m": [x.parapet_height_m for x in b]})
+
+
+def _position_rows(table: pd.DataFrame, spacing_m, setback_m):
+    """(rows, sur) dicts of (N,) arrays for every candidate on the screened buildings."""
+    blk, u, v = roof_candidate_arrays(table["length_m"].to_numpy(float),
+                                      table["width_m"].to_numpy(float), spacing_m, setback_m)
+    take = lambda c: table[c].to_numpy()[blk]  # noqa: E731
+    rows = {c: take(c) for c in BLOCK_FIELDS}
+    rows["roof_type"] = np.asarray(rows["roof_type"], object)
+    rows.update(u_m=u, v_m=v, zone=np.asarray(take("zone"), object))
+    ids = table["id"].to_numpy(object)[blk]
+    within = np.arange(blk.size) - np.searchsorted(blk, blk)
+    rows["building_id"] = ids
+    rows["id"] = np.array([f"{i}-p{k}" for i, k in zip(ids, within)], dtype=object)
+    sur = {c: take(c) for c in SURROUNDINGS_FIELDS}
+    sur["surroundings_from"] = np.asarray(sur["surroundings_from"], object)
+    return rows, sur, blk
+
+
+def screen_positions(table: pd.DataFrame, ctx: ScreeningContext, spacing_m=None,
+                     setback_m: float = DEFAULT_SETBACK_M, blocks_frame=None) -> pd.DataFrame:
+    """Screen candidate positions on the roofs of an already screened buildings table.
+
+    Parameters
+    ----------
+    table : the ranked table of :func:`engine.screening.screen_local` (its surroundings)
+    ctx : the context it was screened with (one climate: the default zone's)
+    spacing_m, setback_m : candidate grid (:func:`engine.flow.roof_candidates.
+        roof_candidate_arrays`); only the roof centres when ``spacing_m`` is None
+    blocks_frame : the buildings table itself, for per-sector surroundings
+        (``transfer.sector_morphometry``): each position takes its building's sectors
+
+    Returns
+    -------
+    DataFrame, one row per position: ``position_id``, ``building_id``, plan ``x_m``, ``y_m``,
+    offsets ``u_m``, ``v_m`` in the block's axes, ``mast_height_m``, ``hub_height_m``,
+    ``mean_speed_ms``, ``suitability``, ``reasons``, ``best_turbine_id``, ``best_aep_kwh``,
+    ``best_capacity_factor`` and ``aep_kwh_<turbine>``
+    """
+    if "" not in ctx.climates:
+        raise InputError([("climate", "footprint screening needs a default climate (footprints "
+                                      "carry no zone); give --climate FILE")])
+    rows, sur, _ = _position_rows(table, spacing_m, setback_m)
+    if ctx.transfer.sector_morphometry and blocks_frame is not None:
+        blocks = combine_blocks([blocks_frame[["x_m", "y_m", "length_m", "width_m", "height_m",
+                                               "orientation_deg"]].astype(float)])
+        # The building's own sectors, found again from the table (the screened table keeps
+        # only their means).
+        src = sur["surroundings_from"]
+        again = np.where(src == SURROUNDINGS_FROM[4], SURROUNDINGS_FROM[0], src)
+        sur = sector_surroundings(rows, {**sur, "surroundings_from": again}, blocks, ctx.site,
+                                  ctx.transfer, len(ctx.climates[""].frequency))
+    # The plan position of each candidate from its block's axes (u along the length).
+    phi = np.radians(np.asarray(rows["orientation_deg"], float))
+    px = rows["x_m"] + rows["u_m"] * np.sin(phi) + rows["v_m"] * np.cos(phi)
+    py = rows["y_m"] + rows["u_m"] * np.cos(phi) - rows["v_m"] * np.sin(phi)
+    got = _chunked(rows, sur, ctx)
+    net, cf = got["net_kwh"], got["capacity_factor"]
+    carried = np.isfinite(net).any(axis=1)
+    best = np.argmax(np.where(np.isfinite(net), net, -np.inf), axis=1)
+    n = len(best)
+    best_aep, best_cf = net[np.arange(n), best], cf[np.arange(n), best]
+    flat = {k: (v.mean(axis=1) if np.ndim(v) == 2 else v) for k, v in sur.items()
+            if not k.startswith("sector_")}
+    if "sector_displacement_m" in sur:
+        flat["displacement_m"] = sur["sector_displacement_m"].max(axis=1)
+    code, reasons = suitability(best_cf, got["mast_height_m"], got["hub_height_m"], flat, rows,
+                                ctx, mean_speed_ms=got["mean_speed_ms"], carried=carried)
+    ids = np.asarray([t.id for t in ctx.turbines], dtype=object)[best]
+    ids[~carried] = ""
+    out = {"position_id": rows["id"], "building_id": rows["building_id"], "x_m": px, "y_m": py,
+           "u_m": rows["u_m"], "v_m": rows["v_m"], "min_clear_mast_m": got["min_clear_mast_m"],
+           "mast_height_m": got["mast_height_m"], "hub_height_m": got["hub_height_m"],
+           "mean_speed_ms": got["mean_speed_ms"], "suitability_code": code,
+           "suitability": np.asarray(CLASSES, dtype=object)[code], "reasons": reasons,
+           "best_turbine_id": ids, "best_aep_kwh": best_aep, "best_capacity_factor": best_cf}
+    for j, t in enumerate(ctx.turbines):
+        out[f"aep_kwh_{t.id}"] = net[:, j]
+    return pd.DataFrame(out)
+
+
+def _chunked(rows, sur, ctx):
+    """:func:`engine.screening.compute.screen_chunk` over chunks of positions (one climate)."""
+    n, T = len(rows["id"]), len(ctx.turbines)
+    rho = air.site_air_density_kgm3(ctx.site)
+    out = None
+    step = int(ctx.settings.chunk_rows)
+    for a in range(0, n, step):
+        sl = slice(a, min(a + step, n))
+        got = screen_chunk({k: v[sl] for k, v in rows.items()},
+                           {k: v[sl] for k, v in sur.items()}, ctx.climates[""], rho, ctx)
+        if out is None:
+            out = {k: np.empty((n,) + np.shape(v)[1:]) for k, v in got.items()}
+        for k, v in got.items():
+            out[k][sl] = v
+    if out is None:
+        out = {k: np.empty(0) for k in ("min_clear_mast_m", "mast_height_m", "hub_height_m",
+                                        "mean_speed_ms")}
+        out.update(net_kwh=np.empty((0, T)), capacity_factor=np.empty((0, T)))
+    return out
+
+
+def best_per_building(positions: pd.DataFrame) -> pd.DataFrame:
+    """Each building's best position: best class, then larger net AEP, then position id.
+
+    Returns the position rows (one per building), ranked the same way, ``rank`` from 1.
+    """
+    order = ranking_order(positions["suitability_code"].to_numpy(np.int64),
+                          descending_aep_key(positions["best_aep_kwh"].to_numpy(float)),
+                          positions["position_id"].to_numpy(object))
+    ranked = positions.take(order)
+    best = ranked[~ranked["building_id"].duplicated()].reset_index(drop=True)
+    best.insert(0, "rank", np.arange(1, len(best) + 1, dtype=np.int64))
+    best.insert(2, "n_positions", positions.groupby("building_id").size()
+                .reindex(best["building_id"]).to_numpy())
+    return best
+
+
+def screen_footprints(data: bytes, ctx: ScreeningContext, *, height_field: str,
+                      id_field=None, crs=None, spacing_m=None,
+                      setback_m: float = DEFAULT_SETBACK_M) -> FootprintScreening:
+    """Screen a GeoJSON footprint file: every building, candidate positions on every roof.
+
+    Parameters
+    ----------
+    data : the file's bytes
+    ctx : climate, turbines and settings (its default climate serves every footprint)
+    height_field, id_field, crs : as :func:`engine.io.footprints.read_footprints`
+    spacing_m, setback_m : candidate grid on each roof [m]; only the centre when None
+
+    Returns
+    -------
+    :class:`FootprintScreening`; the features that could not be read are listed in
+    ``problems`` with their fix (the rest are screened).
+    """
+    from engine.io.footprints import read_footprints
+    from engine.screening.local import screen_local
+    fs = read_footprints(data, height_field=height_field, id_field=id_field, crs=crs)
+    frame = footprint_frame(fs)
+    res = screen_local(frame, ctx)
+    pos = screen_positions(res.table, ctx, spacing_m, setback_m, blocks_frame=frame)
+    return FootprintScreening(positions=pos, buildings=best_per_building(pos),
+                              problems=tuple(fs.problems) + tuple(res.problems),
+                              n_features=len(fs.buildings))
