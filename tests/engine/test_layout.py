@@ -30,7 +30,7 @@ OPEN_CYCLES = set()
 OPEN_PRIVATE_USES = set()
 OPEN_LONG_MODULES = {"engine.core.model"}
 OPEN_LONG_FUNCTIONS = {"engine.chain.pipeline.energy_table", "engine.climate.qc.run_qc",
-                       "engine.flow.effective._building_effects", "engine.io.records.read_record"}
+                       "engine.flow.effective._building_effects"}
 
 
 def _module_name(path: Path) -> str:
