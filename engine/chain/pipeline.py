@@ -47,21 +47,35 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     money and CO2 use the net (P50) energy (:mod:`engine.energy.economics`).
     """
     turbines = assessment.turbines
-    P, T = eff.n_positions, len(turbines)
-    rho = eff.air_density_kgm3
     # The yield step the screening shares (engine.chain.arrays): energy, mean speed, TI.
     at_hub = arrays.position_yields(eff, turbines, assessment.losses, assessment.energy)
     y = at_hub.yields
-    rated_w = y.rated_power_w
-    gross_kwh = y.gross_wh / 1000.0
-    net_kwh = y.net_wh / 1000.0
     pv = uncertainty.exceedance_table(y.setup, y.net_wh, uncertainty.with_climate(
         assessment.uncertainty, assessment.climate), assessment.economics.lifetime_years,
         gross_wh=y.bins_gross_wh)  # the climate's long-term correction can raise σ_LT
+    mast = np.array([float(p.mast_height_m) for p in assessment.positions])
+    ld = loads.turbine_loads(turbines, mast, eff.air_density_kgm3)
+    ti_mean = np.sum(eff.frequency * eff.turbulence_intensity, axis=-1)  # (P,)
+    rows = _energy_rows(assessment, eff, at_hub, pv, mast)
+    rows.update(_flow_and_load_rows(eff, at_hub.mean_speed_ms, _load_columns(ld, ti_mean),
+                                    ti_mean, len(turbines)))
+    rows.update(_diagnostic_rows(eff, len(turbines)))
+    rows.update(_clearance_rows(eff, turbines, mast))
+    df = pd.DataFrame(rows)
+    _add_neighbour_and_monthly_columns(df, assessment, eff, y)
+    df["flags"] = _row_flags(eff, rows["ti_above_class_design"], ti_mean, ld["design_ti"],
+                             len(turbines))
+    return df
+
+
+def _energy_rows(assessment, eff, at_hub, pv, mast) -> dict:
+    """Ids, heights, yield, P-values, the yield cross-checks and money, one entry per row."""
+    turbines, pos = assessment.turbines, assessment.positions
+    P, T = eff.n_positions, len(turbines)
+    y = at_hub.yields
+    gross_kwh = y.gross_wh / 1000.0
+    net_kwh = y.net_wh / 1000.0
     mean_ms = at_hub.mean_speed_ms  # (P,)
-    pos = assessment.positions
-    mast = np.array([float(p.mast_height_m) for p in pos])
-    ld = loads.turbine_loads(turbines, mast, rho)
     k_mean = np.sum(eff.frequency * eff.weibull_k, axis=-1)  # (P,) shape of hourly speeds
     money = economics.position_money(net_kwh, mean_ms, k_mean, [p.kind for p in pos], mast,
                                      turbines, assessment.economics,
@@ -76,7 +90,7 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
         "gross_aep_kwh": gross_kwh.ravel(),
         "aep_kwh": net_kwh.ravel(),
         "capacity_factor": y.capacity_factor.ravel(),
-        "rated_power_kw": np.tile(rated_w / 1000.0, P),
+        "rated_power_kw": np.tile(y.rated_power_w / 1000.0, P),
         "full_load_hours": y.full_load_hours.ravel(),
         "p50_aep_kwh": net_kwh.ravel(),
         # P75/P90 of the average year over the project life (names kept); one year beside it.
@@ -87,43 +101,79 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     }
     rows.update(_yield_columns(y, pv, assessment))
     rows.update({name: arr.ravel() for name, arr in money.items()})
-    ti_mean = np.sum(eff.frequency * eff.turbulence_intensity, axis=-1)
-    load_cols = _load_columns(ld, ti_mean)
-    rows.update({name: load_cols.pop(name) for name in
-                 ("thrust_rated_n", "thrust_extreme_n", "mast_base_moment_nm")})
+    return rows
+
+
+def _flow_and_load_rows(eff, mean_ms, load_cols, ti_mean, T) -> dict:
+    """Thrusts and moment, speed-up over the free stream, mean TI, then the other load columns.
+
+    ``speedup`` is the mean hub speed over the free stream's mean speed at the same height [-].
+    """
+    out = {name: load_cols.pop(name) for name in
+           ("thrust_rated_n", "thrust_extreme_n", "mast_base_moment_nm")}
     free_mean = mixture_mean_ms(eff.frequency, eff.weibull_k, eff.free_c_ms)
-    rows["speedup"] = np.repeat(mean_ms / free_mean, T)
-    rows["turbulence_intensity"] = np.repeat(ti_mean, T)
-    rows.update(load_cols)
-    # Per-position diagnostics of the building models become columns (shape (P,) only).
+    out["speedup"] = np.repeat(mean_ms / free_mean, T)
+    out["turbulence_intensity"] = np.repeat(ti_mean, T)
+    out.update(load_cols)
+    return out
+
+
+def _diagnostic_rows(eff, T) -> dict:
+    """Per-position diagnostics of the building models as columns (shape (P,) only)."""
+    P = eff.n_positions
+    out = {}
     for name, arr in eff.diagnostics.items():
         arr = np.asarray(arr)
         if arr.shape == (P,):
-            rows[name] = np.repeat(arr, T)
+            out[name] = np.repeat(arr, T)
+    return out
+
+
+def _clearance_rows(eff, turbines, mast) -> dict:
+    """Mast that lifts the whole rotor out of the roof's turbulent zone [m], and whether it is in.
+
+    The whole rotor must clear the zone: mast - r >= ``min_clear_mast_m``
+    (:mod:`engine.flow.effective`); no columns when that diagnostic is not per position.
+    """
+    P = eff.n_positions
     need = np.asarray(eff.diagnostics.get("min_clear_mast_m", np.full(P, np.nan)), float)
-    if need.shape == (P,):
-        # The whole rotor must clear the zone: mast - r >= min_clear_mast_m (engine.flow.effective).
-        radius = np.array([t.rotor_radius_m for t in turbines], float)
-        clear_mast = need[:, None] + radius[None, :]
-        rows["mast_to_clear_turbulence_m"] = clear_mast.ravel()
-        rows["rotor_in_turbulence_zone"] = np.where(
-            np.isfinite(clear_mast), mast[:, None] < clear_mast - 1e-9, False).ravel()
-    df = pd.DataFrame(rows)
-    # Noise by wind speed, flicker, local rules, certification, vibration (engine.chain.neighbours).
+    if need.shape != (P,):
+        return {}
+    radius = np.array([t.rotor_radius_m for t in turbines], float)
+    clear_mast = need[:, None] + radius[None, :]
+    return {
+        "mast_to_clear_turbulence_m": clear_mast.ravel(),
+        "rotor_in_turbulence_zone": np.where(
+            np.isfinite(clear_mast), mast[:, None] < clear_mast - 1e-9, False).ravel(),
+    }
+
+
+def _add_neighbour_and_monthly_columns(df, assessment, eff, y) -> None:
+    """Noise by wind speed, flicker, local rules, certification, vibration, then monthly yield.
+
+    The first come from :mod:`engine.chain.neighbours`; ``monthly_aep_kwh`` (twelve values
+    a row [kWh]) only when the climate has monthly mean speeds. Adds to ``df`` in place.
+    """
     for name, values in neighbours.consent_columns(assessment, eff, df).items():
         df[name] = values
     months = assessment.climate.monthly_mean_ms
     if months:
+        P, T = y.net_wh.shape
         monthly = energy.monthly_energy_wh(y.net_wh, months, assessment.climate,
                                            y.setup) / 1000.0
         df["monthly_aep_kwh"] = list(monthly.reshape(P * T, 12).tolist())
-    df["flags"] = [list(eff.flags[i]) if eff.flags else [] for i in np.repeat(np.arange(P), T)]
-    for r in np.flatnonzero(rows["ti_above_class_design"]):
-        df.at[r, "flags"] = df.at[r, "flags"] + [
+
+
+def _row_flags(eff, ti_above, ti_mean, design_ti, T) -> list:
+    """Each row's flags: its position's flags, then a note where the TI is above the class's."""
+    P = eff.n_positions
+    flags = [list(eff.flags[i]) if eff.flags else [] for i in np.repeat(np.arange(P), T)]
+    for r in np.flatnonzero(ti_above):
+        flags[r] = flags[r] + [
             f"turbulence intensity {ti_mean[r // T]:.2f} above the IEC 61400-2 class design "
-            f"value {ld['design_ti'][r % T]:.2f}: ask the maker whether the turbine is rated "
+            f"value {design_ti[r % T]:.2f}: ask the maker whether the turbine is rated "
             "for it"]
-    return df
+    return flags
 
 
 def _yield_columns(y, pv, assessment) -> dict:
