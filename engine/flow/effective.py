@@ -335,30 +335,53 @@ def rotor_in_turbulence_zone(eff: EffectiveClimate, mast_height_m, rotor_radius_
 
 
 def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
-    """Roof, passage and wake models for every position and sector (see effective_climate)."""
-    positions = assessment.positions
+    """Roof, passage and wake models for every position and sector (see effective_climate).
+
+    Each step works on the same (P, S) speed factor, turbulence intensity and skew: the roof
+    effects on roof positions, the passage flow on gap positions, then the wakes of the other
+    buildings on every position, and last the per-position summary and flags.
+    """
     P, S = free_c.shape
     bldg = buildings.building_arrays(assessment.buildings)
-    ids = {b: i for i, b in enumerate(bldg.ids)}
-    kind = np.array([p.kind for p in positions])
-    px = np.array([float(p.x_m) for p in positions])
-    py = np.array([float(p.y_m) for p in positions])
-    mast = np.array([float(p.mast_height_m) for p in positions])
-    own = np.array([ids.get(p.building_id, -1) if p.kind == "roof" else -1 for p in positions])
-    ga = np.array([ids[p.gap_buildings[0]] if p.kind == "gap" else -1 for p in positions])
-    gb = np.array([ids[p.gap_buildings[1]] if p.kind == "gap" else -1 for p in positions])
-    exclude = np.zeros((P, bldg.n), bool)
-    for col in (own, ga, gb):
-        rows = np.flatnonzero(col >= 0)
-        exclude[rows, col[rows]] = True
-
+    where = _position_layout(assessment.positions, bldg)
     share = roofzones.sector_energy_share(freq, k, free_c)
     main = roofzones.main_energy_sectors(share)
     top = np.argmax(share, axis=1)
+    fx = _no_building_effects(P, S, ti0, share, main)
+    _apply_roofs(fx, where, bldg, sector_deg, ti0, main)
+    _apply_gaps(fx, where, bldg, sector_deg, hub, share, top)
+    sh = shelter.shelter(where["x_m"], where["y_m"], hub, bldg, sector_deg, where["exclude"])
+    fx["ti"] = np.hypot(fx["ti"], sh["added_ti"])
+    fx["speed"] = fx["speed"] * sh["speed_factor"]
+    fx["diag"]["shelter_speed_factor"] = sh["speed_factor"]
+    flags = _summarise_effects(fx, where["kind"], sh, share, main, top, bldg.ids)
+    return {"speed_factor": fx["speed"], "turbulence_intensity": fx["ti"],
+            "inflow_skew_deg": fx["skew"], "flags": flags, "diagnostics": fx["diag"]}
 
-    speed = np.ones((P, S))
-    ti = ti0.copy()
-    skew = np.zeros((P, S))
+
+def _position_layout(positions, bldg) -> dict:
+    """Kinds, plan coordinates [m], masts [m] and the buildings each position belongs to.
+
+    ``own``, ``gap_a`` and ``gap_b`` are building indices (-1 where none); ``exclude`` (P, B)
+    marks the buildings whose wake a position does not feel (its own roof, its passage walls).
+    """
+    ids = {b: i for i, b in enumerate(bldg.ids)}
+    own = np.array([ids.get(p.building_id, -1) if p.kind == "roof" else -1 for p in positions])
+    ga = np.array([ids[p.gap_buildings[0]] if p.kind == "gap" else -1 for p in positions])
+    gb = np.array([ids[p.gap_buildings[1]] if p.kind == "gap" else -1 for p in positions])
+    exclude = np.zeros((len(positions), bldg.n), bool)
+    for col in (own, ga, gb):
+        rows = np.flatnonzero(col >= 0)
+        exclude[rows, col[rows]] = True
+    return {"kind": np.array([p.kind for p in positions]),
+            "x_m": np.array([float(p.x_m) for p in positions]),
+            "y_m": np.array([float(p.y_m) for p in positions]),
+            "mast_m": np.array([float(p.mast_height_m) for p in positions]),
+            "own": own, "gap_a": ga, "gap_b": gb, "exclude": exclude}
+
+
+def _no_building_effects(P, S, ti0, share, main) -> dict:
+    """The working arrays before any building acts: speed factor 1, ambient TI, no skew."""
     nan_ps = np.full((P, S), np.nan)
     diag = {
         "energy_share": share, "main_sector": main, "zone_top_m": nan_ps.copy(),
@@ -366,84 +389,95 @@ def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
         "clearance_wake_m": nan_ps.copy(), "roof_scaling_length_m": nan_ps.copy(),
         "gap_wall_force_per_q_m2": nan_ps.copy(),
     }
-    in_rec_ps = np.zeros((P, S), bool)
-    in_turb_ps = np.zeros((P, S), bool)
-    in_wake_ps = np.zeros((P, S), bool)
-    min_clear = np.full(P, np.nan)
-    spilled = np.full(P, np.nan)
-    governing = np.full(P, "", dtype=object)
+    return {"speed": np.ones((P, S)), "ti": ti0.copy(), "skew": np.zeros((P, S)),
+            "diag": diag, "in_rec_ps": np.zeros((P, S), bool),
+            "in_turb_ps": np.zeros((P, S), bool), "in_wake_ps": np.zeros((P, S), bool),
+            "min_clear": np.full(P, np.nan), "spilled": np.full(P, np.nan),
+            "governing": np.full(P, "", dtype=object)}
 
-    roof = np.flatnonzero(kind == "roof")
-    if len(roof):
-        ib = own[roof]
-        para = bldg.parapet_height_m[ib]
-        u, v = buildings.to_local(px[roof], py[roof], bldg.x_m[ib], bldg.y_m[ib],
-                                  bldg.orientation_deg[ib])
-        off = np.flatnonzero((np.abs(u) > 0.5 * bldg.length_m[ib] + 0.5)
-                             | (np.abs(v) > 0.5 * bldg.width_m[ib] + 0.5))
-        if len(off):
-            raise InputError([
-                (f"positions[{roof[i]}].x_m",
-                 f"({px[roof[i]]:g}, {py[roof[i]]:g}) m lies off the roof of "
-                 f"{bldg.ids[ib[i]]!r}; move the position onto that roof or make it a mast "
-                 "position") for i in off])
-        rf = roof_effects(sector_deg, bldg.height_m[ib], bldg.length_m[ib], bldg.width_m[ib],
-                          bldg.orientation_deg[ib], para, bldg.pitched[ib], u, v, mast[roof],
-                          ti0[roof], main[roof])
-        ti[roof] = rf["turbulence_intensity"]
-        skew[roof] = rf["inflow_skew_deg"]
-        speed[roof] *= rf["speed_factor"]
-        diag["zone_top_m"][roof] = rf["zone_top_m"]
-        diag["roof_scaling_length_m"][roof] = rf["roof_scaling_length_m"]
-        for name in ("recirculation", "turbulence", "wake"):
-            diag[f"clearance_{name}_m"][roof] = rf["clearance"][name]
-        in_rec_ps[roof] = rf["clearance"]["recirculation"] < 0
-        in_turb_ps[roof] = rf["clearance"]["turbulence"] < 0
-        in_wake_ps[roof] = rf["clearance"]["wake"] < 0
-        min_clear[roof] = rf["min_clear_mast_m"]
 
-    gap = np.flatnonzero(kind == "gap")
-    if len(gap):
-        geo = gaps.passage_geometry(bldg, ga[gap], gb[gap])
-        narrow = geo.width_m < 0.5
-        if narrow.any():
-            raise InputError([
-                (f"positions[{gap[i]}].gap_buildings",
-                 f"buildings {bldg.ids[ga[gap[i]]]!r} and {bldg.ids[gb[gap[i]]]!r} touch or "
-                 f"overlap (gap {geo.width_m[i]:.2f} m, need at least 0.5 m); move the "
-                 "buildings apart or make this a roof or mast position")
-                for i in np.flatnonzero(narrow)])
-        gf = gaps.gap_flow(geo, sector_deg, hub[gap])
-        sg = gf["speed_factor"]
-        ti[gap] = np.hypot(ti[gap] / np.maximum(sg, roofflow.ROOF_FLOW["sigma_speed_floor"]),
-                           gf["added_ti"])
-        speed[gap] *= sg
-        spilled[gap] = np.sum(share[gap] * gf["spilled_fraction"], axis=1)
-        governing[gap] = gf["governing"][np.arange(len(gap)), top[gap]]
-        diag["gap_wall_force_per_q_m2"][gap] = gf["wall_force_per_q_m2"]
+def _apply_roofs(fx, where, bldg, sector_deg, ti0, main) -> None:
+    """Roof zones, speed-up, turbulence and skew on the roof positions (``fx`` in place)."""
+    roof = np.flatnonzero(where["kind"] == "roof")
+    if not len(roof):
+        return
+    px, py, ib = where["x_m"], where["y_m"], where["own"][roof]
+    u, v = buildings.to_local(px[roof], py[roof], bldg.x_m[ib], bldg.y_m[ib],
+                              bldg.orientation_deg[ib])
+    off = np.flatnonzero((np.abs(u) > 0.5 * bldg.length_m[ib] + 0.5)
+                         | (np.abs(v) > 0.5 * bldg.width_m[ib] + 0.5))
+    if len(off):
+        raise InputError([
+            (f"positions[{roof[i]}].x_m",
+             f"({px[roof[i]]:g}, {py[roof[i]]:g}) m lies off the roof of "
+             f"{bldg.ids[ib[i]]!r}; move the position onto that roof or make it a mast "
+             "position") for i in off])
+    rf = roof_effects(sector_deg, bldg.height_m[ib], bldg.length_m[ib], bldg.width_m[ib],
+                      bldg.orientation_deg[ib], bldg.parapet_height_m[ib], bldg.pitched[ib],
+                      u, v, where["mast_m"][roof], ti0[roof], main[roof])
+    fx["ti"][roof] = rf["turbulence_intensity"]
+    fx["skew"][roof] = rf["inflow_skew_deg"]
+    fx["speed"][roof] *= rf["speed_factor"]
+    diag = fx["diag"]
+    diag["zone_top_m"][roof] = rf["zone_top_m"]
+    diag["roof_scaling_length_m"][roof] = rf["roof_scaling_length_m"]
+    for name in ("recirculation", "turbulence", "wake"):
+        diag[f"clearance_{name}_m"][roof] = rf["clearance"][name]
+    fx["in_rec_ps"][roof] = rf["clearance"]["recirculation"] < 0
+    fx["in_turb_ps"][roof] = rf["clearance"]["turbulence"] < 0
+    fx["in_wake_ps"][roof] = rf["clearance"]["wake"] < 0
+    fx["min_clear"][roof] = rf["min_clear_mast_m"]
 
-    sh = shelter.shelter(px, py, hub, bldg, sector_deg, exclude)
-    ti = np.hypot(ti, sh["added_ti"])
-    speed = speed * sh["speed_factor"]
-    diag["shelter_speed_factor"] = sh["speed_factor"]
-    in_cavity_ps = sh["in_wake_recirculation"]
 
+def _apply_gaps(fx, where, bldg, sector_deg, hub, share, top) -> None:
+    """Passage flow (concentration with spillage) on the gap positions (``fx`` in place)."""
+    gap = np.flatnonzero(where["kind"] == "gap")
+    if not len(gap):
+        return
+    ga, gb = where["gap_a"], where["gap_b"]
+    geo = gaps.passage_geometry(bldg, ga[gap], gb[gap])
+    narrow = geo.width_m < 0.5
+    if narrow.any():
+        raise InputError([
+            (f"positions[{gap[i]}].gap_buildings",
+             f"buildings {bldg.ids[ga[gap[i]]]!r} and {bldg.ids[gb[gap[i]]]!r} touch or "
+             f"overlap (gap {geo.width_m[i]:.2f} m, need at least 0.5 m); move the "
+             "buildings apart or make this a roof or mast position")
+            for i in np.flatnonzero(narrow)])
+    gf = gaps.gap_flow(geo, sector_deg, hub[gap])
+    sg = gf["speed_factor"]
+    ti = fx["ti"]
+    ti[gap] = np.hypot(ti[gap] / np.maximum(sg, roofflow.ROOF_FLOW["sigma_speed_floor"]),
+                       gf["added_ti"])
+    fx["speed"][gap] *= sg
+    fx["spilled"][gap] = np.sum(share[gap] * gf["spilled_fraction"], axis=1)
+    fx["governing"][gap] = gf["governing"][np.arange(len(gap)), top[gap]]
+    fx["diag"]["gap_wall_force_per_q_m2"][gap] = gf["wall_force_per_q_m2"]
+
+
+def _summarise_effects(fx, kind, sh, share, main, top, building_ids) -> tuple:
+    """Per-position zone, spillage and shelter diagnostics (into ``fx``) and the flags.
+
+    A zone counts for a position when it is hit in one of its main energy sectors.
+    """
+    diag = fx["diag"]
+    in_rec_ps, in_cavity_ps = fx["in_rec_ps"], sh["in_wake_recirculation"]
     in_rec = ((in_rec_ps | in_cavity_ps) & main).any(axis=1)
     # A rotor in recirculating flow gets no credit from turbulence in those sectors.
     diag["no_turbulence_credit"] = in_rec_ps | in_cavity_ps
-    in_turb = (in_turb_ps & main).any(axis=1)
-    in_wake = (in_wake_ps & main).any(axis=1)
+    in_turb = (fx["in_turb_ps"] & main).any(axis=1)
+    in_wake = (fx["in_wake_ps"] & main).any(axis=1)
     shelter_mean = np.sum(share * sh["speed_factor"], axis=1)
+    min_clear = fx["min_clear"]
     diag.update({"in_recirculation_zone": in_rec, "in_turbulence_zone": in_turb,
                  "in_roof_wake": in_wake, "min_clear_mast_m": min_clear,
-                 "spilled_fraction": spilled, "governing_limit": governing.astype(str),
+                 "spilled_fraction": fx["spilled"],
+                 "governing_limit": fx["governing"].astype(str),
                  "shelter_factor": shelter_mean})
-    flags = tuple(_position_flags(i, kind[i], in_rec_ps[i] & main[i], in_cavity_ps[i] & main[i],
-                                  in_turb[i], in_wake[i], min_clear[i], shelter_mean[i],
-                                  sh["sheltering_building"][i, top[i]], bldg.ids)
-                  for i in range(P))
-    return {"speed_factor": speed, "turbulence_intensity": ti, "inflow_skew_deg": skew,
-            "flags": flags, "diagnostics": diag}
+    return tuple(_position_flags(i, kind[i], in_rec_ps[i] & main[i], in_cavity_ps[i] & main[i],
+                                 in_turb[i], in_wake[i], min_clear[i], shelter_mean[i],
+                                 sh["sheltering_building"][i, top[i]], building_ids)
+                 for i in range(len(kind)))
 
 
 def _position_flags(i, kind, rec, cavity, turb, wake, min_clear, shelter_mean, strongest, ids):
