@@ -201,61 +201,106 @@ def run_qc(record: Record, settings: QCSettings | None = None) -> QCReport:
     Nominal step: the median of the positive steps between valid rows.
     """
     s = settings or QCSettings()
-    n = record.n_rows
     t = record.time_ns
     speed = record.si("speed")
-    has_dir = record.has("direction")
-    direction = record.si("direction") if has_dir else np.zeros(n)
-    sentinels = np.asarray(s.sentinels, float)
+    direction = record.si("direction") if record.has("direction") else np.zeros(record.n_rows)
+    tally = _RuleTally(record.n_rows, record.file_row)
+    bad_t, prev_max = _time_rules(tally, t)
+    _reading_rules(tally, record, s, speed, direction)
+    _stuck_rules(tally, record.has("direction"), s, speed, direction)
+    valid = ~tally.caught
+    value_results = _optional_value_rules(record, s)
+    notes = list(record.notes)
+    # Gaps are steps missing from the file's time axis (rows with a usable, increasing time),
+    # not rows excluded for their values; the recovery rate accounts for both.
+    axis = _time_axis(t[~bad_t & (t > prev_max)], s.gap_factor, notes)
+    expected = axis.pop("expected_records")
+    recovery = float(valid.sum() / expected) if expected else 0.0
+    return QCReport(file_name=record.file_name, n_rows=record.n_rows,
+                    n_valid=int(valid.sum()), rules=tuple(tally.results),
+                    value_rules=tuple(value_results), expected_records=expected,
+                    recovery_rate=recovery, valid=valid, notes=tuple(notes), **axis)
 
-    caught = np.zeros(n, bool)
-    results = []
 
-    def apply(name, label, fld, mask):
-        new = mask & ~caught
-        caught[:] |= new
-        results.append(RuleResult(name, label, fld, int(new.sum()),
-                                  _first_rows(new, file_row=record.file_row)))
+class _RuleTally:
+    """Rows caught so far and one :class:`RuleResult` per row rule, in the order applied.
 
-    labels = dict(ROW_RULES)
+    A row is counted under the first rule that catches it, so the counts add up.
+    """
+
+    def __init__(self, n_rows: int, file_row):
+        self.caught = np.zeros(n_rows, bool)
+        self.results = []
+        self.file_row = file_row
+
+    def apply(self, name, label, fld, mask) -> None:
+        """Count the rows of ``mask`` not caught before under rule ``name``."""
+        new = mask & ~self.caught
+        self.caught |= new
+        self.results.append(RuleResult(name, label, fld, int(new.sum()),
+                                       _first_rows(new, file_row=self.file_row)))
+
+
+_LABELS = dict(ROW_RULES)
+
+
+def _time_rules(tally: _RuleTally, t: np.ndarray):
+    """Bad, duplicate and out-of-order times; returns (bad time mask, latest earlier time [ns])."""
+    n = t.shape[0]
     bad_t = t == NAT_NS
-    apply("bad_timestamp", labels["bad_timestamp"], "time", bad_t)
+    tally.apply("bad_timestamp", _LABELS["bad_timestamp"], "time", bad_t)
     t_ok = np.where(bad_t, np.iinfo(np.int64).min, t)
     prev_max = np.empty(n, np.int64)
     if n:
         prev_max[0] = np.iinfo(np.int64).min
         prev_max[1:] = np.maximum.accumulate(t_ok)[:-1]
-    apply("duplicate_timestamp", labels["duplicate_timestamp"], "time", ~bad_t & (t == prev_max))
-    apply("out_of_order", labels["out_of_order"], "time", ~bad_t & (t < prev_max))
+    tally.apply("duplicate_timestamp", _LABELS["duplicate_timestamp"], "time",
+                ~bad_t & (t == prev_max))
+    tally.apply("out_of_order", _LABELS["out_of_order"], "time", ~bad_t & (t < prev_max))
+    return bad_t, prev_max
+
+
+def _reading_rules(tally, record, s, speed, direction) -> None:
+    """Unreadable, blank, logger-code and out-of-range speeds [m/s] and directions [deg]."""
+    has_dir = record.has("direction")
+    sentinels = np.asarray(s.sentinels, float)
     unread = record.unreadable["speed"] | (record.unreadable["direction"] if has_dir else False)
-    apply("unreadable", labels["unreadable"], "speed/direction", unread)
+    tally.apply("unreadable", _LABELS["unreadable"], "speed/direction", unread)
     raw_s = record.raw["speed"]
-    raw_d = record.raw["direction"] if has_dir else np.zeros(n)
+    raw_d = record.raw["direction"] if has_dir else np.zeros(record.n_rows)
     missing = ~np.isfinite(raw_s) | ~np.isfinite(raw_d)
-    apply("missing", labels["missing"], "speed/direction", missing)
+    tally.apply("missing", _LABELS["missing"], "speed/direction", missing)
     # A code counts as a sentinel only where it is not a plausible value (999 hPa is real).
     with np.errstate(invalid="ignore"):
         sent = ((np.isin(raw_s, sentinels) & ((speed < s.speed_min_ms) | (speed > s.speed_max_ms)))
                 | (np.isin(raw_d, sentinels) & ((direction < 0) | (direction > 360))))
-    apply("sentinel", labels["sentinel"], "speed/direction", sent)
+    tally.apply("sentinel", _LABELS["sentinel"], "speed/direction", sent)
     with np.errstate(invalid="ignore"):
-        apply("speed_out_of_range",
-              f"speed outside {s.speed_min_ms:g}-{s.speed_max_ms:g} m/s", "speed",
-              (speed < s.speed_min_ms) | (speed > s.speed_max_ms))
-        apply("impossible_direction", labels["impossible_direction"], "direction",
-              (direction < 0) | (direction > 360))
-    ok = ~caught
+        tally.apply("speed_out_of_range",
+                    f"speed outside {s.speed_min_ms:g}-{s.speed_max_ms:g} m/s", "speed",
+                    (speed < s.speed_min_ms) | (speed > s.speed_max_ms))
+        tally.apply("impossible_direction", _LABELS["impossible_direction"], "direction",
+                    (direction < 0) | (direction > 360))
+
+
+def _stuck_rules(tally, has_dir, s, speed, direction) -> None:
+    """Runs of one repeated speed or direction among rows not caught yet (calms excepted)."""
+    ok = ~tally.caught
     stuck_s = _runs_mask(speed, s.stuck_min_records, ok & (speed >= s.stuck_ignore_below_ms))
-    apply("stuck_speed", labels["stuck_speed"], "speed", stuck_s)
+    tally.apply("stuck_speed", _LABELS["stuck_speed"], "speed", stuck_s)
     if has_dir:
-        ok = ~caught
+        ok = ~tally.caught
         stuck_d = _runs_mask(direction, s.stuck_min_records,
                              ok & (speed >= s.stuck_ignore_below_ms))
-        apply("stuck_direction", labels["stuck_direction"], "direction", stuck_d)
+        tally.apply("stuck_direction", _LABELS["stuck_direction"], "direction", stuck_d)
     else:
-        results.append(RuleResult("stuck_direction", labels["stuck_direction"], "direction", 0))
-    valid = ~caught
+        tally.results.append(RuleResult("stuck_direction", _LABELS["stuck_direction"],
+                                        "direction", 0))
 
+
+def _optional_value_rules(record, s) -> list:
+    """Value rules on gust [m/s], temperature [°C] and pressure [Pa]: blank the value only."""
+    sentinels = np.asarray(s.sentinels, float)
     value_results = []
     limits = {"gust": (0.0, s.gust_max_ms, "m/s"),
               "temperature": (s.temperature_min_c, s.temperature_max_c, "°C"),
@@ -264,7 +309,7 @@ def run_qc(record: Record, settings: QCSettings | None = None) -> QCReport:
         if not record.has(fld):
             continue
         v_raw, v = record.raw[fld], record.si(fld)
-        done = np.zeros(n, bool)
+        done = np.zeros(record.n_rows, bool)
         for rule, mask, label in (
                 ("unreadable", record.unreadable[fld], "text, not a number"),
                 ("sentinel", np.isin(v_raw, sentinels) & ~((v >= lo) & (v <= hi)),
@@ -275,37 +320,33 @@ def run_qc(record: Record, settings: QCSettings | None = None) -> QCReport:
             done |= new
             value_results.append(RuleResult(rule, label, fld, int(new.sum()),
                                             _first_rows(new, file_row=record.file_row)))
+    return value_results
 
-    notes = list(record.notes)
-    # Gaps are steps missing from the file's time axis (rows with a usable, increasing time),
-    # not rows excluded for their values; the recovery rate accounts for both.
-    time_ok = ~bad_t & (t > prev_max)
-    tv = t[time_ok]
-    if tv.size >= 2:
-        steps = np.diff(tv)
-        step = float(np.median(steps))
-        gap_mask = steps > s.gap_factor * step
-        missing_steps = int(np.sum(np.round(steps[gap_mask] / step) - 1))
-        longest = float(steps.max()) / 1e9 if gap_mask.any() else 0.0
-        expected = int(round((tv[-1] - tv[0]) / step)) + 1
-        step_s = step / 1e9
-        start, end = _iso(tv[0]), _iso(tv[-1])
-        n_gaps = int(gap_mask.sum())
-        irregular = np.mean(np.abs(steps - step) > 0.01 * step) - np.mean(gap_mask)
-        if irregular > 0.01:
-            notes.append(f"{100 * irregular:.1f} % of steps differ from the nominal "
-                         f"{step_s / 60:g} min without being gaps: the logging is irregular")
-    else:
-        step_s, missing_steps, longest, n_gaps = 0.0, 0, 0.0, 0
-        expected = int(tv.size)
-        start = end = _iso(tv[0]) if tv.size else ""
+
+def _time_axis(tv: np.ndarray, gap_factor: float, notes: list) -> dict:
+    """Nominal step [s], period, gaps and records possible, from the usable times ``tv`` [ns].
+
+    Appends a note to ``notes`` when the logging is irregular or too short for a step.
+    """
+    if tv.size < 2:
         notes.append("fewer than two valid rows: no step, gaps or recovery can be worked out")
-    recovery = float(valid.sum() / expected) if expected else 0.0
-    return QCReport(file_name=record.file_name, n_rows=n, n_valid=int(valid.sum()),
-                    rules=tuple(results), value_rules=tuple(value_results), step_s=step_s,
-                    period_start=start, period_end=end, expected_records=expected,
-                    recovery_rate=recovery, n_gaps=n_gaps, missing_steps=missing_steps,
-                    longest_gap_s=longest, valid=valid, notes=tuple(notes))
+        start = _iso(tv[0]) if tv.size else ""
+        return {"step_s": 0.0, "period_start": start, "period_end": start,
+                "expected_records": int(tv.size), "n_gaps": 0, "missing_steps": 0,
+                "longest_gap_s": 0.0}
+    steps = np.diff(tv)
+    step = float(np.median(steps))
+    gap_mask = steps > gap_factor * step
+    step_s = step / 1e9
+    irregular = np.mean(np.abs(steps - step) > 0.01 * step) - np.mean(gap_mask)
+    if irregular > 0.01:
+        notes.append(f"{100 * irregular:.1f} % of steps differ from the nominal "
+                     f"{step_s / 60:g} min without being gaps: the logging is irregular")
+    return {"step_s": step_s, "period_start": _iso(tv[0]), "period_end": _iso(tv[-1]),
+            "expected_records": int(round((tv[-1] - tv[0]) / step)) + 1,
+            "n_gaps": int(gap_mask.sum()),
+            "missing_steps": int(np.sum(np.round(steps[gap_mask] / step) - 1)),
+            "longest_gap_s": float(steps.max()) / 1e9 if gap_mask.any() else 0.0}
 
 
 def clean_values(record: Record, report: QCReport, name: str,
