@@ -89,6 +89,18 @@ def check_range(problems: Problems, where: str, value, lo=None, hi=None, unit: s
         problems.add(where, f"must be {rule}, got {v:g} {unit}".rstrip())
 
 
+def check_choice(problems: Problems, where: str, value, options) -> None:
+    """Add a problem unless ``value`` is one of ``options`` (the message lists them)."""
+    if value not in options:
+        problems.add(where, f"must be one of {', '.join(options)}, got {value!r}")
+
+
+def check_id(problems: Problems, where: str, value) -> None:
+    """Add a problem unless ``value`` is a text with something other than spaces in it."""
+    if not isinstance(value, str) or not value.strip():
+        problems.add(where, f"must be a non-empty text, got {value!r}")
+
+
 def decode_upload(data, max_bytes: int, what: str, save_as: str) -> str:
     """Text of an uploaded file: size-checked and decoded as UTF-8 (a BOM is dropped).
 
