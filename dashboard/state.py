@@ -25,7 +25,7 @@ STEPS = (
     ("site", "Site", ("site",)),
     ("climate", "Wind climate", ("climate",)),
     ("layout", "Buildings & positions", ("buildings", "positions", "receptors",
-                                         "spot_readings")),
+                                         "spot_readings", "consent")),
     ("turbines", "Turbines & costs", ("turbines", "losses", "economics", "uncertainty")),
     ("results", "Results", ("ranking", "format_version")),
     ("summary", "Summary", ()),

@@ -1,7 +1,7 @@
 """Step 3: buildings, candidate positions and the places where noise matters."""
 import streamlit as st
 
-from dashboard import cache, state, widgets
+from dashboard import cache, consent_inputs, state, widgets
 from engine.core import model
 
 widgets.step_banner("layout", "3. Buildings & positions")
@@ -74,12 +74,25 @@ R_COLS = [
     ("x_m", f"x east ({L})", "length", num(format="%.1f")),
     ("y_m", f"y north ({L})", "length", num(format="%.1f")),
     ("height_m", f"height ({L})", "length", num(format="%.1f")),
-    ("limit_db", "noise limit (dB(A))", "number", num(format="%.0f")),
+    ("limit_db", "noise criterion (dB(A))", "number",
+     num(format="%.0f", help="The level not to exceed at this place, as the local authority "
+                             "sets it (with the margin above background in the noise "
+                             "settings)")),
+    ("facing_deg", "window faces (°)", "number",
+     num(format="%.0f", min_value=0.0, max_value=359.9,
+         help="Bearing the window looks out to, degrees clockwise from north; leave empty "
+              "for a garden or a place that is not a window (no shadow flicker counted)")),
+    ("window_height_m", f"window height ({L})", "length",
+     num(format="%.1f", help="Height of the window's centre above the ground")),
+    ("dwelling", "dwelling", "bool",
+     st.column_config.CheckboxColumn(default=True,
+                                     help="A home: distance rules to dwellings apply here")),
 ]
 with st.expander("Places where noise matters (windows, gardens)", expanded=False):
     rrow = widgets.table("receptors", draft.get("receptors", []), R_COLS, disabled=not edit)
     changed |= rrow != draft.get("receptors", [])
     draft["receptors"] = rrow
+changed |= consent_inputs.rule_set_section(draft, edit)
 
 S = state.unit_of("speed")
 position_ids = [str(r.get("id")) for r in prow if r.get("id")]

@@ -5,6 +5,13 @@ The first sentence is the verdict of the option the summary leads with (the lead
 option, or the least bad one when none pays back; :mod:`engine.chain.verdict`), with the money
 from its ``verdict_reason``. The second gives its P50 and P90 energy and names the measurement
 that would narrow the largest uncertainty in that energy (:func:`largest_uncertainty`).
+
+Where the climate was measured at the option's own position (``WindClimate.measured_at`` is
+``position`` and ``position_id`` is the option's), the measurement already stands in for the
+building-flow model and the transfer of the climate (:data:`COVERED_BY_POSITION_RECORD`), so the
+answer does not advise measuring there again: it says what the record covers and names the
+largest of the remaining terms (the long-term correction, the power curve, the wind data...).
+The stated allowances for the covered terms stay in the P-values (they are not removed there).
 """
 from __future__ import annotations
 
@@ -47,13 +54,24 @@ COMPONENT_WORDS = {
 }
 
 
-def largest_uncertainty(speed_sensitivity: float, uncertainty) -> tuple[str, float]:
+#: Components a record measured at the option's own hub position already stands in for.
+COVERED_BY_POSITION_RECORD = ("speed_building_model", "speed_transfer")
+
+#: What to do next about the wind data when the record was taken at the option's position.
+MEASURED_DATA_NEXT = (
+    "have the logger's anemometer calibrated (or checked against a calibrated one) and its "
+    "mounting checked, which firms up the record already taken there")
+
+
+def largest_uncertainty(speed_sensitivity: float, uncertainty,
+                        exclude: tuple[str, ...] = ()) -> tuple[str, float]:
     """The component that contributes most to the energy's uncertainty, and its share [-].
 
     Parameters
     ----------
     speed_sensitivity : d ln E / d ln V of the option [-]
     uncertainty : :class:`engine.core.model.Uncertainty` (relative standard uncertainties)
+    exclude : component names left out of the choice (terms a measurement already covers)
 
     Returns
     -------
@@ -70,6 +88,8 @@ def largest_uncertainty(speed_sensitivity: float, uncertainty) -> tuple[str, flo
     terms = {name: s * float(getattr(uncertainty, name)) for name in SPEED_COMPONENTS}
     terms["energy_power_curve"] = float(uncertainty.energy_power_curve)
     terms["interannual_speed"] = s * float(uncertainty.interannual_speed)
+    for k in exclude:
+        terms.pop(k, None)
     name = max(terms, key=lambda k: (terms[k], k))
     return name, terms[name]
 
@@ -88,7 +108,25 @@ def _kwh(v) -> str:
     return f"{float(v):,.0f} kWh" if np.isfinite(float(v)) else "no figure"
 
 
-def answer_sentences(table, economics, uncertainty) -> tuple[str, str]:
+def _firm_up(row, uncertainty, measured_at_position: str, height_m) -> str:
+    """The clause naming the largest term and what to do about it."""
+    here = bool(measured_at_position) and str(row["position_id"]) == measured_at_position
+    exclude = COVERED_BY_POSITION_RECORD if here else ()
+    comp, sigma = largest_uncertainty(row.get("speed_sensitivity", np.nan), uncertainty, exclude)
+    todo = MEASURED_DATA_NEXT if here and comp == "speed_data" else MEASURE_NEXT[comp]
+    text = (f"the largest uncertainty in that is {COMPONENT_WORDS[comp]} "
+            f"(±{sigma:.0%} of the energy), so to firm it up, {todo}")
+    if not here:
+        return text
+    at = f" at {float(height_m):g} m" if height_m is not None else ""
+    return (f"the wind was measured at {measured_at_position}{at}, which already stands in for "
+            f"{COMPONENT_WORDS['speed_building_model']} and "
+            f"{COMPONENT_WORDS['speed_transfer']} there (their stated allowances stay in the "
+            f"P90); of the rest, {text}")
+
+
+def answer_sentences(table, economics, uncertainty, measured_at_position: str = "",
+                     measured_height_m=None) -> tuple[str, str]:
     """The answer in two sentences: (verdict and money, energy and what to measure next).
 
     Parameters
@@ -96,6 +134,9 @@ def answer_sentences(table, economics, uncertainty) -> tuple[str, str]:
     table : ranked table (verdicts added when missing), best first
     economics : :class:`engine.core.model.Economics`
     uncertainty : :class:`engine.core.model.Uncertainty`
+    measured_at_position : id of the position the climate was measured at ("" for a
+        reference climate); the option there is not advised to measure again
+    measured_height_m : the measured climate's height above ground [m], for the words
     """
     if "verdict" not in table:
         table = add_verdicts(table, economics)
@@ -119,10 +160,9 @@ def answer_sentences(table, economics, uncertainty) -> tuple[str, str]:
         first = f"{name} {row['verdict']}: {row['verdict_reason']}."
     p50 = row.get("p50_aep_kwh", row.get("aep_kwh", np.nan))
     p90 = row.get("p90_aep_kwh", np.nan)
-    comp, sigma = largest_uncertainty(row.get("speed_sensitivity", np.nan), uncertainty)
+    firm = _firm_up(row, uncertainty, measured_at_position, measured_height_m)
     second = (f"It would make about {_kwh(p50)} a year (P50; P90 {_kwh(p90)} as a life "
-              f"average); the largest uncertainty in that is {COMPONENT_WORDS[comp]} "
-              f"(±{sigma:.0%} of the energy), so to firm it up, {MEASURE_NEXT[comp]}.")
+              f"average); {firm}.")
     return first, second
 
 
@@ -130,4 +170,8 @@ def answer_for(evaluation) -> tuple[str, str]:
     """:func:`answer_sentences` of an :class:`engine.chain.pipeline.Evaluation`."""
     a = evaluation.assessment
     # The uncertainties the P-values used (a long-term correction's own σ where larger).
-    return answer_sentences(evaluation.table, a.economics, with_climate(a.uncertainty, a.climate))
+    c = a.climate
+    here = c.position_id if getattr(c, "measured_at", "reference") == "position" else ""
+    return answer_sentences(evaluation.table, a.economics, with_climate(a.uncertainty, c),
+                            measured_at_position=here,
+                            measured_height_m=c.height_m if here else None)

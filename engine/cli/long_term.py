@@ -59,7 +59,8 @@ def _text(result) -> str:
              f"long-term mean {m.long_term_mean_ms:.3f} m/s", "per-sector lines and "
              "correlation:", table,
              f"uncertainty of the long-term mean: {100 * u['total']:.1f} % (correlation "
-             f"{100 * u['correlation_part']:.1f} %, period {100 * u['period_part']:.1f} %)"]
+             f"{100 * u['correlation_part']:.1f} %, period {100 * u['period_part']:.1f} %, "
+             f"short concurrent period {100 * u['season_part']:.1f} %)"]
     lines += [f"warning: {w}" for w in m.warnings]
     return "\n".join(lines)
 

@@ -2,7 +2,9 @@
 
 The output format follows the file name's suffix (``.html``/``.htm`` or ``.pdf``).
 ``--exports DIR`` also writes the data files (site file, rank JSON, ranking CSV, per-sector
-effective climate CSV). ``--generated-at`` fixes the time stamp so a re-run reproduces the
+effective climate CSV). ``--record FILE`` hands the climate's own record (the file whose SHA-256
+the site file's climate names) to the summary, which then shows the leading option's
+time-series yield beside its Weibull yield. ``--generated-at`` fixes the time stamp so a re-run reproduces the
 file byte for byte; without it ``SOURCE_DATE_EPOCH`` is used when set, else the current time.
 """
 from __future__ import annotations
@@ -63,6 +65,43 @@ def _check_args(args) -> tuple[Path, str, object]:
     return out, kind, stamp
 
 
+def _record_series(path_text: str, climate):
+    """(time_ns, speed_ms, direction_deg) of the valid rows of the climate's own record."""
+    import hashlib
+
+    from engine.climate import qc
+    from engine.climate.weibull import mixture_mean_ms
+    from engine.io import record_columns, records
+    from engine.io.safe_files import read_bounded
+
+    data = read_bounded(path_text, records.MAX_RECORD_BYTES, "a CSV/TSV record", "--record")
+    if not climate.record_sha256:
+        raise InputError([("--record", "the site file's climate names no record "
+                                       "(climate.record_sha256 is empty); leave --record out")])
+    if hashlib.sha256(data).hexdigest() != climate.record_sha256:
+        raise InputError([("--record", f"must be the climate's own record "
+                                       f"({climate.record_file or 'unnamed'}, SHA-256 "
+                                       f"{climate.record_sha256[:16]}...), got a file whose "
+                                       "SHA-256 differs; give that file")])
+    if climate.source == "long_term" or climate.averaging_s >= 3000.0 \
+            or len(record_columns.height_columns(record_columns.header_line(data))) > 1:
+        raise InputError([("--record", "is a long-term corrected, averaging-corrected or "
+                                       "multi-height logger climate's record; its series is not "
+                                       "rebuilt from the command line, leave --record out")])
+    rec = records.read_record(data, Path(path_text).name)
+    if not rec.has("direction"):
+        raise InputError([("--record", "needs a direction column for the series yield")])
+    ok = qc.run_qc(rec).valid
+    v = rec.si("speed")[ok]
+    fitted = float(mixture_mean_ms(climate.frequency, climate.weibull_k, climate.weibull_c_ms))
+    if v.size == 0 or not 0.9 * fitted <= float(v.mean()) <= 1.1 * fitted:
+        got = float(v.mean()) if v.size else float("nan")
+        raise InputError([("--record", f"mean speed must be within 10 % of the climate's "
+                                       f"{fitted:.2f} m/s, got {got:.2f} m/s (read with another "
+                                       "speed unit or other columns than the climate was?)")])
+    return rec.time_ns[ok], v, rec.si("direction")[ok]
+
+
 def cmd_report(args) -> int:
     """Write the summary (and the data files with ``--exports``); print what was written."""
     from engine.chain import pipeline
@@ -72,8 +111,10 @@ def cmd_report(args) -> int:
     out, kind, stamp = _check_args(args)
     folder = _exports_folder(args.exports) if args.exports else None
     ev = pipeline.evaluate(sitefile.load(args.site))
+    record = (_record_series(args.record, ev.assessment.climate)
+              if getattr(args, "record", "") else None)
     summary = report.build_summary(ev, assessor=args.assessor or "", notes=args.notes or "",
-                                   generated_at=stamp)
+                                   generated_at=stamp, record=record)
     data = (report.render_html(summary).encode("utf-8") if kind == "html"
             else report.render_pdf(summary))
     write_output(out, data, "--out", "the summary")
@@ -93,6 +134,10 @@ def register_report(sub):
     p.add_argument("--out", required=True, help="summary file: NAME.html or NAME.pdf")
     p.add_argument("--assessor", default="", help="name of the person responsible")
     p.add_argument("--notes", default="", help="notes to print in the summary")
+    p.add_argument("--record", default="",
+                   help="the climate's own record (CSV/TSV, the file the site file's climate "
+                        "names by SHA-256): shows the leading option's time-series yield "
+                        "beside its Weibull yield")
     p.add_argument("--generated-at", default="",
                    help="time stamp, ISO 8601 (e.g. 2026-05-01T09:30:00Z); fixes the output")
     p.add_argument("--exports", default="",

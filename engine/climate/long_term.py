@@ -23,6 +23,12 @@ from engine.core.errors import InputError, Problems, check_range
 #: three whole years [fraction of the mean] (common practice, from memory: about 6 %).
 DEFAULT_INTERANNUAL_VARIABILITY = 0.06
 NS_PER_DAY = 86400 * 10**9
+#: Season-to-season scatter of the site-to-reference mean-speed relation [fraction of the mean]:
+#: how far one season's ratio of the two sites' mean speeds strays from the annual ratio. From
+#: memory (a few per cent between well-correlated sites); 5 % is taken as a cautious round value.
+DEFAULT_SEASONAL_SCATTER = 0.05
+#: Seasons in a year: the concurrent period samples this many, each 365/4 days long.
+SEASONS_PER_YEAR = 4
 
 
 @dataclass(frozen=True)
@@ -50,13 +56,54 @@ class LongTermResult:
         return self.summary.climate
 
 
+def seasonal_part(overlap_days, seasonal_scatter: float = DEFAULT_SEASONAL_SCATTER):
+    """Uncertainty of the long-term mean from a concurrent period shorter than a year [fraction].
+
+    Parameters
+    ----------
+    overlap_days : length of the concurrent period [days], scalar or array
+    seasonal_scatter : σ_s, season-to-season standard deviation of the site-to-reference
+        mean-speed ratio over the four seasons [fraction of the mean]
+
+    Returns
+    -------
+    u_s : like ``overlap_days`` [fraction of the mean]; 0 for a year or more
+
+    Notes
+    -----
+    The line fitted over the concurrent period holds for the seasons it saw; the other seasons'
+    relation between the two sites may differ. The concurrent period is taken as a sample of
+    n = 4 D / 365 d of the N = 4 seasons, drawn without replacement, so the error of the
+    annual ratio estimated from it has the finite-population variance
+
+        u_s² = σ_s² (N − n) / ((N − 1) n),   n = min(4 D / 365 d, N)
+
+    (Cochran 1977, the variance of a sample mean with the finite population correction, σ_s²
+    the population variance with divisor N). One season gives u_s = σ_s; a whole year, 0; a
+    shorter period, more. Consecutive seasons are not a random sample, so this is a stated
+    model, not a fit to field data; σ_s cannot be estimated from a record of one season.
+
+    References
+    ----------
+    Cochran, W. G. (1977). Sampling Techniques, 3rd ed. Wiley (chapter 2, simple random
+    sampling: V(ȳ) = (S²/n)(N − n)/N).
+    """
+    d = np.maximum(np.asarray(overlap_days, float), 1.0)
+    n = np.minimum(d * SEASONS_PER_YEAR / 365.0, SEASONS_PER_YEAR)
+    N = SEASONS_PER_YEAR
+    u = float(seasonal_scatter) * np.sqrt(np.maximum(N - n, 0.0) / ((N - 1) * n))
+    return u if u.ndim else float(u)
+
+
 def correction_uncertainty(res, ref_time_ns, ref_speed_ms,
-                           default_iav: float = DEFAULT_INTERANNUAL_VARIABILITY) -> dict:
+                           default_iav: float = DEFAULT_INTERANNUAL_VARIABILITY,
+                           seasonal_scatter: float = DEFAULT_SEASONAL_SCATTER) -> dict:
     """One-sigma uncertainty of the long-term mean speed from a correction [fraction].
 
     Notes
     -----
-    u² = u_c² + u_p². Correlation part u_c = √(1 − r²) σ_y / (ȳ √n_d), the standard error of the
+    u² = u_c² + u_p² + u_s². Season part u_s from the concurrent period's length
+    (:func:`seasonal_part`: 0 for a year or more, σ_s for one season). Correlation part u_c = √(1 − r²) σ_y / (ȳ √n_d), the standard error of the
     predicted mean from the scatter the line does not explain, with n_d the concurrent days
     (daily means taken as independent; common practice). Period part u_p = s_a / √N, the
     year-to-year variability s_a of the reference's annual mean speeds (from the reference when
@@ -78,9 +125,13 @@ def correction_uncertainty(res, ref_time_ns, ref_speed_ms,
             year[keep])
         iav, iav_from = float(np.std(means, ddof=1) / np.mean(means)), f"reference, {whole} years"
     u_p = iav / np.sqrt(max(years, 1.0))
+    u_s = seasonal_part(res.overlap_days, seasonal_scatter)
     return {"correlation_part": float(u_c), "period_part": float(u_p),
+            "season_part": float(u_s), "seasonal_scatter": float(seasonal_scatter),
+            "concurrent_days": float(res.overlap_days),
             "interannual_variability": float(iav), "interannual_from": iav_from,
-            "long_term_years": float(years), "total": float(np.hypot(u_c, u_p))}
+            "long_term_years": float(years),
+            "total": float(np.sqrt(u_c * u_c + u_p * u_p + u_s * u_s))}
 
 
 def _read_reference(data, name, *, lat_deg, lon_deg, speed_unit, utc_offset_h):

@@ -22,6 +22,7 @@ from engine.report.content import (Bullets, FigureBlock, Paragraph, Section, Sum
                                    numbered)
 from engine.report.formats import (DASH, finite, fmt_fixed, fmt_percent, format_cell,
                                    records_table)
+from engine.report.series_check import series_blocks
 from engine.report.words import CF_ALARM, FIELD_TRIALS, OBJECTIVE_WORDS, timestamp
 
 
@@ -248,7 +249,7 @@ def _charts(evaluation, best, with_charts) -> Section:
     return Section("charts", "Charts", blocks)
 
 
-def _quality(a, best, records, centre) -> Section:
+def _quality(a, best, records, centre, series=()) -> Section:
     c, u = a.climate, with_climate(a.uncertainty, a.climate)
     lt_from = (" (the long-term correction's own)" if u is not a.uncertainty else "")
     qual = [Table("climate", ("Item", "Value"), (
@@ -285,6 +286,7 @@ def _quality(a, best, records, centre) -> Section:
         qual.append(Paragraph(
             "These uncertainties are inputs; this installation did not compute a P90 from them, "
             "so the ranking shows central estimates only.", "note"))
+    qual.extend(series)
     high = [r for r in records if not r.get("excluded") and finite(r.get("capacity_factor"))
             and float(r["capacity_factor"]) > CF_ALARM and r.get("kind") != "mast"]
     if high:
@@ -306,7 +308,7 @@ def _cautions(assessor) -> Section:
 
 
 def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=None,
-                  with_charts: bool = True) -> Summary:
+                  with_charts: bool = True, record=None) -> Summary:
     """The siting summary's content for an evaluated site.
 
     Parameters
@@ -318,6 +320,10 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
         or ``SOURCE_DATE_EPOCH`` when set, if None. The only value that may differ between two
         summaries of the same site file.
     with_charts : include the charts (drawing them takes about a second)
+    record : None, or (time_ns, speed_ms, direction_deg) arrays of the climate's record (its
+        valid rows at the climate's height [UTC ns, m/s, deg]; for a long-term corrected
+        climate, the predicted series): the leading option's time-series yield is then shown
+        beside its Weibull yield (:mod:`engine.report.series_check`)
 
     Returns
     -------
@@ -340,7 +346,8 @@ def build_summary(evaluation, assessor: str = "", notes: str = "", generated_at=
             _question(a, doc, stamp, assessor, notes),
             Section("recommendation", "Leading option and why", tuple(rec_blocks)),
             ranking, costs, _charts(evaluation, best, with_charts),
-            _quality(a, best, records, centre), _cautions(assessor)]
+            _quality(a, best, records, centre, series_blocks(evaluation, best, record)),
+            _cautions(assessor)]
     extra, attachments = appendix.appendix_sections(
         evaluation, records, raw, set(shown) | set(cost_cols), doc, stamp, assessor, notes,
         ranking_limits(a))

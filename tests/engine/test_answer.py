@@ -87,3 +87,62 @@ def test_summary_opens_with_the_answer():
     assert tuple(texts) == answer.answer_for(ev)
     lead = ev.table[~ev.table["excluded"]]
     assert any(f"{r['turbine_id']} at {r['position_id']}" in texts[0] for _, r in lead.iterrows())
+
+
+def test_measured_at_the_leading_position_names_the_next_term_not_measuring_there_again():
+    """An invented case: the climate was measured at p0, the leading option's position. With
+    s = 2.5 the terms are (hand calculation) building model 0.30, transfer 0.15, long-term
+    0.125, power curve 0.08, data 0.075, year-to-year 0.05; the record stands in for the first
+    two, so the long-term correction (0.125) is named and no new hub measurement is advised."""
+    u = model.Uncertainty(speed_data=0.03, speed_long_term=0.05, speed_transfer=0.06,
+                          speed_building_model=0.12, energy_power_curve=0.08,
+                          interannual_speed=0.02)
+    t = table([3000.0, -100.0], [11.0, 25.0], [900.0, 500.0], [2.5, 2.5])
+    _, second = answer.answer_sentences(t, model.Economics(), u, measured_at_position="p0",
+                                        measured_height_m=16.0)
+    assert "the wind was measured at p0 at 16 m" in second
+    assert "already stands in for the building-flow model and the transfer" in second
+    assert "the long-term correction (±12% of the energy)" in second
+    assert "hub position" not in second and "measure the wind" not in second
+    # Measured elsewhere (p1): the leading option p0 still gets the hub-position advice.
+    _, other = answer.answer_sentences(t, model.Economics(), u, measured_at_position="p1")
+    assert "building-flow model (±30% of the energy)" in other and "hub position" in other
+    # With a tight long-term term the power curve (0.08) is next after the covered ones.
+    u2 = model.Uncertainty(speed_data=0.03, speed_long_term=0.02, speed_transfer=0.06,
+                           speed_building_model=0.12, energy_power_curve=0.08,
+                           interannual_speed=0.02)
+    _, pc = answer.answer_sentences(t, model.Economics(), u2, measured_at_position="p0")
+    assert "the power curve (±8% of the energy)" in pc and "IEC 61400-12-1" in pc
+    # The data term next: the advice is to check the logger there, not to log anew on site.
+    u3 = model.Uncertainty(speed_data=0.05, speed_long_term=0.02, speed_transfer=0.06,
+                           speed_building_model=0.12, energy_power_curve=0.08,
+                           interannual_speed=0.02)
+    _, data = answer.answer_sentences(t, model.Economics(), u3, measured_at_position="p0")
+    assert "the wind data (±12%" in data and answer.MEASURED_DATA_NEXT in data
+    assert "log a calibrated anemometer on site" not in data
+
+
+def test_answer_for_a_position_measured_climate_at_the_leading_option():
+    """End to end on an invented roof: the climate measured at 'logger' (16 m), the only
+    position, leads; the answer says what the record covers and does not send the assessor
+    back to measure at that hub."""
+    import dataclasses
+    clim = model.WindClimate(height_m=16.0, roughness_m=0.5, frequency=(0.5, 0.5),
+                             weibull_k=(2.0, 2.0), weibull_c_ms=(5.0, 6.0),
+                             measured_at="position", position_id="logger",
+                             turbulence_intensity=(0.21, 0.18))
+    v = tuple(float(x) for x in range(26))
+    p = tuple(min(1000.0, 0.5 * 1.225 * 3.14 * 0.3 * x ** 3) if x >= 3 else 0.0 for x in v)
+    turb = model.Turbine("t", "test 1 kW", "horizontal", 1000.0, v, p, 3.0, 10.0, 25.0,
+                         rotor_diameter_m=2.0)
+    a = model.Assessment(
+        site=model.Site(name="invented roof", terrain_roughness_m=0.5), climate=clim,
+        buildings=(model.Building("b", 0.0, 0.0, 30.0, 15.0, 12.0, orientation_deg=90.0),),
+        positions=(model.Position("logger", "roof", 5.0, 2.0, 4.0, building_id="b"),),
+        turbines=(turb,))
+    a = dataclasses.replace(a, ranking=model.RankingSettings(**OFF))
+    ev = pipeline.evaluate(a)
+    assert ev.table.iloc[0]["position_id"] == "logger" and not ev.table.iloc[0]["excluded"]
+    _, second = answer.answer_for(ev)
+    assert "the wind was measured at logger at 16 m" in second
+    assert "hub position" not in second

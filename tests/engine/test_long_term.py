@@ -52,7 +52,10 @@ def test_uncertainty_parts_are_bounded():
     res = mcp.mcp_long_term(t[-n:], y, d[-n:], t, x, d, n_sectors=12)
     u = long_term.correction_uncertainty(res, t, x)
     assert 0 < u["correlation_part"] < 0.05 and 0 < u["period_part"] < 0.06
-    assert u["total"] == pytest.approx(np.hypot(u["correlation_part"], u["period_part"]))
+    # 4000 hours concurrent (167 days): the short-overlap term is in the total too.
+    assert 0 < u["season_part"] < 0.05
+    assert u["total"] == pytest.approx(np.sqrt(u["correlation_part"] ** 2
+                                               + u["period_part"] ** 2 + u["season_part"] ** 2))
     assert u["interannual_from"].startswith("reference")
 
 
@@ -125,3 +128,45 @@ def test_table_output_shows_sector_correlation(tmp_path, capsys):
                      str(tmp_path / "ref.csv"), "--lt-method", "speed_ratio"]) == 0
     text = capsys.readouterr().out
     assert "Long-term correction (speed_ratio)" in text and "correlation" in text
+
+
+def test_short_concurrent_period_adds_a_season_term_that_vanishes_after_a_year():
+    """Finite-population variance of a sample of n of N = 4 seasons (Cochran 1977, Sampling
+    Techniques, ch. 2): u_s² = σ_s² (N − n)/((N − 1) n). One season (91.25 d) gives σ_s, two
+    seasons σ_s/√3, three σ_s/3 (hand calculation from that formula); a year or more gives 0."""
+    s = 0.05
+    assert long_term.seasonal_part(91.25, s) == pytest.approx(s)
+    assert long_term.seasonal_part(182.5, s) == pytest.approx(s / np.sqrt(3.0))
+    assert long_term.seasonal_part(273.75, s) == pytest.approx(s / 3.0)
+    for d in (365.0, 366.0, 730.0, 3000.0):
+        assert long_term.seasonal_part(d, s) == 0.0
+    days = np.linspace(5.0, 400.0, 200)
+    u = long_term.seasonal_part(days, s)
+    assert u.shape == days.shape and np.all(np.diff(u) <= 0.0)  # shorter overlap, larger
+    assert np.all(np.diff(u[days < 365.0]) < 0.0) and np.all(u >= 0.0)
+
+
+def test_correction_uncertainty_grows_as_the_overlap_shortens():
+    """The same reference and line, overlaps of 60 d to 2 years: the total never falls as the
+    overlap shortens; from a year on the season term is 0 and the total is the correlation and
+    period terms alone (u² = u_c² + u_p²)."""
+    t, x, d, y, _ = _pair(n_conc=2 * 8760)
+    totals = []
+    for days in (60, 92, 150, 250, 365, 500, 730):
+        n = days * 24
+        res = mcp.mcp_long_term(t[-n:], y[-n:], d[-n:], t, x, d, n_sectors=1)
+        u = long_term.correction_uncertainty(res, t, x)
+        assert u["total"] == pytest.approx(np.sqrt(u["correlation_part"] ** 2
+                                                   + u["period_part"] ** 2
+                                                   + u["season_part"] ** 2))
+        if days >= 365:
+            assert u["season_part"] == 0.0
+            assert u["total"] == pytest.approx(np.hypot(u["correlation_part"], u["period_part"]))
+        else:
+            assert u["season_part"] > u["correlation_part"]  # the short overlap dominates
+        totals.append(u["total"])
+    assert np.all(np.diff(totals) <= 0.0), totals
+    # 92 days (about one season): the season term is about σ_s = 5 % by itself.
+    res = mcp.mcp_long_term(t[-92 * 24:], y[-92 * 24:], d[-92 * 24:], t, x, d, n_sectors=1)
+    assert long_term.correction_uncertainty(res, t, x)["season_part"] == pytest.approx(
+        long_term.seasonal_part(res.overlap_days), rel=1e-12)
