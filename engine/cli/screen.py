@@ -303,12 +303,31 @@ def _run_tiled(args, ctx):
 FOOTPRINT_SUFFIXES = (".geojson", ".json")
 
 
+def screen_footprint_file(path, ctx, args):
+    """:func:`engine.screening.positions.screen_footprints` of a GeoJSON file, with the
+    footprint options of ``args`` (``height_field``, ``id_field``, ``crs``,
+    ``grid_spacing_m``, ``setback_m``)."""
+    from engine.io.footprints import MAX_FOOTPRINT_BYTES
+    from engine.screening.positions import screen_footprints
+    if not args.height_field:
+        raise InputError([("--height-field", "must name the footprints' height attribute "
+                                             "(e.g. --height-field height_m), got nothing")])
+    path = Path(path)
+    regular_file_or_raise(path, "a GeoJSON footprint file")
+    with open(path, "rb") as fh:
+        data = fh.read(MAX_FOOTPRINT_BYTES + 1)
+    if len(data) > MAX_FOOTPRINT_BYTES:
+        raise InputError([(str(path), f"must be at most {MAX_FOOTPRINT_BYTES // 2**20} MiB, "
+                                      "got more; split the file by district")])
+    return screen_footprints(data, ctx, height_field=args.height_field,
+                             id_field=args.id_field or None, crs=args.crs or None,
+                             spacing_m=args.grid_spacing_m, setback_m=args.setback_m)
+
+
 def _run_footprints(args, ctx) -> int:
     """A footprint file: every building's best position to --out, every position to
     --positions-out (both written whole or not at all)."""
-    from engine.io.footprints import MAX_FOOTPRINT_BYTES
     from engine.screening.local import write_ranked_csv
-    from engine.screening.positions import screen_footprints
     if args.tile_m is not None:
         raise InputError([("--tile-m", "must not be given with a footprint file, got "
                                        f"{args.tile_m} m: footprint files are screened whole "
@@ -317,20 +336,8 @@ def _run_footprints(args, ctx) -> int:
         raise InputError([("--workers" if args.workers else "--scheduler",
                            "must not be given with a footprint file, got one: footprint files "
                            "are screened on the local engine; leave it out")])
-    if not args.height_field:
-        raise InputError([("--height-field", "must name the footprints' height attribute "
-                                             "(e.g. --height-field height_m), got nothing")])
-    path = Path(args.buildings)
-    regular_file_or_raise(path, "a GeoJSON footprint file")
-    with open(path, "rb") as fh:
-        data = fh.read(MAX_FOOTPRINT_BYTES + 1)
-    if len(data) > MAX_FOOTPRINT_BYTES:
-        raise InputError([(str(path), f"must be at most {MAX_FOOTPRINT_BYTES // 2**20} MiB, "
-                                      "got more; split the file by district")])
     t0 = time.perf_counter()
-    got = screen_footprints(data, ctx, height_field=args.height_field,
-                            id_field=args.id_field or None, crs=args.crs or None,
-                            spacing_m=args.grid_spacing_m, setback_m=args.setback_m)
+    got = screen_footprint_file(args.buildings, ctx, args)
     for where, msg in got.problems:
         print(f"perch screen: {where}: {msg}", file=sys.stderr)
     try:

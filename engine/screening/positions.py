@@ -42,6 +42,41 @@ class FootprintScreening:
     buildings: pd.DataFrame
     problems: tuple  # (where, message) of the features that could not be read
     n_features: int
+    #: The file's local plan (:class:`engine.io.footprints.LocalPlan`) and CRS text, and the
+    #: buildings read (with their outlines), for maps of the answer.
+    plan: object = None
+    crs: str = ""
+    footprints: tuple = ()
+
+
+#: Columns a position gets when the plan's geographic origin is known: longitude and
+#: latitude (WGS 84) [deg], and x, y in the footprint file's own CRS (its units).
+GEO_COLUMNS = ("longitude_deg", "latitude_deg", "crs_x", "crs_y")
+
+
+def with_coordinates(positions: pd.DataFrame, plan, crs: str) -> pd.DataFrame:
+    """``positions`` with :data:`GEO_COLUMNS` inserted after ``y_m``.
+
+    Parameters
+    ----------
+    positions : rows with plan ``x_m``, ``y_m`` [m] on ``plan``
+    plan : :class:`engine.io.footprints.LocalPlan` (its transverse Mercator about the origin)
+    crs : the footprint file's CRS (any pyproj knows)
+
+    Notes
+    -----
+    Both by pyproj from the local plan (``LocalPlan.from_local``), the inverse of the
+    transform the footprints were read with, so a position is where the file put it.
+    """
+    x = positions["x_m"].to_numpy(float)
+    y = positions["y_m"].to_numpy(float)
+    lon, lat = plan.from_local(x, y, "EPSG:4326")
+    cx, cy = plan.from_local(x, y, crs)
+    out = positions.copy()
+    at = list(out.columns).index("y_m") + 1
+    for k, (name, v) in enumerate(zip(GEO_COLUMNS, (lon, lat, cx, cy))):
+        out.insert(at + k, name, np.asarray(v, float))
+    return out
 
 
 def footprint_frame(footprints) -> pd.DataFrame:
@@ -194,6 +229,8 @@ def screen_footprints(data: bytes, ctx: ScreeningContext, *, height_field: str,
     frame = footprint_frame(fs)
     res = screen_local(frame, ctx)
     pos = screen_positions(res.table, ctx, spacing_m, setback_m, blocks_frame=frame)
+    pos = with_coordinates(pos, fs.plan, fs.crs)
     return FootprintScreening(positions=pos, buildings=best_per_building(pos),
                               problems=tuple(fs.problems) + tuple(res.problems),
-                              n_features=len(fs.buildings))
+                              n_features=len(fs.buildings), plan=fs.plan, crs=fs.crs,
+                              footprints=tuple(fs.buildings))
