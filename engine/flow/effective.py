@@ -423,8 +423,7 @@ def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
         diag["gap_wall_force_per_q_m2"][gap] = gf["wall_force_per_q_m2"]
 
     sh = shelter.shelter(px, py, hub, bldg, sector_deg, exclude)
-    ti = np.hypot(ti, sh["added_ti"])
-    speed = speed * sh["speed_factor"]
+    speed, ti = shelter.apply_shelter(speed, ti, sh)
     diag["shelter_speed_factor"] = sh["speed_factor"]
     in_cavity_ps = sh["in_wake_recirculation"]
 
