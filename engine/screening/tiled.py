@@ -122,7 +122,7 @@ def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None,
         per row it screens, r the fetch
     client : a ``distributed.Client``: the tiles are screened on its workers (one task each)
     first_line : the line (CSV, header on line 1: 2) or row number (Parquet: 1) of the
-        frame's first row, in which bad rows are reported
+        frame's first row, in which bad rows are reported (as "row" from 1, else "line")
 
     Returns
     -------
@@ -167,5 +167,6 @@ def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None,
     table = pd.concat(tables, ignore_index=True) if tables else empty_result(ctx)
     bad = bad_rows_frame([back(b).assign(problem=b["problem"]) for _, b in got], dups)
     table = finish_table(rank_results(table), ctx.turbines)
-    return ScreeningResult(table=table, problems=row_problems(bad), n_rows=len(frame),
+    word = "row" if first == 1 else "line"  # Parquet rows count from 1, CSV lines from 2
+    return ScreeningResult(table=table, problems=row_problems(bad, word), n_rows=len(frame),
                            bad_rows=bad)

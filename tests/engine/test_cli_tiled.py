@@ -72,3 +72,18 @@ def test_tiles_without_per_sector_surroundings_are_refused(files):
     assert r.returncode == 2
     assert "--tile-m" in r.stderr and "sector_morphometry" in r.stderr
     assert "Traceback" not in r.stderr
+
+
+def test_bad_rows_are_named_as_the_untiled_command_names_them(files):
+    """A bad height in a CSV and in a Parquet copy: the tiled run names the same line (CSV)
+    or row (Parquet) as the untiled run."""
+    frame = make_district.make_district(200)
+    frame.loc[4, "height_m"] = -3.0
+    frame.to_csv(files / "bad.csv", index=False)
+    frame.to_parquet(files / "bad.parquet", index=False)
+    for name, where in (("bad.csv", "line 6 "), ("bad.parquet", "row 5 ")):
+        for extra in ((), ("--tile-m", "200")):
+            r = run("screen", str(files / name), "--climate", str(files / "site.json"),
+                    "--out", str(files / "bad_out.csv"), "--quiet", *extra)
+            assert r.returncode == 0, r.stderr
+            assert f"{where}(id 'B0000005'): height_m" in r.stderr, (name, extra, r.stderr)
