@@ -2,8 +2,9 @@
 plain loops, side by side in one run.
 
 1. The screening of a seeded district (``demo_sites/make_district.py``) with the square
-   neighbourhood, then with per-sector surroundings (fetch 150 m and 300 m), and tiled with a
-   halo (300 m): CPU seconds and the ratio to the square.
+   neighbourhood, then with per-sector surroundings (fetch 150 m and 300 m, without and with
+   the upwind neighbours' wakes), and tiled with a halo (300 m): CPU seconds and the ratio to
+   the square.
 2. ``sector_morphometry_points`` (whole blocks by their centres, numpy) beside the
    footprint-clipping form (shapely, one wedge at a time) on one point and 2,000 blocks.
 3. ``roof_candidate_arrays`` beside ``roof_candidate_points`` called roof by roof.
@@ -46,12 +47,15 @@ def screening_costs(n: int) -> None:
     print(f"screening {n:,} buildings (CPU s, ratio to the square neighbourhood)")
     print(f"  square 220 m          {base:7.2f} s  1.00")
     for fetch in (150.0, 300.0):
-        c = replace(ctx, transfer=replace(ctx.transfer, sector_morphometry=True,
-                                          sector_fetch_m=fetch))
-        t, res = cpu(lambda: screening.screen_local(frame, c))
-        share = (res.table["suitability"] == "worth a visit").mean()
-        print(f"  sectors, fetch {fetch:3.0f} m  {t:7.2f} s  {t / base:4.2f}   worth a visit "
-              f"{share * 100:.1f} %")
+        for shelter in (False, True):
+            c = replace(ctx, transfer=replace(ctx.transfer, sector_morphometry=True,
+                                              sector_fetch_m=fetch),
+                        settings=replace(ctx.settings, upwind_shelter=shelter))
+            t, res = cpu(lambda: screening.screen_local(frame, c))
+            share = (res.table["suitability"] == "worth a visit").mean()
+            label = "+ wakes" if shelter else "no wakes"
+            print(f"  sectors, fetch {fetch:3.0f} m, {label:8s} {t:7.2f} s  {t / base:4.2f}   "
+                  f"worth a visit {share * 100:.1f} %")
     c = replace(ctx, transfer=replace(ctx.transfer, sector_morphometry=True))
     for tile in (500.0, 2000.0):
         t, _ = cpu(lambda: tiled.screen_tiled(frame, c, tile_m=tile))

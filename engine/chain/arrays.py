@@ -28,6 +28,7 @@ from engine.climate.weibull import mixture_mean_ms
 from engine.energy import aep as energy
 from engine.flow import effective as flow
 from engine.flow import roofzones
+from engine.flow import shelter as wakes
 
 
 @dataclass(frozen=True)
@@ -163,7 +164,7 @@ def _terrain_canopy(terrain, n):
 
 
 def roof_climate(roofs, terrain, mast_m, climate, air_density_kgm3, transfer_settings,
-                 clearance_only: bool = False, geometry=None, main_sector=None):
+                 clearance_only: bool = False, geometry=None, main_sector=None, upwind=None):
     """Effective climate of roof positions given as arrays, each over its own terrain.
 
     Parameters
@@ -182,16 +183,22 @@ def roof_climate(roofs, terrain, mast_m, climate, air_density_kgm3, transfer_set
     geometry : :func:`roof_geometry` of the same positions, when already found (it does not
         depend on the mast)
     main_sector : (P, S) main energy sectors, when already found at another mast
+    upwind : callable taking the (P,) hub heights [m] and giving the shelter of the positions
+        by their upwind neighbours (:func:`engine.flow.shelter.shelter`: (P, S)
+        ``speed_factor``, ``added_ti``, ``in_wake_recirculation``); None: no building upwind
 
     Returns
     -------
     :class:`engine.flow.effective.EffectiveClimate` with (P,) diagnostics
-    ``min_clear_mast_m``, ``in_turbulence_zone``, ``in_recirculation_zone``, ``in_roof_wake``.
+    ``min_clear_mast_m``, ``in_turbulence_zone``, ``in_recirculation_zone``, ``in_roof_wake``,
+    ``shelter_factor`` (energy-weighted mean of the shelter's speed factor, 1 without
+    ``upwind``).
 
     Notes
     -----
-    The steps of :func:`engine.flow.effective.effective_climate` for roof positions with no
-    other building upwind (no wake), with the terrain per position instead of one site's.
+    The steps of :func:`engine.flow.effective.effective_climate` for roof positions, with the
+    terrain per position instead of one site's: roof flow, then the upwind wakes
+    (:func:`engine.flow.shelter.apply_shelter`; no turbulence credit in a wake cavity).
     """
     H = np.asarray(roofs["height_m"], float)
     mast = np.asarray(mast_m, float)
@@ -213,25 +220,35 @@ def roof_climate(roofs, terrain, mast_m, climate, air_density_kgm3, transfer_set
     if clearance_only:
         return rf["min_clear_mast_m"], main
     clear = rf["clearance"]
+    speed, ti = rf["speed_factor"], rf["turbulence_intensity"]
+    # As in effective_climate: no turbulence credit in a recirculation bubble or a wake cavity.
+    no_credit = clear["recirculation"] < 0
+    shelter_mean = np.ones(hub.size)
+    if upwind is not None:
+        sh = upwind(hub)
+        speed, ti = wakes.apply_shelter(speed, ti, sh)
+        no_credit = no_credit | sh["in_wake_recirculation"]
+        share = roofzones.sector_energy_share(freq, k, free_c)
+        shelter_mean = np.sum(share * sh["speed_factor"], axis=1)
     diag = {"min_clear_mast_m": rf["min_clear_mast_m"],
             "in_turbulence_zone": ((clear["turbulence"] < 0) & main).any(axis=1),
-            "in_recirculation_zone": ((clear["recirculation"] < 0) & main).any(axis=1),
+            "in_recirculation_zone": (no_credit & main).any(axis=1),
             "in_roof_wake": ((clear["wake"] < 0) & main).any(axis=1),
-            # As in effective_climate: no turbulence credit in a recirculation bubble (no
-            # other building here, so no wake cavity).
-            "no_turbulence_credit": clear["recirculation"] < 0}
+            "no_turbulence_credit": no_credit, "shelter_factor": shelter_mean}
     return flow.EffectiveClimate(
         position_ids=tuple(roofs["id"]), sector_deg=sector_deg, hub_height_m=hub,
-        frequency=freq, weibull_k=k, free_c_ms=free_c, speed_factor=rf["speed_factor"],
-        turbulence_intensity=rf["turbulence_intensity"],
+        frequency=freq, weibull_k=k, free_c_ms=free_c, speed_factor=speed,
+        turbulence_intensity=ti,
         inflow_skew_deg=rf["inflow_skew_deg"], air_density_kgm3=float(air_density_kgm3),
         flags=(), diagnostics=diag)
 
 
 def roof_yields(roofs, terrain, mast_m, climate, air_density_kgm3, transfer_settings,
                 turbines, losses, geometry=None, main_sector=None,
-                speed_sensitivity: bool = False) -> PositionYields:
-    """:func:`position_yields` of :func:`roof_climate`: the whole chain for roof positions."""
+                speed_sensitivity: bool = False, upwind=None):
+    """:func:`position_yields` of :func:`roof_climate` (the whole chain for roof positions),
+    and the (P,) ``shelter_factor`` of the upwind wakes [-]."""
     eff = roof_climate(roofs, terrain, mast_m, climate, air_density_kgm3, transfer_settings,
-                       geometry=geometry, main_sector=main_sector)
-    return position_yields(eff, turbines, losses, speed_sensitivity=speed_sensitivity)
+                       geometry=geometry, main_sector=main_sector, upwind=upwind)
+    return (position_yields(eff, turbines, losses, speed_sensitivity=speed_sensitivity),
+            eff.diagnostics["shelter_factor"])

@@ -10,6 +10,9 @@ the others are still written; a file with none readable exits 2.
 
 ``geojson SITE.json --out ranked.geojson [--lon-lat]`` writes the ranked positions (best turbine
 each) and the buildings as GeoJSON in the site's CRS, or longitude/latitude.
+``geojson FOOTPRINTS.geojson --height-field NAME [--climate SITE.json] --out screened.geojson``
+screens the footprints first (as ``screen`` does) and writes every candidate position and
+every building with its best position's class, in the file's CRS or longitude/latitude.
 """
 from __future__ import annotations
 
@@ -74,9 +77,31 @@ def cmd_footprints(args) -> int:
 
 
 def cmd_geojson(args) -> int:
+    if args.height_field:
+        return _screened_geojson(args)
     ev = pipeline.evaluate(sitefile.load(args.site))
     atomic_write_bytes(Path(args.out), ranked_geojson_bytes(ev, lon_lat=args.lon_lat),
                        keep_previous=False)
+    return 0
+
+
+def _screened_geojson(args) -> int:
+    """``geojson FOOTPRINTS --height-field``: screen the footprints, write the answer."""
+    from engine.cli.screen import CAUTION, build_context, screen_footprint_file
+    from engine.report.geodata import screened_geojson_bytes
+    ctx = build_context(args.climate, args.turbines)
+    got = screen_footprint_file(args.site, ctx, args)
+    for where, msg in got.problems:
+        print(f"perch geojson: {where}: {msg}", file=sys.stderr)
+    if not len(got.buildings):
+        raise InputError([("footprints", "no footprint could be screened; fix the features "
+                                         "listed above")])
+    atomic_write_bytes(Path(args.out), screened_geojson_bytes(got, lon_lat=args.lon_lat),
+                       keep_previous=False)
+    print(f"perch geojson: {len(got.buildings)} buildings and {len(got.positions)} positions "
+          f"written to {args.out} ({'EPSG:4326' if args.lon_lat else got.crs})",
+          file=sys.stderr)
+    print(f"perch geojson: {CAUTION}", file=sys.stderr)
     return 0
 
 
@@ -116,7 +141,22 @@ def register_footprints(sub):
 
 def register_geojson(sub):
     p = sub.add_parser("geojson", help="write ranked positions and buildings as GeoJSON")
-    p.add_argument("site", help="site file (JSON) with a geographic origin")
+    p.add_argument("site", help="site file (JSON) with a geographic origin; or, with "
+                                "--height-field, a GeoJSON footprint file to screen")
+    p.add_argument("--height-field", default="",
+                   help="footprint files: the attribute holding each height [m]; the file is "
+                        "screened and every position and building written")
+    p.add_argument("--id-field", default="", help="footprint files: the attribute of the ids")
+    p.add_argument("--crs", default="", help="footprint files: their CRS when not stated")
+    p.add_argument("--climate", action="append", metavar="[ZONE=]FILE",
+                   help="footprint files: site file or climate JSON (as for screen)")
+    p.add_argument("--turbines", default="",
+                   help="footprint files: comma-separated turbine ids")
+    p.add_argument("--grid-spacing-m", type=_positive, default=None,
+                   help="footprint files: candidate grid spacing on each roof [m] (default: "
+                        "the roof centre only)")
+    p.add_argument("--setback-m", type=_positive, default=DEFAULT_SETBACK_M,
+                   help="footprint files: candidates kept this far from every roof edge [m]")
     p.add_argument("--out", required=True, help="GeoJSON file to write")
     p.add_argument("--lon-lat", action="store_true",
                    help="longitude/latitude (EPSG:4326) instead of the site's own CRS")

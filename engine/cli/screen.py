@@ -22,10 +22,12 @@ import os
 import re
 import sys
 import time
+from contextlib import contextmanager
 from pathlib import Path
 
 from engine import screening
 from engine.core import model
+from engine.cli.common import finite_float
 from engine.core.errors import InputError, Problems
 from engine.io import sitefile
 from engine.screening.passes import OutputWriteError
@@ -238,15 +240,16 @@ def check_arguments(args) -> None:
         trusted_security(scheme, args.scheduler, args.trust_scheduler)
 
 
-def _run(args, ctx):
-    """The screening on the engine the arguments choose; the ranked table streamed to --out."""
+@contextmanager
+def _client(args):
+    """The Dask client the arguments ask for (``--scheduler`` or ``--workers``), else None."""
     if args.scheduler:
         scheme, _, _ = parse_scheduler(args.scheduler)
         client = connect(args.scheduler,
                          trusted_security(scheme, args.scheduler, args.trust_scheduler))
         with client:
-            return screening.screen_dask(args.buildings, ctx, client, out_csv=args.out)
-    if args.workers:
+            yield client
+    elif args.workers:
         from distributed import Client, LocalCluster
         # Thread workers in this process (process workers would re-run this command when
         # they start). TCP on 127.0.0.1: without a host the in-process cluster still opens
@@ -254,6 +257,17 @@ def _run(args, ctx):
         with LocalCluster(n_workers=args.workers, threads_per_worker=1, processes=False,
                           protocol="tcp", host="127.0.0.1",
                           dashboard_address=None) as cluster, Client(cluster) as client:
+            yield client
+    else:
+        yield None
+
+
+def _run(args, ctx):
+    """The screening on the engine the arguments choose; the ranked table streamed to --out."""
+    if args.tile_m is not None:
+        return _run_tiled(args, ctx)
+    if args.scheduler or args.workers:
+        with _client(args) as client:
             return screening.screen_dask(args.buildings, ctx, client, out_csv=args.out)
 
     def progress(f, text):
@@ -265,34 +279,65 @@ def _run(args, ctx):
     return res
 
 
+def _run_tiled(args, ctx):
+    """``--tile-m``: the tiled screening (:func:`engine.screening.tiled.screen_tiled`) with
+    the halo set to the sector fetch, locally or one task per tile on the Dask client."""
+    from engine.screening.local import write_ranked_csv
+    from engine.screening.tiled import check_tile_size, read_table_frame, screen_tiled
+    if not ctx.transfer.sector_morphometry:
+        raise InputError([("--tile-m", "must be given with per-sector surroundings (the halo "
+                                       "is the sector fetch), got transfer.sector_morphometry "
+                                       "off; set it to true in the --climate site file or "
+                                       "leave --tile-m out")])
+    tile_m = check_tile_size(args.tile_m, ctx.transfer.sector_fetch_m, "--tile-m")
+    frame, first_line = read_table_frame(args.buildings)
+    with _client(args) as client:
+        res = screen_tiled(frame, ctx, tile_m=tile_m, client=client, first_line=first_line)
+    write_ranked_csv(res.table, args.out)
+    print(f"perch screen: tiles of {tile_m:g} m with a halo of "
+          f"{ctx.transfer.sector_fetch_m:g} m (the sector fetch)", file=sys.stderr)
+    return res
+
+
 #: File endings read as GeoJSON footprints rather than a buildings table.
 FOOTPRINT_SUFFIXES = (".geojson", ".json")
 
 
-def _run_footprints(args, ctx) -> int:
-    """A footprint file: every building's best position to --out, every position to
-    --positions-out (both written whole or not at all)."""
+def screen_footprint_file(path, ctx, args):
+    """:func:`engine.screening.positions.screen_footprints` of a GeoJSON file, with the
+    footprint options of ``args`` (``height_field``, ``id_field``, ``crs``,
+    ``grid_spacing_m``, ``setback_m``)."""
     from engine.io.footprints import MAX_FOOTPRINT_BYTES
-    from engine.screening.local import write_ranked_csv
     from engine.screening.positions import screen_footprints
-    if args.workers or args.scheduler:
-        raise InputError([("--workers" if args.workers else "--scheduler",
-                           "must not be given with a footprint file, got one: footprint files "
-                           "are screened on the local engine; leave it out")])
     if not args.height_field:
         raise InputError([("--height-field", "must name the footprints' height attribute "
                                              "(e.g. --height-field height_m), got nothing")])
-    path = Path(args.buildings)
+    path = Path(path)
     regular_file_or_raise(path, "a GeoJSON footprint file")
     with open(path, "rb") as fh:
         data = fh.read(MAX_FOOTPRINT_BYTES + 1)
     if len(data) > MAX_FOOTPRINT_BYTES:
         raise InputError([(str(path), f"must be at most {MAX_FOOTPRINT_BYTES // 2**20} MiB, "
                                       "got more; split the file by district")])
+    return screen_footprints(data, ctx, height_field=args.height_field,
+                             id_field=args.id_field or None, crs=args.crs or None,
+                             spacing_m=args.grid_spacing_m, setback_m=args.setback_m)
+
+
+def _run_footprints(args, ctx) -> int:
+    """A footprint file: every building's best position to --out, every position to
+    --positions-out (both written whole or not at all)."""
+    from engine.screening.local import write_ranked_csv
+    if args.tile_m is not None:
+        raise InputError([("--tile-m", "must not be given with a footprint file, got "
+                                       f"{args.tile_m} m: footprint files are screened whole "
+                                       "on the local engine; leave it out")])
+    if args.workers or args.scheduler:
+        raise InputError([("--workers" if args.workers else "--scheduler",
+                           "must not be given with a footprint file, got one: footprint files "
+                           "are screened on the local engine; leave it out")])
     t0 = time.perf_counter()
-    got = screen_footprints(data, ctx, height_field=args.height_field,
-                            id_field=args.id_field or None, crs=args.crs or None,
-                            spacing_m=args.grid_spacing_m, setback_m=args.setback_m)
+    got = screen_footprint_file(args.buildings, ctx, args)
     for where, msg in got.problems:
         print(f"perch screen: {where}: {msg}", file=sys.stderr)
     try:
@@ -390,6 +435,11 @@ def register_screen(sub):
                    help="footprint files: candidates kept this far from every roof edge [m]")
     p.add_argument("--positions-out", default="",
                    help="footprint files: also write every candidate position (CSV)")
+    p.add_argument("--tile-m", type=finite_float, default=None, metavar="M",
+                   help="screen the table in square tiles of side M [m], each with a halo of "
+                        "the sector fetch (needs transfer.sector_morphometry on in the "
+                        "--climate site file; M at least the fetch); locally, or one task per "
+                        "tile with --workers or --scheduler")
     p.add_argument("--quiet", action="store_true", help="no progress line")
     p.add_argument("--debug", action="store_true", help="show the traceback of an internal error")
     p.set_defaults(func=cmd_screen)

@@ -351,8 +351,7 @@ def _building_effects(assessment, hub, sector_deg, freq, k, free_c, ti0):
     _apply_roofs(fx, where, bldg, sector_deg, ti0, main)
     _apply_gaps(fx, where, bldg, sector_deg, hub, share, top)
     sh = shelter.shelter(where["x_m"], where["y_m"], hub, bldg, sector_deg, where["exclude"])
-    fx["ti"] = np.hypot(fx["ti"], sh["added_ti"])
-    fx["speed"] = fx["speed"] * sh["speed_factor"]
+    fx["speed"], fx["ti"] = shelter.apply_shelter(fx["speed"], fx["ti"], sh)
     fx["diag"]["shelter_speed_factor"] = sh["speed_factor"]
     flags = _summarise_effects(fx, where["kind"], sh, share, main, top, bldg.ids)
     return {"speed_factor": fx["speed"], "turbulence_intensity": fx["ti"],

@@ -140,3 +140,40 @@ def shelter(px_m, py_m, hub_height_m, bldg: geom.BuildingArrays, direction_deg,
     strongest = np.where(delta.max(axis=1) > 0, np.argmax(delta, axis=1), -1)
     return {"speed_factor": factor, "added_ti": added,
             "in_wake_recirculation": cavity.any(axis=1), "sheltering_building": strongest}
+
+
+def shelter_within_fetch(px_m, py_m, hub_height_m, bldg: geom.BuildingArrays, direction_deg,
+                         fetch_m: float, exclude=None, coeffs=None):
+    """:func:`shelter` by the blocks whose centres lie within ``fetch_m`` of each point only.
+
+    Parameters
+    ----------
+    px_m, py_m, hub_height_m, bldg, direction_deg, exclude, coeffs : as :func:`shelter`
+    fetch_m : radius around each point within which a block's centre must lie [m] (the
+        per-sector surroundings' fetch, so the same neighbours give the terrain and the wakes)
+
+    Notes
+    -----
+    The wake reaches 20 H downstream (module docstring); blocks further than the fetch are
+    left out, so the shelter of a tall, distant block is missed (it is already part of the
+    terrain of the sectors it lies in only when within the fetch).
+    """
+    px = np.atleast_1d(np.asarray(px_m, float))
+    py = np.atleast_1d(np.asarray(py_m, float))
+    far = np.hypot(bldg.x_m[None, :] - px[:, None], bldg.y_m[None, :] - py[:, None]) > fetch_m
+    if exclude is not None:
+        far |= np.asarray(exclude, bool)
+    return shelter(px, py, hub_height_m, bldg, direction_deg, far, coeffs)
+
+
+def apply_shelter(speed_factor, turbulence_intensity, sh: dict):
+    """Speed factor and turbulence intensity with a :func:`shelter` result applied, (P, S).
+
+    Notes
+    -----
+    S' = S · (1 − δ); TI' = sqrt(TI² + ΔI²) (the wake's added turbulence in quadrature, see
+    the module docstring). The detailed chain (:func:`engine.flow.effective.effective_climate`)
+    and the chain over arrays (:func:`engine.chain.arrays.roof_climate`) both call it.
+    """
+    return (np.asarray(speed_factor, float) * sh["speed_factor"],
+            np.hypot(turbulence_intensity, sh["added_ti"]))

@@ -98,3 +98,71 @@ def ranked_geojson_bytes(evaluation, lon_lat: bool = False) -> bytes:
     """:func:`ranked_geojson` as UTF-8 JSON text (lone surrogates escaped, never an error)."""
     return (json.dumps(ranked_geojson(evaluation, lon_lat), indent=1, ensure_ascii=True)
             + "\n").encode("ascii")
+
+
+#: Properties written for each screened position, in this order.
+SCREENED_POSITION_PROPERTIES = ("building_id", "suitability", "reasons", "best_turbine_id",
+                                "best_aep_kwh", "best_capacity_factor", "mast_height_m",
+                                "hub_height_m", "mean_speed_ms")
+#: Properties written for each screened building (from its best position), in this order.
+SCREENED_BUILDING_PROPERTIES = ("rank", "n_positions", "position_id", "suitability",
+                                "best_turbine_id", "best_aep_kwh", "best_capacity_factor")
+
+
+def screened_geojson(screened, lon_lat: bool = False) -> dict:
+    """GeoJSON FeatureCollection of a footprint screening: every position, every building.
+
+    Parameters
+    ----------
+    screened : :class:`engine.screening.positions.FootprintScreening`
+    lon_lat : write longitude/latitude (EPSG:4326) instead of the footprint file's own CRS
+
+    Returns
+    -------
+    dict
+        Positions as Points (class, reasons, best turbine and AEP, mast), buildings as
+        Polygons of their footprint outline with their best position's figures; a ``crs``
+        member names the CRS when it is not longitude/latitude.
+
+    Notes
+    -----
+    Coordinates go from the local plan to the CRS by pyproj (``LocalPlan.from_local``), the
+    inverse of the transform the footprints were read with.
+    """
+    if screened.plan is None:
+        raise InputError([("footprints", "the screening has no geographic plan; screen a "
+                                         "GeoJSON footprint file")])
+    crs = GEOJSON_DEFAULT_CRS if lon_lat or not screened.crs else screened.crs
+    plan = screened.plan
+    pos = screened.positions
+    features = []
+    if len(pos):
+        gx, gy = plan.from_local(pos["x_m"].to_numpy(float), pos["y_m"].to_numpy(float), crs)
+        cols = {k: pos[k].tolist() for k in ("position_id",) + SCREENED_POSITION_PROPERTIES}
+        for i, (x, y) in enumerate(zip(np.atleast_1d(gx), np.atleast_1d(gy))):
+            props = {"layer": "position", "position_id": cols["position_id"][i]}
+            props.update({k: _value(cols[k][i]) for k in SCREENED_POSITION_PROPERTIES})
+            features.append({"type": "Feature", "id": cols["position_id"][i],
+                             "properties": props,
+                             "geometry": {"type": "Point",
+                                          "coordinates": [float(x), float(y)]}})
+    best = {r["building_id"]: r for r in screened.buildings.to_dict("records")}
+    for b in screened.footprints:
+        xy = building_outline_m(b)
+        x, y = plan.from_local(xy[:, 0], xy[:, 1], crs)
+        ring = np.column_stack([x, y]).tolist()
+        row = best.get(b.id, {})
+        props = {"layer": "building", "building_id": b.id, "height_m": b.height_m}
+        props.update({k: _value(row.get(k)) for k in SCREENED_BUILDING_PROPERTIES})
+        features.append({"type": "Feature", "id": b.id, "properties": props,
+                         "geometry": {"type": "Polygon", "coordinates": [ring + [ring[0]]]}})
+    doc = {"type": "FeatureCollection", "name": "screened footprints", "features": features}
+    if crs != GEOJSON_DEFAULT_CRS:
+        doc["crs"] = {"type": "name", "properties": {"name": crs}}
+    return doc
+
+
+def screened_geojson_bytes(screened, lon_lat: bool = False) -> bytes:
+    """:func:`screened_geojson` as UTF-8 JSON text (lone surrogates escaped)."""
+    return (json.dumps(screened_geojson(screened, lon_lat), indent=1, ensure_ascii=True)
+            + "\n").encode("ascii")

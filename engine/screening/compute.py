@@ -21,7 +21,7 @@ from engine.screening.checks import good_rows
 from engine.screening.merge import rank_key_arrays, ranking_order
 from engine.screening.neighbourhood import Neighbourhood, surroundings
 from engine.screening.settings import CLASSES, ScreeningContext
-from engine.screening.tiles import sector_surroundings
+from engine.screening.tiles import sector_surroundings, upwind_shelter
 
 #: Per-sector surroundings (N, S) -> the chain's terrain keys.
 SECTOR_TERRAIN = {"roughness_m": "sector_roughness_m", "displacement_m": "sector_displacement_m",
@@ -127,7 +127,7 @@ def _phrases(combo: np.ndarray, by_cf, extra) -> np.ndarray:
 
 
 def suitability(best_cf, mast_m, hub_m, sur: dict, rows, ctx: ScreeningContext,
-                mean_speed_ms=None, carried=None):
+                mean_speed_ms=None, carried=None, shelter_factor=None):
     """Suitability class code (index into :data:`CLASSES`) and reasons text per building.
 
     Notes
@@ -136,7 +136,8 @@ def suitability(best_cf, mast_m, hub_m, sur: dict, rows, ctx: ScreeningContext,
     building is unsuitable whatever its yield when the mast it needs is above the ranking's
     mast limit or above the settings' fraction of the building's height, when the hub would
     sit at or below the surroundings' displacement height, when the mean hub speed is below
-    the settings' floor, or when no chosen turbine's rotor fits the roof.
+    the settings' floor, or when no chosen turbine's rotor fits the roof. A reason says when
+    the upwind neighbours' wakes (``shelter_factor`` below 0.9) slow the wind at the hub.
     """
     st = ctx.settings
     limit = ctx.ranking.max_mast_height_m
@@ -175,6 +176,9 @@ def suitability(best_cf, mast_m, hub_m, sur: dict, rows, ctx: ScreeningContext,
         (height >= st.tall_ratio * sur["surroundings_height_m"], "stands above its neighbours"),
         (np.asarray(rows["roof_type"], object) == "pitched",
          "pitched roof: the flow over it depends strongly on direction"),
+        (np.zeros(n, bool) if shelter_factor is None else np.asarray(shelter_factor) < 0.9,
+         "sheltered by upwind neighbours: their wakes slow the wind at the hub by more than "
+         "10 %"),
     ]
     ruled_out = none_fits | np.any([m for m, _ in extra[:4]], axis=0)
     code = np.where(ruled_out, 3, np.minimum(cf_code, 3))
@@ -206,7 +210,7 @@ def result_frame(cols, ctx: ScreeningContext) -> pd.DataFrame:
 
 
 def screen_chunk(rows: dict, sur: dict, climate, air_density_kgm3,
-                 ctx: ScreeningContext) -> dict:
+                 ctx: ScreeningContext, blocks=None) -> dict:
     """Mast, hub conditions and yield of one chunk of buildings (one climate), (n,) arrays.
 
     The roof geometry is found once and shared by the mast search (:func:`choose_mast_m`) and
@@ -219,7 +223,12 @@ def screen_chunk(rows: dict, sur: dict, climate, air_density_kgm3,
     dict: ``min_clear_mast_m``, ``mast_height_m``, ``hub_height_m``, ``mean_speed_ms``,
     ``turbulence_intensity`` (n,); ``net_kwh`` [kWh], ``capacity_factor`` (n, T), NaN for a
     turbine whose rotor the roof cannot carry (:func:`roof_carries`); the mast is chosen for
-    the largest rotor the roof carries
+    the largest rotor the roof carries; ``shelter_factor`` (n,) of the upwind wakes [-]
+
+    With ``blocks`` (the table's buildings, :class:`engine.screening.tiles.TableBlocks`) the
+    positions are sheltered by the neighbours within ``transfer.sector_fetch_m``
+    (:func:`engine.screening.tiles.upwind_shelter`; a position at ``px_m``, ``py_m`` where
+    the rows give them, else at its building's centre).
     """
     if "sector_roughness_m" in sur:  # per sector: the chain takes the (n, S) terrain
         sur = {**sur, **{k: sur[v] for k, v in SECTOR_TERRAIN.items()}}
@@ -231,10 +240,16 @@ def screen_chunk(rows: dict, sur: dict, climate, air_density_kgm3,
     geo = chain_arrays.roof_geometry(rows, np.asarray(climate.sector_deg, float))
     mast, main = choose_mast_m(rows, sur, climate, air_density_kgm3, ctx, geometry=geo,
                                return_main=True, rotor_radius_m=r_row)
-    at_hub = chain_arrays.roof_yields(rows, sur, mast, climate, air_density_kgm3,
-                                      ctx.transfer, ctx.turbines, ctx.losses, geometry=geo,
-                                      main_sector=main)
+    upwind = None
+    if blocks is not None:
+        upwind = upwind_shelter(rows.get("px_m", rows["x_m"]), rows.get("py_m", rows["y_m"]),
+                                rows["x_m"], rows["y_m"], blocks, climate.sector_deg,
+                                ctx.transfer.sector_fetch_m)
+    at_hub, sheltered = chain_arrays.roof_yields(
+        rows, sur, mast, climate, air_density_kgm3, ctx.transfer, ctx.turbines, ctx.losses,
+        geometry=geo, main_sector=main, upwind=upwind)
     return {"min_clear_mast_m": at_hub.min_clear_mast_m, "mast_height_m": mast,
+            "shelter_factor": sheltered,
             "hub_height_m": at_hub.hub_height_m, "mean_speed_ms": at_hub.mean_speed_ms,
             "turbulence_intensity": at_hub.turbulence_intensity,
             "net_kwh": np.where(carried, at_hub.net_kwh, np.nan),
@@ -251,19 +266,21 @@ def _chunks(zkey: np.ndarray, zone_key, step: int):
                else idx[a:a + step])
 
 
-def _screen_zones(rows: dict, sur: dict, ctx: ScreeningContext) -> dict:
+def _screen_zones(rows: dict, sur: dict, ctx: ScreeningContext, blocks=None) -> dict:
     """:func:`screen_chunk` of every chunk of every zone, gathered into (n,) / (n, T) arrays."""
     n, T = len(rows["id"]), len(ctx.turbines)
     rho = air.site_air_density_kgm3(ctx.site)
     zone = np.asarray(rows["zone"], object)
     zkey = np.where(np.isin(zone, [z for z in ctx.climates if z]), zone, "")
     out = {c: np.empty(n) for c in ("min_clear_mast_m", "mast_height_m", "hub_height_m",
-                                    "mean_speed_ms", "turbulence_intensity")}
+                                    "mean_speed_ms", "turbulence_intensity",
+                                    "shelter_factor")}
     out.update(net_kwh=np.empty((n, T)), capacity_factor=np.empty((n, T)))
     for zk in sorted(set(zkey)):
         for sel in _chunks(zkey, zk, int(ctx.settings.chunk_rows)):
             got = screen_chunk({k: v[sel] for k, v in rows.items()},
-                               {k: v[sel] for k, v in sur.items()}, ctx.climates[zk], rho, ctx)
+                               {k: v[sel] for k, v in sur.items()}, ctx.climates[zk], rho, ctx,
+                               blocks)
             for name, arr in got.items():
                 out[name][sel] = arr
     return out
@@ -289,7 +306,9 @@ def screen_columns(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourho
     if ctx.transfer.sector_morphometry and nb.blocks is not None:
         sur = sector_surroundings(rows, sur, nb.blocks, ctx.site, ctx.transfer,
                                   _sector_count(ctx))
-    got = _screen_zones(rows, sur, ctx)
+    shelter_by = (nb.blocks if ctx.transfer.sector_morphometry and ctx.settings.upwind_shelter
+                  else None)
+    got = _screen_zones(rows, sur, ctx, shelter_by)
     sector = {k: sur.pop(v) for k, v in SECTOR_TERRAIN.items() if v in sur}
     net_kwh, cf = got.pop("net_kwh"), got.pop("capacity_factor")
     carried = np.isfinite(net_kwh).any(axis=1)
@@ -299,7 +318,8 @@ def screen_columns(checked: pd.DataFrame, ctx: ScreeningContext, nb: Neighbourho
     # The hub must clear the displacement height of every sector (the deepest wake).
     deep = {**sur, "displacement_m": sector["displacement_m"].max(axis=1)} if sector else sur
     code, reasons = suitability(best_cf, got["mast_height_m"], got["hub_height_m"], deep, rows,
-                                ctx, mean_speed_ms=got["mean_speed_ms"], carried=carried)
+                                ctx, mean_speed_ms=got["mean_speed_ms"], carried=carried,
+                                shelter_factor=got.pop("shelter_factor"))
     best_ids = np.asarray([t.id for t in ctx.turbines], dtype=object)[best]
     best_ids[~carried] = ""
     out = {"rank": np.zeros(n, np.int64), "id": np.asarray(rows["id"], object),

@@ -42,6 +42,41 @@ class FootprintScreening:
     buildings: pd.DataFrame
     problems: tuple  # (where, message) of the features that could not be read
     n_features: int
+    #: The file's local plan (:class:`engine.io.footprints.LocalPlan`) and CRS text, and the
+    #: buildings read (with their outlines), for maps of the answer.
+    plan: object = None
+    crs: str = ""
+    footprints: tuple = ()
+
+
+#: Columns a position gets when the plan's geographic origin is known: longitude and
+#: latitude (WGS 84) [deg], and x, y in the footprint file's own CRS (its units).
+GEO_COLUMNS = ("longitude_deg", "latitude_deg", "crs_x", "crs_y")
+
+
+def with_coordinates(positions: pd.DataFrame, plan, crs: str) -> pd.DataFrame:
+    """``positions`` with :data:`GEO_COLUMNS` inserted after ``y_m``.
+
+    Parameters
+    ----------
+    positions : rows with plan ``x_m``, ``y_m`` [m] on ``plan``
+    plan : :class:`engine.io.footprints.LocalPlan` (its transverse Mercator about the origin)
+    crs : the footprint file's CRS (any pyproj knows)
+
+    Notes
+    -----
+    Both by pyproj from the local plan (``LocalPlan.from_local``), the inverse of the
+    transform the footprints were read with, so a position is where the file put it.
+    """
+    x = positions["x_m"].to_numpy(float)
+    y = positions["y_m"].to_numpy(float)
+    lon, lat = plan.from_local(x, y, "EPSG:4326")
+    cx, cy = plan.from_local(x, y, crs)
+    out = positions.copy()
+    at = list(out.columns).index("y_m") + 1
+    for k, (name, v) in enumerate(zip(GEO_COLUMNS, (lon, lat, cx, cy))):
+        out.insert(at + k, name, np.asarray(v, float))
+    return out
 
 
 def footprint_frame(footprints) -> pd.DataFrame:
@@ -96,6 +131,7 @@ def screen_positions(table: pd.DataFrame, ctx: ScreeningContext, spacing_m=None,
         raise InputError([("climate", "footprint screening needs a default climate (footprints "
                                       "carry no zone); give --climate FILE")])
     rows, sur, _ = _position_rows(table, spacing_m, setback_m)
+    blocks = None
     if ctx.transfer.sector_morphometry and blocks_frame is not None:
         blocks = combine_blocks([blocks_frame[["x_m", "y_m", "length_m", "width_m", "height_m",
                                                "orientation_deg"]].astype(float)])
@@ -109,7 +145,8 @@ def screen_positions(table: pd.DataFrame, ctx: ScreeningContext, spacing_m=None,
     phi = np.radians(np.asarray(rows["orientation_deg"], float))
     px = rows["x_m"] + rows["u_m"] * np.sin(phi) + rows["v_m"] * np.cos(phi)
     py = rows["y_m"] + rows["u_m"] * np.cos(phi) - rows["v_m"] * np.sin(phi)
-    got = _chunked(rows, sur, ctx)
+    rows.update(px_m=px, py_m=py)  # where the upwind neighbours' wakes are found
+    got = _chunked(rows, sur, ctx, blocks if ctx.settings.upwind_shelter else None)
     net, cf = got["net_kwh"], got["capacity_factor"]
     carried = np.isfinite(net).any(axis=1)
     best = np.argmax(np.where(np.isfinite(net), net, -np.inf), axis=1)
@@ -120,13 +157,15 @@ def screen_positions(table: pd.DataFrame, ctx: ScreeningContext, spacing_m=None,
     if "sector_displacement_m" in sur:
         flat["displacement_m"] = sur["sector_displacement_m"].max(axis=1)
     code, reasons = suitability(best_cf, got["mast_height_m"], got["hub_height_m"], flat, rows,
-                                ctx, mean_speed_ms=got["mean_speed_ms"], carried=carried)
+                                ctx, mean_speed_ms=got["mean_speed_ms"], carried=carried,
+                                shelter_factor=got["shelter_factor"])
     ids = np.asarray([t.id for t in ctx.turbines], dtype=object)[best]
     ids[~carried] = ""
     out = {"position_id": rows["id"], "building_id": rows["building_id"], "x_m": px, "y_m": py,
            "u_m": rows["u_m"], "v_m": rows["v_m"], "min_clear_mast_m": got["min_clear_mast_m"],
            "mast_height_m": got["mast_height_m"], "hub_height_m": got["hub_height_m"],
-           "mean_speed_ms": got["mean_speed_ms"], "suitability_code": code,
+           "mean_speed_ms": got["mean_speed_ms"], "shelter_factor": got["shelter_factor"],
+           "suitability_code": code,
            "suitability": np.asarray(CLASSES, dtype=object)[code], "reasons": reasons,
            "best_turbine_id": ids, "best_aep_kwh": best_aep, "best_capacity_factor": best_cf}
     for j, t in enumerate(ctx.turbines):
@@ -134,7 +173,7 @@ def screen_positions(table: pd.DataFrame, ctx: ScreeningContext, spacing_m=None,
     return pd.DataFrame(out)
 
 
-def _chunked(rows, sur, ctx):
+def _chunked(rows, sur, ctx, blocks=None):
     """:func:`engine.screening.compute.screen_chunk` over chunks of positions (one climate)."""
     n, T = len(rows["id"]), len(ctx.turbines)
     rho = air.site_air_density_kgm3(ctx.site)
@@ -143,14 +182,15 @@ def _chunked(rows, sur, ctx):
     for a in range(0, n, step):
         sl = slice(a, min(a + step, n))
         got = screen_chunk({k: v[sl] for k, v in rows.items()},
-                           {k: v[sl] for k, v in sur.items()}, ctx.climates[""], rho, ctx)
+                           {k: v[sl] for k, v in sur.items()}, ctx.climates[""], rho, ctx,
+                           blocks)
         if out is None:
             out = {k: np.empty((n,) + np.shape(v)[1:]) for k, v in got.items()}
         for k, v in got.items():
             out[k][sl] = v
     if out is None:
         out = {k: np.empty(0) for k in ("min_clear_mast_m", "mast_height_m", "hub_height_m",
-                                        "mean_speed_ms")}
+                                        "mean_speed_ms", "shelter_factor")}
         out.update(net_kwh=np.empty((0, T)), capacity_factor=np.empty((0, T)))
     return out
 
@@ -194,6 +234,8 @@ def screen_footprints(data: bytes, ctx: ScreeningContext, *, height_field: str,
     frame = footprint_frame(fs)
     res = screen_local(frame, ctx)
     pos = screen_positions(res.table, ctx, spacing_m, setback_m, blocks_frame=frame)
+    pos = with_coordinates(pos, fs.plan, fs.crs)
     return FootprintScreening(positions=pos, buildings=best_per_building(pos),
                               problems=tuple(fs.problems) + tuple(res.problems),
-                              n_features=len(fs.buildings))
+                              n_features=len(fs.buildings), plan=fs.plan, crs=fs.crs,
+                              footprints=tuple(fs.buildings))

@@ -65,6 +65,10 @@ class ScreeningSettings:
     tall_ratio: float = 1.5
     #: Buildings evaluated at once (bounds memory: about 50 kB per building and turbine).
     chunk_rows: int = 5000
+    #: With per-sector surroundings (``transfer.sector_morphometry``): shelter every roof by
+    #: the wakes of its neighbours within the fetch (engine.flow.shelter), as the detailed
+    #: chain shelters a position by the site's buildings. Off only to show its effect.
+    upwind_shelter: bool = True
 
     @classmethod
     def without_limits(cls, **kw) -> "ScreeningSettings":
@@ -89,6 +93,9 @@ class ScreeningSettings:
                 p.add(f"screening.{name}", f"must be > 0, got {v}")
         if not self.mast_step_m > 0:
             p.add("screening.mast_step_m", f"must be > 0, got {self.mast_step_m}")
+        if not isinstance(self.upwind_shelter, bool):
+            p.add("screening.upwind_shelter", f"must be true or false, got "
+                                              f"{self.upwind_shelter!r}")
         if not int(self.chunk_rows) >= 1:
             p.add("screening.chunk_rows", f"must be >= 1, got {self.chunk_rows}")
         p.raise_if_any()

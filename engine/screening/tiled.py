@@ -18,7 +18,7 @@ from engine.screening.compute import empty_result, rank_results, result_frame, s
 from engine.screening.neighbourhood import (combine_anchors, combine_cell_sums,
                                             neighbourhood_lookup, part_anchor, part_cells)
 from engine.screening.passes import ScreeningResult, bad_rows_frame, finish_table, read_check
-from engine.screening.table import table_parts
+from engine.screening.table import read_part, table_parts
 from engine.screening.tiles import combine_blocks, part_blocks
 
 
@@ -50,10 +50,44 @@ def _tile_frames(frame: pd.DataFrame, tile_m: float, halo_m: float):
         yield rest, rest
 
 
-def _screen_tile(frame, core, near, ctx):
-    """One tile: its rows screened with the halo's rows as neighbours only. Returns the core
-    rows' results and bad rows, with lines mapped back to ``frame``'s."""
-    sub = frame.iloc[near].reset_index(drop=True)
+#: Smallest tile side the command line accepts, as a multiple of the halo (the sector fetch):
+#: a tile of side L with a halo r reads and checks ((L + 2 r)/L)² rows per row it screens,
+#: 9 at L = r, and more than that below.
+MIN_TILE_TO_HALO = 1.0
+
+
+def check_tile_size(tile_m, halo_m: float, field: str = "tile_m") -> float:
+    """``tile_m`` as a float, or :class:`InputError` naming ``field`` when it is not a finite
+    number of at least :data:`MIN_TILE_TO_HALO` × the halo ``halo_m`` [m]."""
+    try:
+        t = float(tile_m)
+    except (TypeError, ValueError):
+        t = float("nan")
+    least = MIN_TILE_TO_HALO * float(halo_m)
+    if not (np.isfinite(t) and t >= least and t > 0):
+        raise InputError([(field, f"must be at least the halo, the sector fetch "
+                                  f"transfer.sector_fetch_m = {least:g} m (a smaller tile "
+                                  f"reads and checks more than 9 times the rows it screens), "
+                                  f"got {tile_m} m; give a larger tile")])
+    return t
+
+
+def read_table_frame(source) -> tuple:
+    """(frame, first line) of a CSV or Parquet buildings table read whole: row k of the frame
+    is the table's line (CSV) or row (Parquet) k + first line; lines the CSV parser skipped
+    are rows carrying their problem."""
+    parts = table_parts(source)
+    frames = [read_part(p) for p in parts]
+    frame = pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
+    first = int(parts[0].first_line) if parts else 2
+    return frame.drop(columns=["line"], errors="ignore"), first
+
+
+def _screen_tile(sub, core, near, ctx):
+    """One tile: its rows screened with the halo's rows as neighbours only. ``sub`` holds the
+    rows ``near`` of the whole frame. Returns the core rows' results and bad rows, with lines
+    mapped back to the whole frame's."""
+    sub = sub.reset_index(drop=True)
     checked = [read_check(p, ctx.zones()) for p in table_parts(sub)]
     anchor = combine_anchors([part_anchor(c) for c in checked])
     nb = neighbourhood_lookup(combine_cell_sums([part_cells(c, (), anchor) for c in checked]),
@@ -74,7 +108,8 @@ def _screen_tile(frame, core, near, ctx):
             bad.assign(line=line_of[bad["line"].to_numpy(np.int64) - 2]))
 
 
-def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None):
+def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None,
+                 first_line: int = 2):
     """Screen a buildings table tile by tile, each tile with a halo of neighbours around it.
 
     Parameters
@@ -86,6 +121,8 @@ def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None):
     tile_m : side of the tiles [m]; each tile reads and checks about ((L + 2 r)/L)² rows
         per row it screens, r the fetch
     client : a ``distributed.Client``: the tiles are screened on its workers (one task each)
+    first_line : the line (CSV, header on line 1: 2) or row number (Parquet: 1) of the
+        frame's first row, in which bad rows are reported (as "row" from 1, else "line")
 
     Returns
     -------
@@ -109,23 +146,27 @@ def screen_tiled(frame: pd.DataFrame, ctx, tile_m: float = 2000.0, client=None):
             raise InputError([(c, "is needed for a tiled screening (plan metres); add the "
                                   "column")])
     frame = frame.reset_index(drop=True)
-    lines = pd.Series(np.arange(len(frame)) + 2)
+    first = int(first_line)
+    lines = pd.Series(np.arange(len(frame)) + first)
     dups = duplicate_problems(frame["id"].astype(str), lines)
-    use = frame.drop(index=dups["line"].to_numpy(np.int64) - 2) if len(dups) else frame
+    use = frame.drop(index=dups["line"].to_numpy(np.int64) - first) if len(dups) else frame
     kept = use.index.to_numpy()
     use = use.reset_index(drop=True)
     groups = list(_tile_frames(use, float(tile_m), float(ctx.transfer.sector_fetch_m)))
     if client is not None:
-        futures = client.map(_screen_tile, [use] * len(groups), [g[0] for g in groups],
-                             [g[1] for g in groups], [ctx] * len(groups), pure=False)
+        # Each task gets its tile and halo only, never the whole table.
+        futures = client.map(_screen_tile, [use.iloc[g[1]] for g in groups],
+                             [g[0] for g in groups], [g[1] for g in groups],
+                             [ctx] * len(groups), pure=False)
         got = client.gather(futures)
     else:
-        got = [_screen_tile(use, core, near, ctx) for core, near in groups]
+        got = [_screen_tile(use.iloc[near], core, near, ctx) for core, near in groups]
     # Lines of the de-duplicated frame back to the table's own.
-    back = lambda t: t.assign(line=kept[t["line"].to_numpy(np.int64) - 2] + 2)  # noqa: E731
+    back = lambda t: t.assign(line=kept[t["line"].to_numpy(np.int64) - 2] + first)  # noqa: E731
     tables = [back(t) for t, _ in got if len(t)]
     table = pd.concat(tables, ignore_index=True) if tables else empty_result(ctx)
     bad = bad_rows_frame([back(b).assign(problem=b["problem"]) for _, b in got], dups)
     table = finish_table(rank_results(table), ctx.turbines)
-    return ScreeningResult(table=table, problems=row_problems(bad), n_rows=len(frame),
+    word = "row" if first == 1 else "line"  # Parquet rows count from 1, CSV lines from 2
+    return ScreeningResult(table=table, problems=row_problems(bad, word), n_rows=len(frame),
                            bad_rows=bad)

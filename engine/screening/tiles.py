@@ -25,6 +25,7 @@ import numpy as np
 import pandas as pd
 
 from engine.flow import sector_roughness
+from engine.flow import shelter
 from engine.flow import transfer
 from engine.flow.buildings import BuildingArrays
 from engine.screening.checks import good_rows
@@ -95,6 +96,74 @@ def _tile_sums(px, py, cand: BuildingArrays, n_sectors: int, fetch_m: float):
     return sector_roughness.sector_morphometry_points(px, py, cand, n_sectors, fetch_m, own)
 
 
+def _tiles(x, y, tile_m):
+    """(tile column, tile row, rows) of each occupied tile of the points, in tile order."""
+    tx = np.floor(x / tile_m).astype(np.int64)
+    ty = np.floor(y / tile_m).astype(np.int64)
+    order = np.lexsort((ty, tx))
+    key = tx[order] * (int(ty.max() - ty.min()) + 1) + (ty[order] - ty.min())
+    starts = np.flatnonzero(np.concatenate([[True], key[1:] != key[:-1], [True]]))
+    for a, b in zip(starts[:-1], starts[1:]):
+        sel = order[a:b]
+        yield tx[sel[0]], ty[sel[0]], sel
+
+
+def upwind_shelter(x_m, y_m, own_x_m, own_y_m, blocks: TableBlocks, sector_deg,
+                   fetch_m: float, tile_m: float = TILE_M):
+    """The shelter of points by their upwind neighbours, as a function of the hub heights.
+
+    Parameters
+    ----------
+    x_m, y_m : (N,) points (positions on roofs) [m]
+    own_x_m, own_y_m : (N,) centre of the building each point stands on [m] (that block is
+        left out: its flow is the roof model's)
+    blocks : every building of the table (:func:`combine_blocks`)
+    sector_deg : (S,) sector centres [deg]
+    fetch_m : only blocks whose centres lie within this of a point shelter it [m]: the
+        neighbours of the per-sector surroundings; each tile's halo is this wide
+    tile_m : side of the tiles the points are grouped into [m] (any value gives the same
+        numbers; it bounds the work per step)
+
+    Returns
+    -------
+    callable (N,) hub heights [m] -> dict of (N, S) ``speed_factor``, ``added_ti``,
+    ``in_wake_recirculation`` (:func:`engine.flow.shelter.shelter_within_fetch`), for
+    :func:`engine.chain.arrays.roof_climate`'s ``upwind``
+
+    Notes
+    -----
+    Per tile, over the blocks within the tile grown by the fetch, in canonical order; blocks
+    out of reach give exact zeros to the root-sum-square, so a point's shelter is the same to
+    the last bit alone, in any tile or on any worker (tested).
+    """
+    x, y = np.asarray(x_m, float), np.asarray(y_m, float)
+    ox, oy = np.asarray(own_x_m, float), np.asarray(own_y_m, float)
+    sector_deg = np.asarray(sector_deg, float)
+
+    def at_hubs(hub_height_m):
+        hub = np.broadcast_to(np.asarray(hub_height_m, float), x.shape)
+        n, S = len(x), len(sector_deg)
+        out = {"speed_factor": np.ones((n, S)), "added_ti": np.zeros((n, S)),
+               "in_wake_recirculation": np.zeros((n, S), bool)}
+        if n == 0:
+            return out
+        for i, j, sel in _tiles(x, y, tile_m):
+            idx = _halo_blocks(blocks, i * tile_m - fetch_m, (i + 1) * tile_m + fetch_m,
+                               j * tile_m - fetch_m, (j + 1) * tile_m + fetch_m)
+            cand = blocks.take(idx)
+            step = max(1, MAX_PAIRS // max(1, len(idx) * S))
+            for s in range(0, len(sel), step):
+                rows = sel[s:s + step]
+                own = ((cand.x_m[None, :] == ox[rows, None])
+                       & (cand.y_m[None, :] == oy[rows, None]))
+                sh = shelter.shelter_within_fetch(x[rows], y[rows], hub[rows], cand,
+                                                  sector_deg, fetch_m, own)
+                for k in out:
+                    out[k][rows] = sh[k]
+        return out
+    return at_hubs
+
+
 def sector_fractions(x_m, y_m, blocks: TableBlocks, n_sectors: int, fetch_m: float,
                      tile_m: float = TILE_M):
     """Per-sector λp, λf [-] and H̄ [m] around each point, worked tile by tile, (N, S).
@@ -121,14 +190,7 @@ def sector_fractions(x_m, y_m, blocks: TableBlocks, n_sectors: int, fetch_m: flo
                  np.full((n, n_sectors), np.nan))
     if n == 0:
         return lp, lf, h
-    tx = np.floor(x / tile_m).astype(np.int64)
-    ty = np.floor(y / tile_m).astype(np.int64)
-    order = np.lexsort((ty, tx))
-    key = tx[order] * (int(ty.max() - ty.min()) + 1) + (ty[order] - ty.min())
-    starts = np.flatnonzero(np.concatenate([[True], key[1:] != key[:-1], [True]]))
-    for a, b in zip(starts[:-1], starts[1:]):
-        sel = order[a:b]
-        i, j = tx[sel[0]], ty[sel[0]]
+    for i, j, sel in _tiles(x, y, tile_m):
         # The tile grown by a halo of the fetch on every side holds every block any of its
         # rows can count.
         idx = _halo_blocks(blocks, i * tile_m - fetch_m, (i + 1) * tile_m + fetch_m,
