@@ -97,7 +97,9 @@ def segment_box_interval(p0_xy, p1_xy, buildings):
     centre = np.stack([cx, cy], -1)[:, None, :]        # (B, 1, 2)
     a0 = np.sum((p0 - centre) * axes, -1)              # (P, R, B, 2)
     da = np.sum((p1 - p0) * axes, -1)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    # A near-zero step (a subnormal coordinate difference) overflows to ±inf: the slab
+    # method reads that as "parallel to the side", which it is to within rounding.
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         t1 = (-half - a0) / da
         t2 = (half - a0) / da
     lo = np.where(da == 0, np.where(np.abs(a0) <= half, -np.inf, np.inf), np.minimum(t1, t2))

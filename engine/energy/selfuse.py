@@ -32,7 +32,7 @@ from __future__ import annotations
 import functools
 
 import numpy as np
-from scipy import signal, special
+from scipy import special
 
 HOURS_PER_YEAR = 8760
 MONTH_DAYS = (31, 28, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31)
@@ -127,6 +127,8 @@ def unit_speed_series(weibull_k, monthly_factor=None, diurnal_factor=DEFAULT_DIU
 @functools.lru_cache(maxsize=4)
 def _log_exponential_series(rho: float, seed: int) -> np.ndarray:
     """ln(-ln(1 - Phi(z_t))) of the seeded AR(1) series z_t (cached; read only)."""
+    from scipy import signal  # imported here: it takes a second, and only this needs it
+
     rng = np.random.default_rng(seed)
     e = rng.standard_normal(HOURS_PER_YEAR)
     z = signal.lfilter([np.sqrt(1.0 - rho ** 2)], [1.0, -rho], e,
