@@ -57,7 +57,7 @@ def chart_keys(text: str) -> dict:
 
 @st.cache_data(show_spinner=False, max_entries=48)
 def top_rows(text: str, speed_unit: str, length_unit: str):
-    """The five best rows as text for the ranked table."""
+    """The five rows of the ranked table as text (allowed first, with verdicts)."""
     from . import results_view
     return results_view.top_rows(evaluate_text(text).table, speed_unit, length_unit, n=5)
 

@@ -147,7 +147,7 @@ if res is not None:
                           default=[c for c in screening.CLASSES if c != "unsuitable"],
                           key="screening_classes")
     short = table[table["suitability"].isin(show)][SHORTLIST_COLUMNS].head(SHORTLIST_ROWS)
-    st.caption(f"Best {len(short):,d} rows of the chosen classes, ranked; click a column header "
+    st.caption(f"First {len(short):,d} rows of the chosen classes, ranked; click a column header "
                "to sort, scroll the table sideways for the roof, surroundings, zone, reasons "
                "and line. The download holds every row and every turbine.")
     # Every column labelled with its unit (no raw field names); rank and id stay in view while
@@ -159,7 +159,7 @@ if res is not None:
                      "rank": num("rank", format="%d", pinned=True),
                      "id": text("building", pinned=True),
                      "suitability": text("class"),
-                     "best_turbine_id": text("best turbine"),
+                     "best_turbine_id": text("turbine with the most energy"),
                      "best_aep_kwh": num("net AEP [kWh/yr]", format="%.0f"),
                      "best_capacity_factor": num("capacity factor", format="%.3f"),
                      "mast_height_m": num("mast [m]", format="%.1f"),
