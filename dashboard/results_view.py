@@ -25,6 +25,9 @@ FORMATS = {"rank": "%d", "aep_kwh": "%.0f", "p50_aep_kwh": "%.0f", "p90_aep_kwh"
            "thrust_extreme_n": "%.0f"}
 #: Columns kept in view while the wide table scrolls sideways.
 PINNED = ("rank", "position_id", "turbine_id")
+#: What a person reads for each position kind of the site file: "gap" is the file's key for
+#: a position in the passage between two buildings, which the engine's words call a passage.
+KIND_LABELS = {"roof": "roof", "gap": "passage", "mast": "mast"}
 
 HEADERS = {
     "rank": "rank", "position_id": "position", "turbine_id": "turbine", "kind": "kind",
@@ -38,7 +41,7 @@ HEADERS = {
     "speedup": "speed factor from buildings", "turbulence_intensity": "turbulence intensity",
     "lcoe_per_kwh": "cost per kWh", "payback_years": "payback (years)",
     "in_recirculation_zone": "in recirculation", "in_turbulence_zone": "in roof turbulence",
-    "spilled_fraction": "gap spillage", "noise_margin_db": "noise margin (dB)",
+    "spilled_fraction": "spilled share in passage", "noise_margin_db": "noise margin (dB)",
     "thrust_extreme_n": "extreme thrust, parked rotor (N)", "excluded": "excluded", "flags": "reasons and notes",
 }
 
@@ -53,6 +56,8 @@ def display_table(table: pd.DataFrame, speed_unit: str, length_unit: str,
     cols = [c for c in columns if c in table.columns]
     df = table[cols].copy()
     df = units.convert_columns(df, speed_unit, length_unit)
+    if "kind" in df:
+        df["kind"] = [KIND_LABELS.get(k, k) for k in df["kind"]]
     if "flags" in df:
         df["flags"] = ["; ".join(map(str, f)) if isinstance(f, (list, tuple)) else str(f)
                        for f in df["flags"]]
