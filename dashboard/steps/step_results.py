@@ -84,7 +84,8 @@ def _headline(text: str, table, economics, S: str, L: str):
     ok = table[~table["excluded"]]
     best = ok.iloc[0] if len(ok) else None
     st.markdown(f"**{headline(table, economics)}**")
-    c1, c2, c3, c4 = st.columns(4)
+    # the first column wider: its label carries the verdict, which must not be cut short
+    c1, c2, c3, c4 = st.columns([1.5, 1, 1, 1])
     if best is not None:
         c1.metric(results_view.leading_label(best), f"{best['position_id']}",
                   f"with {best['turbine_id']}", delta_color="off", delta_arrow="off")
