@@ -23,15 +23,41 @@ def demo_text() -> str:
     return DEMO_SITE.read_text(encoding="utf-8")
 
 
+@st.cache_data(show_spinner=False, max_entries=8)
+def _energy_stage(key: str, _text: str):
+    """The chain up to the energy table, keyed on the engine's ``energy_key`` alone: a
+    change of prices, costs or ranking settings finds it here (``_text`` is not hashed)."""
+    return pipeline.energy_stage(sitefile.loads(_text))
+
+
 @st.cache_data(show_spinner=False, max_entries=48)
 def evaluate_text(text: str):
-    """Run the chain for a site-file text (each caller gets its own copy)."""
-    return pipeline.evaluate(sitefile.loads(text))
+    """Run the chain for a site-file text (each caller gets its own copy); the energy part
+    comes from :func:`_energy_stage` when only money or ranking settings changed."""
+    a = sitefile.loads(text)
+    return pipeline.priced(a, _energy_stage(pipeline.energy_key(a), text))
+
+
+@st.cache_data(show_spinner=False, max_entries=48)
+def chart_keys(text: str) -> dict:
+    """What each chart of the results depends on, as short content keys: the energy stage
+    for the climate and position charts, and the ranked order with exclusions too for the
+    plan and the ranking bars, so a what-if that leaves them unchanged redraws nothing new."""
+    import hashlib
+
+    import pandas as pd
+    ev = evaluate_text(text)
+    energy = pipeline.energy_key(ev.assessment)
+    cols = [c for c in ("rank", "position_id", "turbine_id", "excluded", "aep_kwh",
+                        "p50_aep_kwh", "p90_aep_kwh") if c in ev.table]
+    order = hashlib.sha256(pd.util.hash_pandas_object(ev.table[cols], index=False)
+                           .to_numpy().tobytes()).hexdigest()
+    return {"energy": energy, "ranked": f"{energy}:{order}"}
 
 
 @st.cache_data(show_spinner=False, max_entries=48)
 def top_rows(text: str, speed_unit: str, length_unit: str):
-    """The five best rows as text for the ranked table."""
+    """The five rows of the ranked table as text (allowed first, with verdicts)."""
     from . import results_view
     return results_view.top_rows(evaluate_text(text).table, speed_unit, length_unit, n=5)
 
@@ -68,10 +94,22 @@ def climate_from_upload(data: bytes, file_name: str, height_m: float, roughness_
     return sitefile.assessment_to_dict(clim), report.to_text(), list(diag.get("import_notes", ()))
 
 
-@st.cache_data(show_spinner=False, max_entries=96)
+RANKED_CHARTS = ("plan", "bars")
+
+
 def chart_spec(kind: str, text: str, speed_unit: str, length_unit: str,
                position_id: str = "", turbine_id: str = "") -> dict:
-    """Vega-Lite spec of one chart of the results, cached on everything it depends on.
+    """Vega-Lite spec of one chart of the results, cached on the content it draws
+    (:func:`chart_keys`), not on the whole site-file text."""
+    key = chart_keys(text)["ranked" if kind in RANKED_CHARTS else "energy"]
+    return _chart_spec(kind, key, speed_unit, length_unit, position_id, turbine_id, text)
+
+
+@st.cache_data(show_spinner=False, max_entries=96)
+def _chart_spec(kind: str, key: str, speed_unit: str, length_unit: str,
+                position_id: str, turbine_id: str, _text: str) -> dict:
+    """Vega-Lite spec of one chart of the results, cached on ``key`` (``_text`` is the
+    site-file text it is drawn from on a miss, not hashed).
 
     Built without Altair's per-object schema checks (the builders' specs are checked once by
     the tests), which would otherwise dominate a what-if rerun.
@@ -79,7 +117,7 @@ def chart_spec(kind: str, text: str, speed_unit: str, length_unit: str,
     from altair.utils.schemapi import debug_mode
 
     from engine.report import charts
-    ev = evaluate_text(text)
+    ev = evaluate_text(_text)
     a = ev.assessment
     with debug_mode(False):
         if kind == "plan":

@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from engine.chain import columns
+from engine.chain import columns, verdict
 from engine.core import units
 
 #: Columns shown in the ranked table, in this order, when the chain provides them: what a
@@ -25,6 +25,9 @@ FORMATS = {"rank": "%d", "aep_kwh": "%.0f", "p50_aep_kwh": "%.0f", "p90_aep_kwh"
            "thrust_extreme_n": "%.0f"}
 #: Columns kept in view while the wide table scrolls sideways.
 PINNED = ("rank", "position_id", "turbine_id")
+#: What a person reads for each position kind of the site file: "gap" is the file's key for
+#: a position in the passage between two buildings, which the engine's words call a passage.
+KIND_LABELS = {"roof": "roof", "gap": "passage", "mast": "mast"}
 
 HEADERS = {
     "rank": "rank", "position_id": "position", "turbine_id": "turbine", "kind": "kind",
@@ -38,7 +41,7 @@ HEADERS = {
     "speedup": "speed factor from buildings", "turbulence_intensity": "turbulence intensity",
     "lcoe_per_kwh": "cost per kWh", "payback_years": "payback (years)",
     "in_recirculation_zone": "in recirculation", "in_turbulence_zone": "in roof turbulence",
-    "spilled_fraction": "gap spillage", "noise_margin_db": "noise margin (dB)",
+    "spilled_fraction": "spilled share in passage", "noise_margin_db": "noise margin (dB)",
     "thrust_extreme_n": "extreme thrust, parked rotor (N)", "excluded": "excluded", "flags": "reasons and notes",
 }
 
@@ -53,6 +56,8 @@ def display_table(table: pd.DataFrame, speed_unit: str, length_unit: str,
     cols = [c for c in columns if c in table.columns]
     df = table[cols].copy()
     df = units.convert_columns(df, speed_unit, length_unit)
+    if "kind" in df:
+        df["kind"] = [KIND_LABELS.get(k, k) for k in df["kind"]]
     if "flags" in df:
         df["flags"] = ["; ".join(map(str, f)) if isinstance(f, (list, tuple)) else str(f)
                        for f in df["flags"]]
@@ -96,9 +101,22 @@ def display_config(table: pd.DataFrame, speed_unit: str, length_unit: str,
     return out
 
 
+def leading_label(row) -> str:
+    """Name of the first allowed row with its verdict, never "best" or "recommended": under a
+    "none of the options pays back" headline the first row is only the leading option."""
+    v = str(row.get("verdict", "")) if hasattr(row, "get") else ""
+    return f"Leading option ({v})" if v else "Leading option"
+
+
 def top_rows(table: pd.DataFrame, speed_unit: str, length_unit: str, n: int = 5) -> pd.DataFrame:
-    """The first ``n`` rows as short text, for a static table anyone can read aloud."""
-    t = table.head(n)
+    """The rows :func:`engine.chain.verdict.top_rows` shows (allowed ones first, an excluded
+    one only with its reason) as short text, for a static table anyone can read aloud; each
+    row with its verdict and the reason behind it."""
+    if "verdict" in table:
+        ranks = verdict.top_rows(table, n)["rank"].to_numpy()
+        t = table.set_index("rank", drop=False).loc[ranks]
+    else:
+        t = table.head(n)
     hub = units.length_from_si(t["hub_height_m"].to_numpy(float), length_unit)
     out = pd.DataFrame({
         "rank": t["rank"].astype(int).to_numpy(),
@@ -115,19 +133,25 @@ def top_rows(table: pd.DataFrame, speed_unit: str, length_unit: str, n: int = 5)
         out["turbulence effect"] = [signed_percent(v) for v in t["turbulence_effect"]]
     if "lcoe_per_kwh" in t:
         out["cost per kWh"] = [f"{v:.2f}" if np.isfinite(v) else "–" for v in t["lcoe_per_kwh"]]
-    out["status"] = ["excluded" if e else "eligible" for e in t["excluded"]]
+    if "verdict" in t:
+        out["verdict"] = t["verdict"].astype(str).to_numpy()
+        out["reason"] = t["verdict_reason"].astype(str).to_numpy()
+    else:
+        out["status"] = ["excluded" if e else "allowed" for e in t["excluded"]]
     return out.set_index("rank")
 
 
 def scenario_outcome(evaluation, speed_unit: str, length_unit: str) -> dict:
-    """Headline numbers of one scenario as text: the best eligible row and what it stands on."""
+    """Headline numbers of one scenario as text: the leading allowed row, its verdict and
+    what it stands on (never called "best": it may not pay back)."""
     t = evaluation.table
     ok = t[~t["excluded"]]
     best = ok.iloc[0] if len(ok) else t.iloc[0]
     hub = float(units.length_from_si(best["hub_height_m"], length_unit))
     out = {
-        "best position": str(best["position_id"]),
-        "best turbine": str(best["turbine_id"]),
+        "leading position": str(best["position_id"]),
+        "leading turbine": str(best["turbine_id"]),
+        "verdict": str(best.get("verdict", "")),
         f"hub height ({length_unit})": f"{hub:.1f}",
         "net energy (kWh/yr)": f"{float(best['aep_kwh']):,.0f}",
     }

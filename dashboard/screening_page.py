@@ -21,6 +21,7 @@ from dashboard import state, widgets
 from engine import screening
 from engine.report import screening_charts
 from engine.io import sitefile
+from engine.core import units
 from engine.core.errors import InputError
 from engine.io.exports import safe_csv
 
@@ -147,25 +148,26 @@ if res is not None:
                           default=[c for c in screening.CLASSES if c != "unsuitable"],
                           key="screening_classes")
     short = table[table["suitability"].isin(show)][SHORTLIST_COLUMNS].head(SHORTLIST_ROWS)
-    st.caption(f"Best {len(short):,d} rows of the chosen classes, ranked; click a column header "
+    st.caption(f"First {len(short):,d} rows of the chosen classes, ranked; click a column header "
                "to sort, scroll the table sideways for the roof, surroundings, zone, reasons "
                "and line. The download holds every row and every turbine.")
     # Every column labelled with its unit (no raw field names); rank and id stay in view while
     # the wide table scrolls sideways.
     num = st.column_config.NumberColumn
     text = st.column_config.TextColumn
-    st.dataframe(short, hide_index=True, key="screening_shortlist",
+    S, L = state.units_now()  # lengths and speeds in the display units, like every step
+    st.dataframe(units.convert_columns(short, S, L), hide_index=True, key="screening_shortlist",
                  column_config={
                      "rank": num("rank", format="%d", pinned=True),
                      "id": text("building", pinned=True),
                      "suitability": text("class"),
-                     "best_turbine_id": text("best turbine"),
-                     "best_aep_kwh": num("net AEP [kWh/yr]", format="%.0f"),
+                     "best_turbine_id": text("turbine with the most energy"),
+                     "best_aep_kwh": num("net energy (kWh/yr)", format="%.0f"),
                      "best_capacity_factor": num("capacity factor", format="%.3f"),
-                     "mast_height_m": num("mast [m]", format="%.1f"),
-                     "hub_height_m": num("hub [m]", format="%.1f"),
-                     "mean_speed_ms": num("mean speed [m/s]", format="%.2f"),
-                     "height_m": num("building height [m]", format="%.1f"),
+                     "mast_height_m": num(f"mast ({L})", format="%.1f"),
+                     "hub_height_m": num(f"hub ({L})", format="%.1f"),
+                     "mean_speed_ms": num(f"mean speed ({S})", format="%.2f"),
+                     "height_m": num(f"building height ({L})", format="%.1f"),
                      "roof_type": text("roof"),
                      "plan_area_fraction": num("plan area fraction", format="%.2f",
                                                help="Share of the ground around the building "

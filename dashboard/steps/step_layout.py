@@ -1,12 +1,12 @@
 """Step 3: buildings, candidate positions and the places where noise matters."""
 import streamlit as st
 
-from dashboard import cache, consent_inputs, state, widgets
+from dashboard import cache, consent_inputs, results_view, state, widgets
 from engine.core import model
 
 widgets.step_banner("layout", "3. Buildings & positions")
 st.caption("Local plan coordinates: x east, y north, from any fixed point on the site. "
-           "Buildings are rectangular blocks; a roof position stands on a building, a gap "
+           "Buildings are rectangular blocks; a roof position stands on a building, a passage "
            "position between two, a mast position on the ground.")
 
 L = state.unit_of("length")
@@ -38,15 +38,16 @@ draft["buildings"] = rows
 building_ids = [str(r.get("id")) for r in rows if r.get("id")]
 P_COLS = [
     ("id", "name", "text", st.column_config.TextColumn(required=True)),
-    ("kind", "kind", "choice", st.column_config.SelectboxColumn(options=model.POSITION_KINDS,
-                                                                required=True)),
+    ("kind", "kind", "choice", st.column_config.SelectboxColumn(
+        options=model.POSITION_KINDS, required=True,
+        format_func=lambda k: results_view.KIND_LABELS.get(k, k))),
     ("x_m", f"x east ({L})", "length", num(format="%.1f")),
     ("y_m", f"y north ({L})", "length", num(format="%.1f")),
     ("mast_height_m", f"mast height ({L})", "length",
      num(format="%.1f", help="Hub height above the roof (roof positions) or the ground")),
     ("building_id", "on building", "choice",
      st.column_config.SelectboxColumn(options=[""] + building_ids)),
-    ("gap_buildings", "gap between (two names, comma)", "list", None),
+    ("gap_buildings", "passage between (two names, comma)", "list", None),
     ("note", "note", "text", None),
 ]
 P_LABELS = {f: lab for f, lab, _, _ in P_COLS}

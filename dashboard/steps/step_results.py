@@ -79,15 +79,16 @@ def _what_if_controls() -> None:
 
 
 def _headline(text: str, table, economics, S: str, L: str):
-    """The verdict, the best eligible row as metrics, then the top five; returns that row
-    (or None)."""
+    """The verdict, the leading allowed row as metrics (named with its verdict, never
+    "best"), then the top five; returns that row (or None)."""
     ok = table[~table["excluded"]]
     best = ok.iloc[0] if len(ok) else None
     st.markdown(f"**{headline(table, economics)}**")
-    c1, c2, c3, c4 = st.columns(4)
+    # the first column wider: its label carries the verdict, which must not be cut short
+    c1, c2, c3, c4 = st.columns([1.5, 1, 1, 1])
     if best is not None:
-        c1.metric("Best position", f"{best['position_id']}", f"with {best['turbine_id']}",
-                  delta_color="off", delta_arrow="off")
+        c1.metric(results_view.leading_label(best), f"{best['position_id']}",
+                  f"with {best['turbine_id']}", delta_color="off", delta_arrow="off")
         # Units in the labels: a value with its unit is cut short in a narrow column.
         c2.metric("Net energy, P50 (kWh/yr)", f"{best['aep_kwh']:,.0f}")
         if "p90_one_year_aep_kwh" in best.index:
@@ -114,7 +115,8 @@ def _all_rows(text: str, table, S: str, L: str) -> None:
 
 
 def _pick_detail(pos_ids, best) -> None:
-    """The position in detail: kept, else the best; a position clicked on the plan wins."""
+    """The position in detail: kept, else the leading one; a position clicked on the plan
+    wins."""
     if ss.get("detail_position") not in pos_ids:
         ss["detail_position"] = str(best["position_id"]) if best is not None else pos_ids[0]
     try:
@@ -186,7 +188,7 @@ def _detail(a, table, text: str, best, S: str, L: str) -> tuple:
         st.vega_lite_chart(cache.chart_spec("plan", text, S, L, dp), width="stretch",
                            theme=None, on_select="rerun", selection_mode="pick",
                            key="plan_pick")
-        st.caption("Colour: the position's place in the ranking (dark blue is best); grey: "
+        st.caption("Colour: the position's place in the ranking (dark blue ranks first); grey: "
                    "every turbine there is excluded by a constraint. Ring: the position in "
                    "detail; click a position to see its detail.")
     return dp, dt

@@ -21,7 +21,7 @@ if widgets.editing():
         mark = ":material/check_circle:" if ok else ":material/warning:"
         st.markdown(f"{mark} {i + 1}. {title}: {'complete' if ok else 'needs attention'}")
 
-st.subheader("Best positions")
+st.subheader("Ranked options")
 st.markdown(f"**{headline_for(ev)}**")
 st.table(results_view.top_rows(ev.table, S, L, n=5), hide_index=False)
 

@@ -166,7 +166,7 @@ with st.expander("Uncertainty behind P50 and P90 (one standard deviation, as fra
     c = st.columns(5)
     for col, (f, lab) in zip(c, [("speed_data", "Wind data"),
                                  ("speed_long_term", "Long-term period"),
-                                 ("speed_transfer", "Carrying to the site"),
+                                 ("speed_transfer", "Transfer to the site"),
                                  ("speed_building_model", "Building flow model"),
                                  ("energy_power_curve", "Power curve")]):
         with col:

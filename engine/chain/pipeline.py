@@ -5,6 +5,7 @@ The dashboard, the command line, the siting summary and the screening all call
 """
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -203,10 +204,76 @@ def _load_columns(ld, ti_mean) -> dict:
     return out
 
 
-def evaluate(assessment) -> Evaluation:
-    """Run the whole chain for an :class:`engine.core.model.Assessment`."""
+@dataclass(frozen=True)
+class EnergyStage:
+    """The chain up to the unranked energy table, kept so that a change of prices, costs or
+    ranking settings alone re-runs only the money, the ranking and the verdicts
+    (:func:`priced`)."""
+
+    key: str  # energy_key of the assessment it was computed for
+    assessment: object
+    climate: flow.EffectiveClimate
+    table: pd.DataFrame  # energy_table: unranked, money at this assessment's own prices
+
+
+def energy_key(assessment) -> str:
+    """Content hash of everything the energy stage reads.
+
+    The same assessment with the inputs that only the money step and the ranking read set
+    to their defaults: every ``economics`` field but ``lifetime_years`` (the life-time P90
+    reads it), each turbine's ``installed_cost``, and the ``ranking`` settings. Two
+    assessments with the same key have the same :class:`EnergyStage`.
+    """
+    from engine.core import model
+    from engine.io import sitefile
+    e = model.Economics(lifetime_years=assessment.economics.lifetime_years)
+    turbines = tuple(dataclasses.replace(t, installed_cost=0.0) for t in assessment.turbines)
+    plain = dataclasses.replace(assessment, economics=e, turbines=turbines,
+                                ranking=model.RankingSettings())
+    return sitefile.content_hash(plain)
+
+
+def energy_stage(assessment) -> EnergyStage:
+    """Effective climate and energy table of an assessment (the costly part of the chain)."""
     rho = air.site_air_density_kgm3(assessment.site)
     eff = flow.effective_climate(assessment, rho)
-    table = energy_table(assessment, eff)
+    return EnergyStage(energy_key(assessment), assessment, eff, energy_table(assessment, eff))
+
+
+def _same_money_inputs(a, b) -> bool:
+    return a.economics == b.economics and [t.installed_cost for t in a.turbines] == [
+        t.installed_cost for t in b.turbines]
+
+
+def priced(assessment, stage: EnergyStage) -> Evaluation:
+    """Money, ranking and verdicts of ``assessment`` on a kept :class:`EnergyStage`.
+
+    The money columns are worked again by :func:`engine.energy.economics.position_money` from
+    the stage's net energy, mean speed and Weibull shape (the same call
+    :func:`energy_table` makes), so the result equals :func:`evaluate` of ``assessment``.
+    Raises ``ValueError`` when the stage was computed for an assessment whose energy differs
+    (another :func:`energy_key`).
+    """
+    if stage.key != energy_key(assessment):
+        raise ValueError("the kept energy stage belongs to another site, climate, building, "
+                         "position, turbine or loss setting: run energy_stage again")
+    eff, table = stage.climate, stage.table
+    if not _same_money_inputs(assessment, stage.assessment):
+        P, T = eff.n_positions, len(assessment.turbines)
+        pos = assessment.positions
+        money = economics.position_money(
+            table["aep_kwh"].to_numpy(float).reshape(P, T),
+            table["mean_speed_ms"].to_numpy(float)[::T],
+            np.sum(eff.frequency * eff.weibull_k, axis=-1), [p.kind for p in pos],
+            np.array([float(p.mast_height_m) for p in pos]), assessment.turbines,
+            assessment.economics, assessment.climate.monthly_mean_ms)
+        table = table.copy()
+        for name, arr in money.items():
+            table[name] = arr.ravel()  # in place: the column order stays the chain's
     table = verdict.add_verdicts(ranking.rank(table, assessment.ranking), assessment.economics)
     return Evaluation(assessment=assessment, climate=eff, table=table)
+
+
+def evaluate(assessment) -> Evaluation:
+    """Run the whole chain for an :class:`engine.core.model.Assessment`."""
+    return priced(assessment, energy_stage(assessment))

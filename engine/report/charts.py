@@ -197,6 +197,7 @@ def _plan_points(evaluation, L, selected) -> pd.DataFrame:
         excl = bool(row["excluded"].iloc[0]) if len(row) else False
         aep = float(row["aep_kwh"].iloc[0]) if len(row) else float("nan")
         pos_rows.append({"position_id": p.id, "x": L(p.x_m), "y": L(p.y_m), "kind": p.kind,
+                         "kind_name": "passage" if p.kind == "gap" else p.kind,
                          "best_rank": r, "place": order.get(p.id, 0),
                          "excluded": "excluded" if excl else "eligible",
                          "best_turbine": row["turbine_id"].iloc[0] if len(row) else "",
@@ -274,8 +275,9 @@ def _plan_point_layers(pts, lu, proj) -> list:
     point_base = alt.Chart(pts).encode(
         longitude="x:Q", latitude="y:Q",
         tooltip=[alt.Tooltip("position_id:N", title="position"),
-                 alt.Tooltip("kind:N"), alt.Tooltip("place:Q", title="position order"),
-                 alt.Tooltip("best_rank:Q", title="best row rank"),
+                 alt.Tooltip("kind_name:N", title="kind"),
+                 alt.Tooltip("place:Q", title="position order"),
+                 alt.Tooltip("best_rank:Q", title="rank of its first row"),
                  alt.Tooltip("best_turbine:N", title="turbine"),
                  alt.Tooltip("aep_kwh:Q", title="net energy (kWh/yr)", format=",.0f"),
                  alt.Tooltip("hub:Q", title=f"hub height ({lu})"),
@@ -288,7 +290,10 @@ def _plan_point_layers(pts, lu, proj) -> list:
                                       legend=alt.Legend(format="d"))),
         shape=alt.Shape("kind:N", title="kind of position",
                         scale=alt.Scale(domain=["roof", "gap", "mast"],
-                                        range=["circle", "diamond", "triangle-up"]))
+                                        range=["circle", "diamond", "triangle-up"]),
+                        # the site file's "gap" is a position in a passage between buildings
+                        legend=alt.Legend(labelExpr="datum.label == 'gap' ? 'passage' : "
+                                                    "datum.label"))
     ).add_params(alt.selection_point(name=PICK, fields=["position_id"], on="click",
                                      clear=False)).project(**proj)
     ring = point_base.transform_filter(alt.datum.selected).mark_point(

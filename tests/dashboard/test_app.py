@@ -160,7 +160,7 @@ def test_scenarios_save_and_compare_with_differences():
     row = diff.loc["positions mill-centre: mast height (m)"]
     assert row["as drawn"] == "6" and row["taller mast"] == "9"
     outcome = at.table[0].value
-    assert "best position" in outcome.index
+    assert "leading position" in outcome.index
 
 
 def test_site_file_round_trip_through_the_page():
