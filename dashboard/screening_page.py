@@ -18,6 +18,7 @@ from pathlib import Path
 import streamlit as st
 
 from dashboard import state, widgets
+from dashboard.widgets import plain
 from engine import screening
 from engine.report import screening_charts
 from engine.io import sitefile
@@ -61,14 +62,16 @@ def _confirm_open(pick, short, table) -> None:
     keep = f"before screening building {pick}"
     current = ss["valid"].site.name
     with st.container(border=True):
-        st.warning(f"Opening building {pick} replaces the working copy (**{current}**). It is "
-                   f"kept first as the scenario “{keep}” (Compare what-ifs can make it the "
+        st.warning(f"Opening building {plain(pick)} replaces the working copy "
+                   f"(**{plain(current)}**). It is "
+                   f"kept first as the scenario “{plain(keep)}” (Compare what-ifs can make it the "
                    "working copy again)."
                    + (" The working copy has problems not yet fixed: the scenario keeps its "
                       "last complete version." if state.any_problems() else ""),
                    icon=":material/warning:")
         c1, c2 = st.columns(2)
-        if c1.button(f"Keep it as “{keep}” and open {pick}", key="screening_open_yes",
+        if c1.button(f"Keep it as “{plain(keep)}” and open {plain(pick)}",
+                     key="screening_open_yes",
                      type="primary"):
             used = state.save_scenario(keep)
             row = table.loc[short[short["id"] == pick].index[0]]
@@ -109,7 +112,8 @@ with st.form("screening_form"):
     chosen = st.multiselect("Turbines to screen with", ids, default=ids, key="screening_turbines",
                             help="From the current assessment's turbines step.")
     st.caption(f"Climate, site and losses: those of the current assessment "
-               f"(**{valid.site.name}**, climate “{valid.climate.label or 'unnamed'}”).")
+               f"(**{plain(valid.site.name)}**, climate "
+               f"“{plain(valid.climate.label or 'unnamed')}”).")
     go = st.form_submit_button("Screen", type="primary")
 
 if go:
@@ -126,7 +130,8 @@ if go:
 
 err = st.session_state.get("screening_error")
 if err:
-    st.error("The table cannot be screened:\n\n" + "\n".join(f"- **{w}**: {m}" for w, m in err))
+    st.error("The table cannot be screened:\n\n"
+             + "\n".join(f"- **{plain(w)}**: {plain(m)}" for w, m in err))
 
 res = st.session_state.get("screening_result")
 if res is not None:
@@ -191,8 +196,9 @@ if res is not None:
             _confirm_open(pick, short, table)
         opened = st.session_state.pop("screening_opened", None)
         if opened is not None:
-            st.success(f"Building {opened[0]} is now the working assessment: one roof position "
-                       f"at its centre on the screening's mast. Go to the steps to refine it. "
-                       f"The previous working copy is kept as the scenario “{opened[1]}”.")
+            st.success(f"Building {plain(opened[0])} is now the working assessment: one roof "
+                       f"position at its centre on the screening's mast. Go to the steps to "
+                       f"refine it. The previous working copy is kept as the scenario "
+                       f"“{plain(opened[1])}”.")
     else:
         st.info("No building in the chosen classes.")

@@ -38,7 +38,7 @@ if len(docs) < 2:
 
 sites = results_view.different_sites(docs)
 if sites:
-    st.warning("These scenarios are of different sites (" + ", ".join(f"“{s}”" for s in sites)
+    st.warning("These scenarios are of different sites (" + ", ".join(f"“{widgets.plain(s)}”" for s in sites)
                + "): buildings and positions are matched by name, so one site's rows show "
                "empty in the other's column.", icon=":material/warning:")
 first = list(docs)[0]

@@ -66,7 +66,7 @@ def _what_if_controls() -> None:
                 used = state.save_scenario(name)
                 st.toast(f"Saved “{widgets.plain(used)}”.")
             if ss["scenarios"]:
-                st.caption("Saved: " + ", ".join(ss["scenarios"]))
+                st.caption("Saved: " + ", ".join(widgets.plain(n) for n in ss["scenarios"]))
             st.page_link("steps/step_compare.py", label="Compare what-ifs",
                          icon=":material/compare_arrows:")
         t1, t2 = st.columns(2)
@@ -83,7 +83,7 @@ def _headline(text: str, table, economics, S: str, L: str):
     "best"), then the top five; returns that row (or None)."""
     ok = table[~table["excluded"]]
     best = ok.iloc[0] if len(ok) else None
-    st.markdown(f"**{headline(table, economics)}**")
+    st.markdown(f"**{widgets.plain(headline(table, economics))}**")  # it quotes ids and names
     # the first column wider: its label carries the verdict, which must not be cut short
     c1, c2, c3, c4 = st.columns([1.5, 1, 1, 1])
     if best is not None:

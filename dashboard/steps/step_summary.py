@@ -22,7 +22,7 @@ if widgets.editing():
         st.markdown(f"{mark} {i + 1}. {title}: {'complete' if ok else 'needs attention'}")
 
 st.subheader("Ranked options")
-st.markdown(f"**{headline_for(ev)}**")
+st.markdown(f"**{widgets.plain(headline_for(ev))}**")  # it quotes ids and names
 st.table(results_view.top_rows(ev.table, S, L, n=5), hide_index=False)
 
 st.subheader("Take away")

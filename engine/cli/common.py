@@ -4,7 +4,8 @@
   disk behind ``>``, a closed pipe behind ``|``) into an :class:`~engine.core.errors.InputError`,
   so it never ends as exit 0;
 - :func:`finite_float` is an ``argparse`` type refusing NaN, infinities and overflowing
-  numbers, with the option named by ``argparse``;
+  numbers, with the option named by ``argparse`` (:func:`positive_metres` also refuses zero
+  and below); :func:`renamed` names an engine's problems as the user typed them;
 - :func:`run_command` runs a command's function and maps what it raises to the exit codes:
   0 success; 2 a problem with the input, an argument or a file (every problem listed on
   stderr, naming the argument or file); 1 an internal fault (one line on stderr, the
@@ -61,6 +62,20 @@ def finite_float(text: str) -> float:
     if not math.isfinite(v):
         raise argparse.ArgumentTypeError(f"must be a finite number, got {text!r}")
     return v
+
+
+def positive_metres(text: str) -> float:
+    """An ``argparse`` type: a finite length above zero [m]."""
+    v = finite_float(text)
+    if not v > 0:
+        raise argparse.ArgumentTypeError(f"must be a positive number of metres, got {text!r}")
+    return v
+
+
+def renamed(error: InputError, names: dict) -> InputError:
+    """``error`` with each ``where`` found in ``names`` replaced by the name the user typed
+    (an engine's ``"file"`` becomes the path, ``"crs"`` becomes ``--crs``)."""
+    return InputError([(names.get(w, w), m) for w, m in error.problems])
 
 
 def os_problem(e: OSError) -> InputError:

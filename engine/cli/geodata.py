@@ -13,31 +13,25 @@ each) and the buildings as GeoJSON in the site's CRS, or longitude/latitude.
 ``geojson FOOTPRINTS.geojson --height-field NAME [--climate SITE.json] --out screened.geojson``
 screens the footprints first (as ``screen`` does) and writes every candidate position and
 every building with its best position's class, in the file's CRS or longitude/latitude.
+
+Both check ``--out`` before any work, read with :func:`engine.io.safe_files.read_bounded` (the
+footprint file at most :data:`engine.io.footprints.MAX_FOOTPRINT_BYTES`, site files their own
+limit) and write with :func:`engine.io.safe_files.write_output` (whole or not at all); exit
+codes as every command (:mod:`engine.cli.common`).
 """
 from __future__ import annotations
 
 import dataclasses
 import sys
-from pathlib import Path
 
 from engine.chain import pipeline
+from engine.cli.common import positive_metres, renamed, write_stdout
 from engine.core.errors import InputError
 from engine.core.model import Position
 from engine.flow.roof_candidates import DEFAULT_SETBACK_M, roof_candidate_points
 from engine.io import footprints, sitefile
-from engine.io.sitefile import atomic_write_bytes
+from engine.io.safe_files import check_output_path, read_bounded, write_output
 from engine.report.geodata import ranked_geojson_bytes
-
-
-def _read_bytes(path: str, what: str, limit: int) -> bytes:
-    p = Path(path)
-    if not p.is_file():
-        raise InputError([(what, f"{path!r} is not a readable file")])
-    with open(p, "rb") as f:
-        data = f.read(limit + 1)
-    if len(data) > limit:
-        raise InputError([(what, f"is over the {limit // 2**20} MiB limit")])
-    return data
 
 
 def _positions(buildings, spacing_m, setback_m, mast_height_m):
@@ -53,13 +47,20 @@ def _positions(buildings, spacing_m, setback_m, mast_height_m):
 
 
 def cmd_footprints(args) -> int:
+    check_output_path(args.out, "--out", "the site file")
     base = sitefile.load(args.site)
-    data = _read_bytes(args.footprints, "footprints", footprints.MAX_FOOTPRINT_BYTES)
-    fs = footprints.read_footprints(data, height_field=args.height_field,
-                                    id_field=args.id_field, crs=args.crs,
-                                    eaves_field=args.eaves_field, ridge_field=args.ridge_field)
+    data = read_bounded(args.footprints, footprints.MAX_FOOTPRINT_BYTES,
+                        "a GeoJSON footprint file")
+    names = {"file": args.footprints, "crs": "--crs", "features": args.footprints}
+    try:
+        fs = footprints.read_footprints(data, height_field=args.height_field,
+                                        id_field=args.id_field, crs=args.crs,
+                                        eaves_field=args.eaves_field,
+                                        ridge_field=args.ridge_field)
+    except InputError as e:
+        raise renamed(e, names) from None
     if not fs.buildings:
-        raise InputError(list(fs.problems) + [("footprints", "no footprint could be used")])
+        raise InputError(list(fs.problems) + [(args.footprints, "no footprint could be used")])
     for where, message in fs.problems:
         print(f"perch footprints: skipped {where}: {message}", file=sys.stderr)
     site = dataclasses.replace(base.site, origin_lat_deg=fs.plan.origin_lat_deg,
@@ -68,20 +69,22 @@ def cmd_footprints(args) -> int:
                            args.mast_height_m)
     assessment = dataclasses.replace(base, site=site, buildings=fs.buildings,
                                      positions=positions, spot_readings=(), receptors=())
-    atomic_write_bytes(Path(args.out), sitefile.dumps(assessment).encode("utf-8"),
-                       keep_previous=False)
+    # A site file already there is kept as <name>.bak, as every site-file save does.
+    write_output(args.out, sitefile.dumps(assessment).encode("utf-8"), "--out",
+                 "the site file", keep_previous=True)
     worst = min(fs.area_ratio)
-    print(f"wrote {args.out}: {len(fs.buildings)} buildings, {len(positions)} roof positions; "
-          f"footprint/rectangle area ratio {worst:.2f} at worst")
+    write_stdout(f"wrote {args.out}: {len(fs.buildings)} buildings, {len(positions)} roof "
+                 f"positions; footprint/rectangle area ratio {worst:.2f} at worst\n")
     return 0
 
 
 def cmd_geojson(args) -> int:
+    check_output_path(args.out, "--out", "the GeoJSON file")
     if args.height_field:
         return _screened_geojson(args)
     ev = pipeline.evaluate(sitefile.load(args.site))
-    atomic_write_bytes(Path(args.out), ranked_geojson_bytes(ev, lon_lat=args.lon_lat),
-                       keep_previous=False)
+    write_output(args.out, ranked_geojson_bytes(ev, lon_lat=args.lon_lat), "--out",
+                 "the GeoJSON file")
     return 0
 
 
@@ -96,24 +99,13 @@ def _screened_geojson(args) -> int:
     if not len(got.buildings):
         raise InputError([("footprints", "no footprint could be screened; fix the features "
                                          "listed above")])
-    atomic_write_bytes(Path(args.out), screened_geojson_bytes(got, lon_lat=args.lon_lat),
-                       keep_previous=False)
+    write_output(args.out, screened_geojson_bytes(got, lon_lat=args.lon_lat), "--out",
+                 "the GeoJSON file")
     print(f"perch geojson: {len(got.buildings)} buildings and {len(got.positions)} positions "
           f"written to {args.out} ({'EPSG:4326' if args.lon_lat else got.crs})",
           file=sys.stderr)
     print(f"perch geojson: {CAUTION}", file=sys.stderr)
     return 0
-
-
-def _positive(text: str) -> float:
-    import argparse
-    try:
-        v = float(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"must be a number of metres, got {text!r}") from None
-    if not v > 0 or v != v or v == float("inf"):
-        raise argparse.ArgumentTypeError(f"must be a positive number of metres, got {text!r}")
-    return v
 
 
 def register_footprints(sub):
@@ -128,12 +120,12 @@ def register_footprints(sub):
     p.add_argument("--site", required=True,
                    help="base site file: its climate, turbines and settings are kept")
     p.add_argument("--out", required=True, help="site file to write (JSON)")
-    p.add_argument("--grid-spacing-m", type=_positive,
+    p.add_argument("--grid-spacing-m", type=positive_metres,
                    help="also place candidates on a grid of this spacing on each roof [m]")
-    p.add_argument("--setback-m", type=_positive, default=DEFAULT_SETBACK_M,
+    p.add_argument("--setback-m", type=positive_metres, default=DEFAULT_SETBACK_M,
                    help=f"grid candidates keep this far from roof edges [m] "
                         f"(default {DEFAULT_SETBACK_M})")
-    p.add_argument("--mast-height-m", type=_positive, default=6.0,
+    p.add_argument("--mast-height-m", type=positive_metres, default=6.0,
                    help="mast height of every candidate [m] (default 6); the ranking reports "
                         "the mast that clears the roof's turbulence")
     p.set_defaults(func=cmd_footprints)
@@ -152,10 +144,10 @@ def register_geojson(sub):
                    help="footprint files: site file or climate JSON (as for screen)")
     p.add_argument("--turbines", default="",
                    help="footprint files: comma-separated turbine ids")
-    p.add_argument("--grid-spacing-m", type=_positive, default=None,
+    p.add_argument("--grid-spacing-m", type=positive_metres, default=None,
                    help="footprint files: candidate grid spacing on each roof [m] (default: "
                         "the roof centre only)")
-    p.add_argument("--setback-m", type=_positive, default=DEFAULT_SETBACK_M,
+    p.add_argument("--setback-m", type=positive_metres, default=DEFAULT_SETBACK_M,
                    help="footprint files: candidates kept this far from every roof edge [m]")
     p.add_argument("--out", required=True, help="GeoJSON file to write")
     p.add_argument("--lon-lat", action="store_true",

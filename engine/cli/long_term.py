@@ -10,14 +10,29 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
-import numpy as np
 import pandas as pd
 
-from engine.cli.common import finite_float
+from engine.cli.common import finite_float, write_stdout
 from engine.climate import long_term
 from engine.core.errors import InputError
 from engine.io import records as timeseries
 from engine.io.safe_files import read_bounded
+
+
+#: Engine parameter -> command-line option, for messages.
+OPTION_NAMES = {"height_m": "--height-m", "roughness_m": "--roughness-m",
+                "n_sectors": "--sectors", "method": "--lt-method", "fit_method": "--method",
+                "lat_deg": "--lat-deg", "lon_deg": "--lon-deg",
+                "reference_height_m": "--ref-height-m",
+                "reference_roughness_m": "--ref-roughness-m", "speed_unit": "--speed-unit",
+                "ref_speed_unit": "--ref-speed-unit", "utc_offset_h": "--utc-offset-h"}
+
+
+def _where(w: str, ref_name: str, record_name: str) -> str:
+    """A problem's place as the user typed it: an option, or the reference file."""
+    if w in OPTION_NAMES:
+        return OPTION_NAMES[w]
+    return f"--long-term {w}" if ref_name != record_name and w.startswith(ref_name) else w
 
 
 def _time_ns(text, where):
@@ -68,31 +83,42 @@ def _text(result) -> str:
 def run_long_term(args, climate_document, table_text) -> int:
     """The ``--long-term`` branch of ``engine climate``."""
     path, ref_path = Path(args.data), Path(args.long_term)
-    problems = [(str(p), "no such file; give the path of a CSV/TSV record or NetCDF file")
-                for p in (path, ref_path) if not p.is_file()]
+    ref_where = f"--long-term {args.long_term}"
+    problems, got = [], []
+    for p, what, where in ((path, "a CSV/TSV record", str(path)),
+                           (ref_path, "a CSV/TSV record or NetCDF file", ref_where)):
+        try:
+            got.append(read_bounded(p, timeseries.MAX_RECORD_BYTES, what, where))
+        except InputError as e:  # both files' problems at once
+            problems.extend(e.problems)
     if problems:
         raise InputError(problems)
-    target = timeseries.read_record(
-        read_bounded(path, timeseries.MAX_RECORD_BYTES, "a CSV/TSV record"), path.name,
-        speed_unit=args.speed_unit, utc_offset_h=args.utc_offset_h)
-    ref_bytes = read_bounded(ref_path, timeseries.MAX_RECORD_BYTES,
-                             "a CSV/TSV record or NetCDF file", "--long-term")
-    result = long_term.long_term_correction(
-        target, ref_bytes, ref_path.name, height_m=args.height_m, roughness_m=args.roughness_m,
+    try:
+        target = timeseries.read_record(got[0], path.name, speed_unit=args.speed_unit,
+                                        utc_offset_h=args.utc_offset_h)
+        result = _correct(args, target, got[1], ref_path.name)
+    except InputError as e:
+        raise InputError([(_where(w, ref_path.name, path.name), m)
+                          for w, m in e.problems]) from None
+    if args.format == "json":
+        doc = long_term_document(result, climate_document(result.summary, result.target_qc))
+        write_stdout(json.dumps(doc, indent=2, ensure_ascii=False) + "\n")
+    else:
+        write_stdout(table_text(result.summary, result.target_qc) + "\n\n" + _text(result)
+                     + "\n")
+    return 0
+
+
+def _correct(args, target, ref_bytes, ref_name):
+    """:func:`engine.climate.long_term.long_term_correction` with the command's options."""
+    return long_term.long_term_correction(
+        target, ref_bytes, ref_name, height_m=args.height_m, roughness_m=args.roughness_m,
         method=args.lt_method, n_sectors=args.sectors, fit_method=args.method,
         lat_deg=args.lat_deg, lon_deg=args.lon_deg, reference_height_m=args.ref_height_m,
         reference_roughness_m=args.ref_roughness_m, ref_speed_unit=args.ref_speed_unit,
         utc_offset_h=args.utc_offset_h, period_start_ns=_time_ns(args.period_start,
                                                                  "--period-start"),
         period_end_ns=_time_ns(args.period_end, "--period-end"))
-    if args.format == "json":
-        doc = long_term_document(result, climate_document(result.summary, result.target_qc))
-        print(json.dumps(doc, indent=2, ensure_ascii=False))
-    else:
-        print(table_text(result.summary, result.target_qc))
-        print()
-        print(_text(result))
-    return 0
 
 
 def register_long_term_options(p) -> None:

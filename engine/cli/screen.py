@@ -17,8 +17,6 @@ trust, a ``tls://`` address with the cluster's certificates in the Dask configur
 from __future__ import annotations
 
 import ipaddress
-import json
-import os
 import re
 import sys
 import time
@@ -26,12 +24,12 @@ from contextlib import contextmanager
 from pathlib import Path
 
 from engine import screening
+from engine.cli.common import finite_float, positive_metres, renamed
 from engine.core import model
-from engine.cli.common import finite_float
 from engine.core.errors import InputError, Problems
 from engine.io import sitefile
+from engine.io.safe_files import check_output_path, load_json, read_bounded, write_output
 from engine.screening.passes import OutputWriteError
-from engine.screening.table import regular_file_or_raise
 
 #: Site file used for climate and turbines when ``--climate`` is not given (invented demo).
 DEMO_SITE = Path(__file__).resolve().parents[2] / "demo_sites" / "larkspur_yard.json"
@@ -51,35 +49,9 @@ TRUST_HELP = ("a Dask scheduler can make this process run any code it sends: con
               "cluster you trust")
 
 
-def read_small_file(path, what: str, max_bytes: int = MAX_CLIMATE_BYTES) -> bytes:
-    """The bytes of a small regular file, refusing folders, devices, FIFOs and large files."""
-    path = Path(path)
-    regular_file_or_raise(path, what)
-    try:
-        with open(path, "rb") as fh:
-            data = fh.read(max_bytes + 1)
-    except OSError as e:
-        raise InputError([(str(path), f"cannot be read: {e.strerror}")]) from None
-    if len(data) > max_bytes:
-        raise InputError([(str(path), f"is larger than {max_bytes / 1e6:.0f} MB; {what} is a "
-                                      "small JSON file")])
-    return data
-
-
 def load_climate_or_site(path):
     """A site file (-> Assessment) or a climate JSON object (-> WindClimate) from ``path``."""
-    path = Path(path)
-    raw = read_small_file(path, "a site file or climate JSON")
-    try:
-        data = json.loads(raw.decode("utf-8-sig"))
-    except (UnicodeDecodeError, json.JSONDecodeError) as e:
-        raise InputError([(str(path), f"is not JSON text ({e}); give a site file or a climate "
-                                      "JSON object")]) from None
-    except RecursionError:
-        raise InputError([(str(path), "is nested too deeply to be a site file or climate")]) \
-            from None
-    except ValueError:  # an integer with more digits than Python converts
-        raise InputError([(str(path), "holds a number too long to read")]) from None
+    data = load_json(path, MAX_CLIMATE_BYTES, "a site file or climate JSON object")
     try:
         if isinstance(data, dict) and "site" in data and "climate" in data:
             return sitefile.assessment_from_dict(data)
@@ -146,21 +118,6 @@ def build_context(climate_args, turbine_arg, stderr=sys.stderr) -> screening.Scr
     return screening.ScreeningContext(
         site=ctx.site, climates=climates, turbines=tuple(turbines), losses=ctx.losses,
         ranking=ctx.ranking, transfer=ctx.transfer, settings=ctx.settings)
-
-
-def check_out_path(out) -> Path:
-    """``--out`` must name a file (new or regular) in a folder that exists and is writable."""
-    out = Path(out)
-    if out.exists() and not out.is_file():
-        kind = "a folder" if out.is_dir() else "a device or special file"
-        raise InputError([("--out", f"{out} is {kind}; give the path of the CSV file to write")])
-    folder = out.parent if str(out.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError([("--out", f"folder {folder} does not exist; create it or choose "
-                                    "another path")])
-    if not os.access(folder, os.W_OK | os.X_OK):
-        raise InputError([("--out", f"folder {folder} is not writable; choose another path")])
-    return out
 
 
 _HOST_LABEL = re.compile(r"^(?!-)[A-Za-z0-9-]{1,63}(?<!-)$")
@@ -234,7 +191,9 @@ def check_arguments(args) -> None:
     if args.workers is not None and args.scheduler:
         p.add("--workers", "give --workers (a local cluster) or --scheduler, not both")
     p.raise_if_any()
-    check_out_path(args.out)
+    check_output_path(args.out, "--out", "the ranked CSV")
+    if args.positions_out:
+        check_output_path(args.positions_out, "--positions-out", "the positions CSV")
     if args.scheduler:
         scheme, _, _ = parse_scheduler(args.scheduler)
         trusted_security(scheme, args.scheduler, args.trust_scheduler)
@@ -306,28 +265,25 @@ FOOTPRINT_SUFFIXES = (".geojson", ".json")
 def screen_footprint_file(path, ctx, args):
     """:func:`engine.screening.positions.screen_footprints` of a GeoJSON file, with the
     footprint options of ``args`` (``height_field``, ``id_field``, ``crs``,
-    ``grid_spacing_m``, ``setback_m``)."""
+    ``grid_spacing_m``, ``setback_m``); the file read bounded, problems named by option."""
     from engine.io.footprints import MAX_FOOTPRINT_BYTES
     from engine.screening.positions import screen_footprints
     if not args.height_field:
         raise InputError([("--height-field", "must name the footprints' height attribute "
                                              "(e.g. --height-field height_m), got nothing")])
-    path = Path(path)
-    regular_file_or_raise(path, "a GeoJSON footprint file")
-    with open(path, "rb") as fh:
-        data = fh.read(MAX_FOOTPRINT_BYTES + 1)
-    if len(data) > MAX_FOOTPRINT_BYTES:
-        raise InputError([(str(path), f"must be at most {MAX_FOOTPRINT_BYTES // 2**20} MiB, "
-                                      "got more; split the file by district")])
-    return screen_footprints(data, ctx, height_field=args.height_field,
-                             id_field=args.id_field or None, crs=args.crs or None,
-                             spacing_m=args.grid_spacing_m, setback_m=args.setback_m)
+    data = read_bounded(path, MAX_FOOTPRINT_BYTES, "a GeoJSON footprint file")
+    try:
+        return screen_footprints(data, ctx, height_field=args.height_field,
+                                 id_field=args.id_field or None, crs=args.crs or None,
+                                 spacing_m=args.grid_spacing_m, setback_m=args.setback_m)
+    except InputError as e:
+        raise renamed(e, {"file": str(path), "features": str(path), "crs": "--crs"}) from None
 
 
 def _run_footprints(args, ctx) -> int:
     """A footprint file: every building's best position to --out, every position to
     --positions-out (both written whole or not at all)."""
-    from engine.screening.local import write_ranked_csv
+    from engine.io.exports import safe_csv
     if args.tile_m is not None:
         raise InputError([("--tile-m", "must not be given with a footprint file, got "
                                        f"{args.tile_m} m: footprint files are screened whole "
@@ -340,12 +296,10 @@ def _run_footprints(args, ctx) -> int:
     got = screen_footprint_file(args.buildings, ctx, args)
     for where, msg in got.problems:
         print(f"perch screen: {where}: {msg}", file=sys.stderr)
-    try:
-        write_ranked_csv(got.buildings, args.out)
-        if args.positions_out:
-            write_ranked_csv(got.positions, args.positions_out)
-    except OSError as e:
-        raise OutputWriteError(args.out, e) from None
+    write_output(args.out, safe_csv(got.buildings).encode("utf-8"), "--out", "the ranked CSV")
+    if args.positions_out:
+        write_output(args.positions_out, safe_csv(got.positions).encode("utf-8"),
+                     "--positions-out", "the positions CSV")
     print(f"perch screen: {len(got.buildings)} of {got.n_features} footprints screened at "
           f"{len(got.positions)} positions in {time.perf_counter() - t0:.1f} s; best position "
           f"per building written to {args.out}"
@@ -428,10 +382,10 @@ def register_screen(sub):
                    help="footprint files (.geojson): the attribute holding each height [m]")
     p.add_argument("--id-field", default="", help="footprint files: the attribute of the ids")
     p.add_argument("--crs", default="", help="footprint files: their CRS when not stated")
-    p.add_argument("--grid-spacing-m", type=float, default=None,
+    p.add_argument("--grid-spacing-m", type=positive_metres, default=None,
                    help="footprint files: candidate grid spacing on each roof [m] (default: "
                         "the roof centre only)")
-    p.add_argument("--setback-m", type=float, default=2.0,
+    p.add_argument("--setback-m", type=finite_float, default=2.0,
                    help="footprint files: candidates kept this far from every roof edge [m]")
     p.add_argument("--positions-out", default="",
                    help="footprint files: also write every candidate position (CSV)")

@@ -123,7 +123,10 @@ def _parse(data: bytes) -> dict:
                                    "file; split the area into parts")])
     try:
         doc = json.loads(data.decode("utf-8-sig"))
-    except (UnicodeDecodeError, ValueError, RecursionError) as e:
+    except RecursionError:
+        raise InputError([("file", "is nested too deeply (thousands of levels) to be GeoJSON; "
+                                   "export the layer as GeoJSON again")]) from None
+    except (UnicodeDecodeError, ValueError) as e:
         raise InputError([("file", f"is not GeoJSON text ({type(e).__name__}); export the "
                                    "layer as GeoJSON (UTF-8)")]) from None
     if not isinstance(doc, dict) or doc.get("type") != "FeatureCollection" \
@@ -156,7 +159,8 @@ def _feature_polygons(i: int, feature, id_field: str | None, problems: Problems)
     props = feature.get("properties") if isinstance(feature.get("properties"), dict) else {}
     raw_id = props.get(id_field) if id_field else feature.get("id", props.get("id"))
     fid = str(raw_id).strip() if raw_id is not None and str(raw_id).strip() else f"F{i + 1}"
-    where = f"features[{i}] (id {fid!r})"
+    shown = fid if len(fid) <= 60 else fid[:60] + "..."  # the id's own check says the rest
+    where = f"features[{i}] (id {shown!r})"
     try:
         geom = shapely.geometry.shape(feature["geometry"])
     except (AttributeError, KeyError, TypeError, ValueError, IndexError) as e:
@@ -176,6 +180,18 @@ def _feature_polygons(i: int, feature, id_field: str | None, problems: Problems)
         return None
     parts = list(geom.geoms) if geom.geom_type == "MultiPolygon" else [geom]
     return fid, where, parts, props
+
+
+def _guarded(read, where: str, problems: Problems, *args):
+    """``read(*args)``, or None with a problem noted when the feature is nested so deeply that
+    reading it runs out of stack (JSON parses nesting a few hundred deep that shapely and
+    ``repr`` then recurse through)."""
+    try:
+        return read(*args)
+    except RecursionError:
+        problems.add(where, "is nested too deeply to be a GeoJSON feature (coordinates or "
+                            "properties hundreds of levels deep); export the layer again")
+        return None
 
 
 def _height(props: dict, field: str, where: str, problems: Problems):
@@ -241,7 +257,8 @@ def read_footprints(data: bytes, *, height_field: str, id_field: str | None = No
     crs_obj = crs_of(crs_text)
     problems = Problems()
     read = [r for i, f in enumerate(doc["features"])
-            if (r := _feature_polygons(i, f, id_field, problems)) is not None]
+            if (r := _guarded(_feature_polygons, f"features[{i}]", problems,
+                              i, f, id_field, problems)) is not None]
     if not read:
         problems.add("features", "no footprint could be read")
         problems.raise_if_any()
@@ -251,7 +268,7 @@ def read_footprints(data: bytes, *, height_field: str, id_field: str | None = No
     to_local = plan._transformer(crs_obj, True)
     buildings, ratios, seen = [], [], set()
     for fid, where, parts, props in read:
-        h = _height(props, height_field, where, problems)
+        h = _guarded(_height, where, problems, props, height_field, where, problems)
         if h is None:
             continue
         for k, part in enumerate(parts):

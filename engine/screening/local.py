@@ -13,7 +13,6 @@ Two ways to finish, with the same numbers:
 """
 from __future__ import annotations
 
-import os
 from dataclasses import replace
 from pathlib import Path
 
@@ -214,27 +213,16 @@ def write_ranked_csv(table: pd.DataFrame, path) -> Path:
 
     Notes
     -----
-    Written to a temporary file in the same folder, flushed and synced to the disk, then
-    renamed over ``path``; on any error (disk full, permission) the temporary file is removed
-    and the error raised, so no partial table is left.
+    Written through :func:`engine.io.safe_files.atomic_write_bytes` (a temporary file with a
+    name unique to this write, flushed and synced to the disk, renamed over ``path``); on any
+    error (disk full, permission) the temporary file is removed and
+    :class:`~engine.screening.passes.OutputWriteError` raised, so no partial table is left.
     """
     from engine.io.exports import safe_csv
+    from engine.io.safe_files import atomic_write_bytes
 
-    path = Path(path)
-    data = safe_csv(table).encode("utf-8")
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
     try:
-        with open(tmp, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException as e:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        if isinstance(e, OSError):
-            raise OutputWriteError(path, e) from None
-        raise
-    return path
+        return atomic_write_bytes(Path(path), safe_csv(table).encode("utf-8"),
+                                  keep_previous=False)
+    except OSError as e:
+        raise OutputWriteError(path, e) from None

@@ -46,3 +46,33 @@ def test_control_character_in_an_id_then_the_summary(page, dashboard_url, tmp_pa
         timeout=120000)
     page.screenshot(path=str(ARTIFACTS / "browser-text-2-summary.png"), full_page=True)
     assert _healthy(dashboard_url)
+
+
+def test_markdown_in_a_site_name_shows_as_text_on_the_screening_page(page, dashboard_url,
+                                                                       tmp_path):
+    """An image link and an HTML tag in the site name: the screening page shows the characters,
+    makes no image and no bold element of them, and requests nothing from the link."""
+    from playwright.sync_api import expect
+
+    hostile = "Yard ![x](http://127.0.0.1:9/x.png) <b>B</b>"
+    d = json.loads((ROOT / "demo_sites" / "larkspur_yard.json").read_text(encoding="utf-8"))
+    d["site"]["name"] = hostile
+    p = tmp_path / "markdown.json"
+    p.write_text(json.dumps(d), encoding="utf-8")
+    asked = []
+    page.on("request", lambda r: asked.append(r.url) if "127.0.0.1:9/" in r.url else None)
+
+    page.goto(dashboard_url)
+    page.wait_for_selector(IDLE, state="attached")
+    page.locator('input[type="file"]').first.set_input_files(str(p))
+    page.wait_for_selector(IDLE, state="attached")
+    page.get_by_role("button", name="Open this file").click()
+    page.wait_for_selector(IDLE, state="attached")
+    page.get_by_role("link", name="District screening").first.click()
+    page.wait_for_selector(IDLE, state="attached")
+    main = page.locator('[data-testid="stMain"]')
+    expect(main.get_by_text(hostile, exact=False).first).to_be_visible()
+    page.screenshot(path=str(ARTIFACTS / "browser-text-3-screening-name.png"), full_page=True)
+    assert page.locator('img[src*="127.0.0.1:9"]').count() == 0
+    assert main.locator("b", has_text="B").count() == 0
+    assert asked == []
