@@ -16,7 +16,8 @@ _UNSHOWABLE = re.compile("[\x00-\x09\x0b-\x1f\x7f-\x9f\ud800-\udfff]")
 
 
 def printable(text: str) -> str:
-    """``text`` with control characters and lone surrogates written as ``\\uXXXX`` escapes."""
+    """``text`` with control characters and lone surrogates written as ``\\u`` escapes (four
+    hex digits each)."""
     return _UNSHOWABLE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
 
 
