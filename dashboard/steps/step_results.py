@@ -16,7 +16,7 @@ ss = st.session_state
 widgets.step_banner("results", "5. Results")
 
 OBJECTIVE_NAMES = {"net_aep": "net energy", "p90_aep": "P90 energy", "lcoe": "cost per kWh",
-                   "payback": "payback time"}
+                   "payback": "payback time", "npv": "net present value"}
 VIEWS = {"rose": "Wind rose", "dist": "Speed distribution", "profile": "Vertical profile",
          "curve": "Power curve", "monthly": "Monthly energy", "bars": "Ranking chart"}
 

@@ -110,3 +110,17 @@ def test_import_price_what_if_changes_the_verdict_live(demo_eval):
     # and back to the demo's price: the verdict follows again
     at.number_input(key=TARIFF).set_value(a.economics.tariff_per_kwh).run()
     assert _headline(at).startswith("None of the options pays back")
+
+
+def test_rank_by_net_present_value(demo_eval):
+    """'Rank by net present value' ranks the allowed rows by NPV, largest first, as the
+    engine's ranking with that objective does (the same site file, one chain)."""
+    at = _results()
+    at.selectbox(key="w|ranking.objective|plain|-|whatif").set_value("npv").run()
+    assert not at.exception, at.exception
+    a = demo_eval.assessment
+    b = dataclasses.replace(a, ranking=dataclasses.replace(a.ranking, objective="npv"))
+    want = pipeline.evaluate(b).table
+    allowed = want[~want["excluded"]]
+    assert list(allowed["npv"]) == sorted(allowed["npv"], reverse=True)
+    assert _headline(at) == verdict.headline_for(pipeline.evaluate(b))
