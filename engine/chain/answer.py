@@ -154,7 +154,7 @@ def answer_sentences(table, economics, uncertainty, measured_at_position: str = 
     name = f"{row['turbine_id']} at {row['position_id']}"
     ok = table[table["verdict"] != VERDICTS[3]]
     if not ok["verdict"].isin(VERDICTS[:2]).any():
-        first = (f"None of the options pays back at these prices; the least bad, {name}, "
+        first = (f"None of the options pays back at these prices; the least bad is {name}: "
                  f"{row['verdict_reason']}.")
     else:
         first = f"{name} {row['verdict']}: {row['verdict_reason']}."

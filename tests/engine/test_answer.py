@@ -53,8 +53,8 @@ def test_nothing_pays_back_is_the_first_words():
     t = table([-9000.0, -5000.0, -7000.0], [np.inf, 40.0, 60.0], [-20.0, 400.0, 300.0],
               [2.5, 2.5, 2.5])
     first, second = answer.answer_sentences(t, model.Economics(), model.Uncertainty())
-    assert first.startswith("None of the options pays back at these prices; the least bad, "
-                            "t at p1,")
+    assert first.startswith("None of the options pays back at these prices; the least bad is "
+                            "t at p1:")
     assert "NPV -5,000 EUR" in first
     assert "2,000 kWh a year (P50; P90 1,300 kWh" in second  # the p1 row: linspace midpoints
     assert "building-flow model" in second and "hub position" in second
