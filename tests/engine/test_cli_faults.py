@@ -22,6 +22,7 @@ import pandas as pd
 import pytest
 
 from engine import cli
+from fault_runner import run  # noqa: E402  (the runner beside these tests)
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
@@ -33,45 +34,6 @@ MAX_SECONDS = 20.0
 MAX_RSS_BYTES = 500 * 1024 * 1024
 #: Cases that do the whole work (ranking, the summary with its charts) before the fault.
 MAX_SECONDS_FULL = 60.0
-
-
-#: A small parent for each case: it runs the command and reports the peak resident memory of
-#: that one child. (Read in the test process itself, RUSAGE_CHILDREN is the largest of every
-#: child the whole test run has had, and a child forked from a large process starts its count
-#: at that process's size.)
-LAUNCHER = (
-    "import resource, subprocess, sys\n"
-    "rc = subprocess.call([sys.executable, '-m', 'engine', *sys.argv[1:]])\n"
-    "peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss\n"
-    "sys.stderr.write(f'\\n{MARK}{peak}\\n')\n"
-    "sys.exit(rc)\n")
-MARK = "@@peak-rss-kib "
-
-
-def run(args, stdout=subprocess.PIPE, file_size_limit=None, timeout=MAX_SECONDS_FULL):
-    """Run ``python -m engine ARGS``; return (code, stdout, stderr, seconds, peak RSS bytes)."""
-    def limit():
-        if file_size_limit is not None:
-            signal.signal(signal.SIGXFSZ, signal.SIG_IGN)
-            resource.setrlimit(resource.RLIMIT_FSIZE, (file_size_limit, file_size_limit))
-    t0 = time.monotonic()
-    proc = subprocess.Popen([sys.executable, "-c", LAUNCHER.replace("{MARK}", MARK),
-                             *map(str, args)], cwd=ROOT, stdout=stdout,
-                            stderr=subprocess.PIPE, preexec_fn=limit, start_new_session=True)
-    try:
-        out, err = proc.communicate(timeout=timeout)
-    except subprocess.TimeoutExpired:
-        os.killpg(proc.pid, signal.SIGKILL)
-        proc.communicate()
-        pytest.fail(f"{args} still running after {timeout} s")
-    seconds = time.monotonic() - t0
-    text = err.decode(errors="replace")
-    head, sep, peak = text.rpartition("\n" + MARK)
-    rss = int(peak.strip()) * 1024 if sep else 0  # ru_maxrss is in KiB on Linux
-    if not sep:
-        head = text
-        rss = 10 ** 12  # no report: the launcher itself failed, which must not pass
-    return proc.returncode, (out or b"").decode(errors="replace"), head, seconds, rss
 
 
 def check_refused(result, code: int, *needles, seconds=MAX_SECONDS):

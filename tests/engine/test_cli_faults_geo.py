@@ -22,6 +22,7 @@ import pandas as pd
 import pytest
 
 from engine import cli
+from fault_runner import run as run_measured  # the runner beside these tests
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "demo_sites" / "larkspur_yard.json"
@@ -37,22 +38,7 @@ MAX_SECONDS_FULL = 60.0
 
 def run(args, file_size_limit=None, timeout=MAX_SECONDS_FULL):
     """Run ``python -m engine ARGS``; return (code, stdout, stderr, seconds, peak RSS bytes)."""
-    def limit():
-        if file_size_limit is not None:
-            signal.signal(signal.SIGXFSZ, signal.SIG_IGN)
-            resource.setrlimit(resource.RLIMIT_FSIZE, (file_size_limit, file_size_limit))
-    t0 = time.monotonic()
-    proc = subprocess.Popen([sys.executable, "-m", "engine", *map(str, args)], cwd=ROOT,
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, preexec_fn=limit)
-    try:
-        out, err = proc.communicate(timeout=timeout)
-    except subprocess.TimeoutExpired:
-        proc.kill()
-        proc.communicate()
-        pytest.fail(f"{args} still running after {timeout} s")
-    seconds = time.monotonic() - t0
-    rss = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss * 1024  # [KiB] on Linux
-    return proc.returncode, out.decode(errors="replace"), err.decode(), seconds, rss
+    return run_measured(args, file_size_limit=file_size_limit, timeout=timeout)
 
 
 def check_refused(result, *needles, code=2, seconds=MAX_SECONDS):
