@@ -14,6 +14,8 @@ from engine.core.errors import Problems, check_choice, check_id, check_range
 
 #: Betz limit on the power coefficient (actuator-disc theory, 16/27).
 BETZ_CP = 16.0 / 27.0
+#: Curve points below this power [W] are not held to the Betz limit (they are zero in use).
+MIN_JUDGED_POWER_W = 1e-6
 #: Reference air density of power curves [kg/m³] (ISO 2533 sea level, 15 °C).
 RHO_STANDARD = 1.225
 
@@ -137,8 +139,10 @@ class Turbine:
         p.extend(turbine_problems(self))
         if not p and self.area_m2 > 0:
             # Betz: no curve point may hold more power than 16/27 of the wind's at 1.225 kg/m³.
+            # A point under a microwatt is zero power for every purpose (and below it the
+            # ratio is subnormal rounding, not a coefficient).
             for i, (v, pw) in enumerate(zip(speeds, power)):
-                if v > 0 and pw > 0:
+                if v > 0 and pw > MIN_JUDGED_POWER_W:
                     cp = pw / (0.5 * RHO_STANDARD * self.area_m2 * v ** 3)
                     if cp > BETZ_CP + 1e-9:
                         p.add("curve_power_w", f"row {i + 1}: {pw:g} W at {v:g} m/s means Cp = "

@@ -71,7 +71,8 @@ def test_markdown_in_a_site_name_shows_as_text_on_the_screening_page(page, dashb
     page.get_by_role("link", name="District screening").first.click()
     page.wait_for_selector(IDLE, state="attached")
     main = page.locator('[data-testid="stMain"]')
-    expect(main.get_by_text(hostile, exact=False).first).to_be_visible()
+    # The page draws the district's plan first; on a loaded machine that takes a while.
+    expect(main.get_by_text(hostile, exact=False).first).to_be_visible(timeout=30000)
     page.screenshot(path=str(ARTIFACTS / "browser-text-3-screening-name.png"), full_page=True)
     assert page.locator('img[src*="127.0.0.1:9"]').count() == 0
     assert main.locator("b", has_text="B").count() == 0
