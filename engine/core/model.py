@@ -47,7 +47,7 @@ from engine.core.settings_model import (LOAD_PROFILES, MORPHOMETRY_LAYOUTS, OBJE
                                         RankingSettings, TransferSettings, Uncertainty)
 from engine.core.site_model import (MAX_OUTLINE_VERTICES, POSITION_KINDS, ROOF_TYPES,
                                     Building, Position, Receptor, Site)
-from engine.core.turbine_model import (AXIS_TYPES, BETZ_CP, IEC_SMALL_CLASSES,
+from engine.core.turbine_model import (AXIS_TYPES, BETZ_CP, IEC_SMALL_CLASSES, MIN_JUDGED_POWER_W,
                                        REGULATION_TYPES, RHO_STANDARD, Turbine)
 
 __all__ = [
@@ -59,7 +59,7 @@ __all__ = [
     # the wind
     "WindClimate", "SpotReading", "CLIMATE_SOURCES",
     # the turbine
-    "Turbine", "BETZ_CP", "RHO_STANDARD", "AXIS_TYPES", "REGULATION_TYPES",
+    "Turbine", "BETZ_CP", "MIN_JUDGED_POWER_W", "RHO_STANDARD", "AXIS_TYPES", "REGULATION_TYPES",
     "IEC_SMALL_CLASSES",
     # the assessor's choices
     "Losses", "Economics", "Uncertainty", "RankingSettings", "TransferSettings",
