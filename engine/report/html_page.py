@@ -48,16 +48,10 @@ def _html_files(t: Table, attachments) -> str:
 
 
 def _html_figure(f) -> str:
-    from engine.report.render import ChartError
-    from engine.report.static_charts import figure_svg
+    from engine.report.static_charts import drawn, figure_svg
 
-    problem = f.problem if f.spec is None else None
-    if problem is None:
-        try:
-            svg = figure_svg(f)
-        except ChartError as err:  # the renderer failed: say so in place of the chart
-            problem = str(err)
-    if problem is not None:
+    svg, problem = drawn(f, figure_svg)
+    if svg is None:
         return (f'<figure id="figure-{_e(f.key)}" class="missing"><h3>{_e(f.title)}</h3>'
                 f'<p class="caution">This chart could not be drawn: {_e(problem)}</p>'
                 "</figure>")

@@ -296,17 +296,11 @@ class PdfSummary:
     # ------------------------------------------------------------ figures
 
     def figure(self, f):
-        from engine.report.render import ChartError
-        from engine.report.static_charts import PNG_SCALE, figure_png
+        from engine.report.static_charts import PNG_SCALE, drawn, figure_png
 
         pdf = self.pdf
-        problem = f.problem if f.spec is None else None
-        if problem is None:
-            try:
-                png = figure_png(f)
-            except ChartError as err:  # the renderer failed: say so in place of the chart
-                problem = str(err)
-        if problem is not None:
+        png, problem = drawn(f, figure_png)
+        if png is None:
             self.font(10, bold=True)
             pdf.cell(0, 6, self.t(f.title), new_x="LMARGIN", new_y="NEXT")
             self.para(f"This chart could not be drawn: {problem}", "caution")

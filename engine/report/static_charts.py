@@ -181,6 +181,18 @@ def _renumber_ids(svg: str, prefix: str) -> str:
     return pattern.sub(lambda m: m.group(1) + new[m.group(2)], svg)
 
 
+def drawn(fig: Figure, draw):
+    """``(image, None)`` from ``draw(fig)``, or ``(None, why)`` when the figure has no spec or
+    the renderer failed (:class:`engine.report.render.ChartError`): both summary formats then
+    say why in place of the chart."""
+    if fig.spec is None:
+        return None, fig.problem
+    try:
+        return draw(fig), None
+    except chart_render.ChartError as err:
+        return None, str(err)
+
+
 def figure_svg(fig: Figure) -> str:
     """The figure as SVG text ready to inline in HTML (ids prefixed with the figure's key).
 
