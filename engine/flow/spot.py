@@ -32,7 +32,7 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy.special import stdtrit  # Student's t quantile, without importing scipy.stats
 
 from engine.climate.sectors import sector_index
 from engine.flow import profiles
@@ -75,7 +75,7 @@ def speed_ratio_through_origin(position_ms, reference_ms, group=None, confidence
     r = sxy / sxx
     resid = np.bincount(g, (y - r[g] * x) ** 2, G)
     se = np.sqrt(resid / (n - 1) / sxx)
-    t = stats.t.ppf(0.5 * (1.0 + confidence), n - 1)
+    t = stdtrit(n - 1, 0.5 * (1.0 + confidence))
     return {"ratio": r, "ci_low": np.maximum(r - t * se, 0.0), "ci_high": r + t * se,
             "standard_error": se, "n": n}
 
