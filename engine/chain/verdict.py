@@ -137,7 +137,8 @@ def headline(table: pd.DataFrame, economics) -> str:
         text = (f"None of the options pays back at these prices; the least bad is "
                 f"{_name(least)}: {least['verdict_reason']}.") + _break_even(least, economics)
         if least is not lead and _name(least) != _name(lead):
-            text += (f" The leading option, {_name(lead)}, {lead['verdict']}: "
+            text += (f" The option ranked first, {_name(lead)}, {lead['verdict']} either "
+                     f"(it ranks first on the chosen objective, not on money): "
                      f"{lead['verdict_reason']}.")
         return text
     text = f"{_name(lead)} {verdict}: {lead['verdict_reason']}."

@@ -57,7 +57,7 @@ def test_headline_when_nothing_pays_back_says_so_first():
     assert "the least bad is t at p1" in text
     assert "recommend" not in text.lower()
     # The leading option by energy (p0) is named with its own verdict.
-    assert "The leading option, t at p0, does not pay back" in text
+    assert "The option ranked first, t at p0, does not pay back either" in text
 
 
 def test_headline_leads_with_the_leading_options_verdict():
