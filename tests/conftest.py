@@ -14,6 +14,8 @@ import pytest
 
 ROOT = Path(__file__).resolve().parents[1]
 ARTIFACTS = ROOT / "test-artifacts"
+#: The shared browser-test server's autosave folder (one, once it is started).
+SERVER_AUTOSAVE: list = []
 CHROMIUM = "/usr/bin/chromium"
 CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking",
                  "--disable-component-update", "--disable-sync", "--no-first-run",
@@ -96,8 +98,9 @@ def dashboard_url(browser_required, tmp_path_factory):
     started before any test's own autosave folder exists, so it gets a folder of its own."""
     ARTIFACTS.mkdir(exist_ok=True)
     port = free_port()
-    proc = start_dashboard(port, ARTIFACTS / "dashboard-server.log",
-                           tmp_path_factory.mktemp("server-autosave"))
+    folder = tmp_path_factory.mktemp("server-autosave")
+    SERVER_AUTOSAVE.append(folder)
+    proc = start_dashboard(port, ARTIFACTS / "dashboard-server.log", folder)
     try:
         wait_healthy(port, proc)
         yield f"http://127.0.0.1:{port}"
@@ -118,9 +121,22 @@ def chromium(browser_required):
             browser.close()
 
 
+def _forget_earlier_sessions() -> None:
+    """Empty the shared server's autosave folder, so a page starts as a newcomer's would,
+    not with the notice of the test before it."""
+    for folder in SERVER_AUTOSAVE:
+        for item in folder.iterdir():
+            if item.is_dir():
+                shutil.rmtree(item, ignore_errors=True)
+            else:
+                item.unlink(missing_ok=True)
+
+
 @pytest.fixture
 def page(chromium, dashboard_url):
-    """A new browser page (fresh session) at the dashboard."""
+    """A new browser page (fresh session) at the dashboard, with no earlier session's
+    autosave on the server."""
+    _forget_earlier_sessions()
     context = chromium.new_context(viewport={"width": 1400, "height": 1000})
     pg = context.new_page()
     pg.set_default_timeout(20000)
