@@ -53,8 +53,8 @@ def _money_reason(row, cls, e) -> str:
                 f"{_money(npv, cur)} with the grant and support")
     saving = float(row["first_year_saving"])
     if saving <= 0:
-        return (f"the energy is worth {_money(saving, cur)} a year after upkeep and standby "
-                f"use, so it never repays its {float(row['installed_cost']):,.0f} {cur}; "
+        return (f"upkeep and standby use cost more than the energy saves ({_money(saving, cur)}"
+                f" a year), so it never repays its {float(row['installed_cost']):,.0f} {cur}; "
                 f"NPV {_money(npv, cur)}")
     cost = float(row["installed_cost"])
     if np.isfinite(pb) and pb <= e.lifetime_years:
