@@ -65,7 +65,7 @@ def build() -> model.Assessment:
                       air_temperature_c=10.0, terrain_roughness_m=0.5, displacement_m=4.0,
                       plan_area_fraction=0.3, frontal_area_fraction=0.15,
                       mean_building_height_m=9.0,
-                      notes="Invented mixed-use estate for demonstration; no real place.",
+                      notes="Invented mixed-use estate; no real place.",
                       origin_lat_deg=52.2, origin_lon_deg=-1.5)
     buildings = (
         model.Building("mill", 0.0, 0.0, 40.0, 14.0, 13.0, orientation_deg=90.0, parapet_height_m=0.6),

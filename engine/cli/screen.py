@@ -93,7 +93,7 @@ def build_context(climate_args, turbine_arg, stderr=sys.stderr) -> screening.Scr
         print(f"perch screen: no site file given: using the {what} of the invented demo "
               f"{DEMO_SITE.name}", file=stderr)
         if demo_climate:
-            print("perch screen: results with the demo climate are for demonstration only",
+            print("perch screen: results with the invented demo climate are for trying the tool only, never for a decision",
                   file=stderr)
         base = sitefile.load(DEMO_SITE)
     turbine_ids = [t.strip() for t in (turbine_arg or "").split(",") if t.strip()]

@@ -1,7 +1,7 @@
 """Write ``generic_turbines.json``: invented generic demo turbines, 0.5 to 10 kW.
 
 None of these is a real product: rotor sizes, power coefficients, sound power levels, masses
-and costs are round, plausible numbers chosen for demonstration. Curves come from
+and costs are round, plausible invented numbers, not any maker's. Curves come from
 :func:`engine.energy.turbines.parametric_curve` (constant C_P capped at rated power). The script is
 deterministic (no random parts); run ``python engine/turbine_library/make_library.py``.
 """
