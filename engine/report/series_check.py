@@ -40,7 +40,8 @@ def leading_series_yield(evaluation, best, record):
     -------
     None, or dict: series_gross_wh, series_net_wh, weibull_gross_wh, weibull_net_wh [Wh/year],
     difference (series / Weibull − 1 on the gross) [-], records, days (the span with the last
-    record's interval) [d]
+    record's interval) [d], monthly_wh (12,) and hourly_wh (24,) net energy per calendar month
+    and per UTC hour of day [Wh] (:class:`engine.energy.series_yield.SeriesYield`)
     """
     if record is None or best is None or not evaluation.assessment.climate.record_file:
         return None  # a climate without a record of its own has nothing to compare with
@@ -58,7 +59,9 @@ def leading_series_yield(evaluation, best, record):
     span = (float(ts[-1] - ts[0]) + step) / NS_PER_DAY  # the last record's interval counted
     return {"series_gross_wh": float(out.gross_wh[p, k]),
             "series_net_wh": float(out.net_wh[p, k]), "weibull_gross_wh": wg, "weibull_net_wh": wg * net,
-            "difference": float(out.difference[p, k]), "records": out.records, "days": span}
+            "difference": float(out.difference[p, k]), "records": out.records, "days": span,
+            "monthly_wh": [float(x) for x in out.monthly_wh[p, k]],
+            "hourly_wh": [float(x) for x in out.hourly_wh[p, k]]}
 
 
 def series_blocks(evaluation, best, record) -> tuple:
