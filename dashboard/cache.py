@@ -94,6 +94,20 @@ def climate_from_upload(data: bytes, file_name: str, height_m: float, roughness_
     return sitefile.assessment_to_dict(clim), report.to_text(), list(diag.get("import_notes", ()))
 
 
+@st.cache_data(show_spinner=False, max_entries=4)
+def record_climate(data: bytes, file_name: str, settings: tuple, reference: tuple | None):
+    """A measured record (and its long-term reference) -> what the climate step shows, through
+    :func:`engine.climate.site_record.record_climate`, the call ``engine climate RECORD
+    --long-term REFERENCE`` makes. ``settings`` and ``reference`` are tuples of that function's
+    and :class:`engine.climate.site_record.ReferenceFile`'s keyword arguments (hashable),
+    cached on the files' bytes and them."""
+    from dashboard import record_view
+    from engine.climate import site_record
+    ref = site_record.ReferenceFile(**dict(reference)) if reference else None
+    lc = site_record.record_climate(data, file_name, reference=ref, **dict(settings))
+    return record_view.shown(lc)
+
+
 RANKED_CHARTS = ("plan", "bars")
 
 
