@@ -108,6 +108,27 @@ def record_climate(data: bytes, file_name: str, settings: tuple, reference: tupl
     return record_view.shown(lc)
 
 
+@st.cache_data(show_spinner=False, max_entries=8)
+def series_yield(text: str, position_id: str, turbine_id: str, record_key: str, _record):
+    """The leading option's series and Weibull yields with its monthly and hour-of-day chart
+    specs (:func:`engine.report.series_check.leading_series_yield`), or None; cached on the
+    site-file text, the option and the record's key (``_record`` itself is not hashed)."""
+    from altair.utils.schemapi import debug_mode
+
+    from engine.report import record_charts, series_check
+    best = {"position_id": position_id, "turbine_id": turbine_id}
+    r = series_check.leading_series_yield(evaluate_text(text), best, _record)
+    if r is None:
+        return None
+    with debug_mode(False):
+        r["monthly_spec"] = record_charts.series_monthly(
+            r["monthly_wh"], f"Net energy by month over the record, {turbine_id} at "
+                             f"{position_id}").to_dict(validate=False)
+        r["hourly_spec"] = record_charts.series_hourly(
+            r["hourly_wh"], "Net energy by hour of day (UTC)").to_dict(validate=False)
+    return r
+
+
 RANKED_CHARTS = ("plan", "bars")
 
 

@@ -134,3 +134,56 @@ def test_kept_files_survive_a_page_change():
     assert at.session_state["record_file"]["data"] == LOGGER.read_bytes()
     at.button(key="build_record").click().run()
     assert at.session_state["valid"].climate.source == "long_term"
+
+
+def _logger_at_mill_long_term() -> AppTest:
+    at = _climate_page()
+    _with_reference(at, RECORDS / "reanalysis_grid.nc")
+    at.number_input(key="rf|lat_deg|").set_value(51.5).run()
+    at.number_input(key="rf|lon_deg|").set_value(-1.25).run()
+    at.radio(key="rf|where").set_value("position").run()
+    at.selectbox(key="rf|pos").set_value("mill-centre").run()
+    at.button(key="build_record").click().run()
+    assert not at.exception, at.exception
+    assert at.session_state["problems"] == []
+    return at
+
+
+def test_results_show_the_series_yield_beside_the_weibull_yield():
+    """Results show the leading option's series and Weibull yields and their difference, the
+    engine's own figures for the kept long-term series (series_check.leading_series_yield),
+    with a monthly and an hour-of-day chart; the summary gets the series section."""
+    from dashboard import exports
+    from engine.chain import pipeline
+    from engine.report import series_check
+    at = _logger_at_mill_long_term()
+    at.switch_page("steps/step_results.py").run()
+    assert not at.exception, at.exception
+    assert "Time-series yield of the leading option" in [s.value for s in at.subheader]
+    ev = pipeline.evaluate(at.session_state["valid"])
+    row = ev.table[~ev.table["excluded"]].iloc[0]
+    series = at.session_state["record_result"]["series"]
+    want = series_check.leading_series_yield(ev, row, series)
+    got = {m.label: m.value for m in at.metric}
+    assert got["Series against fit"] == f"{want['difference']:+.1%}"
+    assert got["Over the record, net (kWh/yr)"] == f"{want['series_net_wh'] / 1000:,.0f}"
+    assert got["Weibull fit, net (kWh/yr)"] == f"{want['weibull_net_wh'] / 1000:,.0f}"
+    # physical bounds: no month or hour gives negative energy, and the year's gross energy
+    # is at most the curve's highest power for 8760 h (a curve never exceeds its top value)
+    assert min(want["monthly_wh"]) >= 0.0 and min(want["hourly_wh"]) >= 0.0
+    tur = next(t for t in ev.assessment.turbines if t.id == row["turbine_id"])
+    assert 0.0 < want["series_gross_wh"] <= max(tur.curve_power_w) * 8760.0
+    titles = [json.loads(c.proto.spec).get("title") for c in at.get("vega_lite_chart")]
+    assert "Net energy by hour of day (UTC)" in titles
+    assert any(str(t).startswith("Net energy by month over the record") for t in titles)
+    files = exports.build_report(ev, series)
+    assert b"Time series over the record" in files["html"]
+    assert b"Time series over the record" not in exports.build_report(ev)["html"]
+
+
+def test_no_series_section_for_a_climate_without_a_record():
+    at = AppTest.from_file(APP, default_timeout=120)
+    at.run()
+    at.switch_page("steps/step_results.py").run()
+    assert not at.exception, at.exception
+    assert "Time-series yield of the leading option" not in [s.value for s in at.subheader]
