@@ -128,12 +128,7 @@ def run_long_term(args, climate_document, table_text) -> int:
 def _correct(args, data, name, ref_bytes, ref_name):
     """:func:`engine.climate.site_record.record_climate` with the command's options (the
     dashboard's climate step makes the same call)."""
-    ref = site_record.ReferenceFile(
-        ref_bytes, ref_name, method=args.lt_method, lat_deg=args.lat_deg, lon_deg=args.lon_deg,
-        height_m=args.ref_height_m, roughness_m=args.ref_roughness_m,
-        speed_unit=args.ref_speed_unit,
-        period_start_ns=_time_ns(args.period_start, "--period-start"),
-        period_end_ns=_time_ns(args.period_end, "--period-end"))
+    ref = reference_file(args, ref_bytes, ref_name)
     return site_record.record_climate(
         data, name, height_m=args.height_m, base_height_m=args.base_height_m,
         position_id=args.position_id, roughness_m=args.roughness_m, n_sectors=args.sectors,
@@ -142,10 +137,19 @@ def _correct(args, data, name, ref_bytes, ref_name):
         max_excluded_share=args.max_excluded_share)
 
 
-def register_long_term_options(p) -> None:
-    """The ``--long-term`` options of ``engine climate``."""
+def reference_file(args, ref_bytes, ref_name):
+    """The ``--long-term`` reference with its options, as the engine takes it."""
+    return site_record.ReferenceFile(
+        ref_bytes, ref_name, method=args.lt_method, lat_deg=args.lat_deg, lon_deg=args.lon_deg,
+        height_m=args.ref_height_m, roughness_m=args.ref_roughness_m,
+        speed_unit=args.ref_speed_unit,
+        period_start_ns=_time_ns(args.period_start, "--period-start"),
+        period_end_ns=_time_ns(args.period_end, "--period-end"))
+
+
+def add_reference_options(g) -> None:
+    """The reference's options (``engine climate`` and ``engine report``)."""
     from engine.climate.mcp import MCP_METHODS
-    g = p.add_argument_group("long-term correction")
     g.add_argument("--long-term", default=None, dest="long_term", metavar="REFERENCE",
                    help="reference series (CSV/TSV, or NetCDF3 reanalysis with --lat-deg/"
                         "--lon-deg) to long-term correct the record against")
@@ -163,11 +167,17 @@ def register_long_term_options(p) -> None:
                    dest="ref_speed_unit", help="reference speed unit when its header does not say")
     g.add_argument("--period-start", default=None, dest="period_start",
                    help="first day of the concurrent period to use (UTC date)")
+    g.add_argument("--period-end", default=None, dest="period_end",
+                   help="day after the concurrent period to use (UTC date)")
+
+
+def register_long_term_options(p) -> None:
+    """The ``--long-term`` options of ``engine climate``."""
+    g = p.add_argument_group("long-term correction")
+    add_reference_options(g)
     g.add_argument("--base-height-m", type=finite_float, default=0.0, dest="base_height_m",
                    help="height of the logger's base above ground (its roof) [m]; a logger "
                         "file's header heights (ws_5m...) are above it (default 0)")
     g.add_argument("--position", default="", dest="position_id", metavar="POSITION_ID",
                    help="the candidate position the record was measured at (default: a "
                         "reference)")
-    g.add_argument("--period-end", default=None, dest="period_end",
-                   help="day after the concurrent period to use (UTC date)")

@@ -115,3 +115,63 @@ def record_climate(data: bytes, file_name: str, *, height_m: float = 10.0,
                         heights=hr)
     check_kept_share(lc.qc, max_excluded_share)
     return lc
+
+
+#: Largest relative difference of a rebuilt climate's frequencies, k and c from the stored
+#: one for its series to count as the climate's own [-] (text rounding of a site file).
+REBUILD_RTOL = 1e-6
+
+
+def climate_series(data: bytes, file_name: str, climate, *, base_height_m: float = 0.0,
+                   reference: ReferenceFile | None = None, speed_unit=None,
+                   utc_offset_h: float = 0.0, fit_method: str = "mle") -> tuple:
+    """The series behind a stored climate, rebuilt from its record and checked against it.
+
+    The record (and reference) is put through :func:`record_climate` with the climate's own
+    height, roughness, sectors and place; the rebuilt climate's frequencies, k and c must
+    equal the stored ones (within :data:`REBUILD_RTOL`), so the series returned is the very
+    one the climate was fitted on, corrections included: the long-term predicted series for a
+    long-term corrected climate, the valid rows at the climate's height otherwise.
+
+    Parameters
+    ----------
+    data, file_name : the record's bytes and name
+    climate : the stored :class:`engine.core.model.WindClimate`
+    base_height_m : height of the logger's base above ground [m] (a position's roof)
+    reference : the long-term reference it was corrected with (None: not corrected)
+
+    Returns
+    -------
+    (time_ns, speed_ms, direction_deg)
+
+    Raises
+    ------
+    InputError
+        ``record`` when the rebuilt climate differs (other options, another reference).
+    """
+    from engine.core.errors import InputError
+    if climate.source == "long_term" and reference is None:
+        raise InputError([("reference", "the climate is long-term corrected: give the "
+                                        "reference it was corrected with")])
+    lc = record_climate(data, file_name, height_m=float(climate.height_m) - base_height_m,
+                        base_height_m=base_height_m, position_id=climate.position_id,
+                        roughness_m=climate.roughness_m, n_sectors=climate.n_sectors,
+                        fit_method=fit_method, speed_unit=speed_unit,
+                        utc_offset_h=utc_offset_h,
+                        reference=reference if climate.source == "long_term" else None)
+    got, want = lc.climate, climate
+    worst = 0.0
+    for name in ("frequency", "weibull_k", "weibull_c_ms"):
+        a, b = np.asarray(getattr(got, name), float), np.asarray(getattr(want, name), float)
+        if a.shape != b.shape:
+            worst = np.inf
+            break
+        worst = max(worst, float(np.max(np.abs(a - b) / np.maximum(np.abs(b), 1e-9),
+                                        initial=0.0)))
+    if abs(got.height_m - want.height_m) > 1e-6 or worst > REBUILD_RTOL:
+        raise InputError([("record", f"rebuilt from this record the climate differs from the "
+                                     f"site file's (largest relative difference of frequency, "
+                                     f"k or c {worst:.2g}, height {got.height_m:g} m against "
+                                     f"{want.height_m:g} m): give the options it was built "
+                                     "with (reference, method, concurrent period)")])
+    return lc.series
