@@ -125,7 +125,8 @@ def series_yield(text: str, position_id: str, turbine_id: str, record_key: str, 
             r["monthly_wh"], f"Net energy by month over the record, {turbine_id} at "
                              f"{position_id}").to_dict(validate=False)
         r["hourly_spec"] = record_charts.series_hourly(
-            r["hourly_wh"], "Net energy by hour of day (UTC)").to_dict(validate=False)
+            r["hourly_wh"], "Net energy by hour of day (UTC)",
+            r["hourly_records"]).to_dict(validate=False)
     return r
 
 

@@ -252,9 +252,11 @@ def _show_long_term(lt: dict, name: str) -> None:
     c1.metric("Concurrent period", f"{s['overlap_days']:.0f} days", f"{s['pairs']:,} pairs",
               delta_color="off", delta_arrow="off")
     c2.metric("Correlation r", f"{s['correlation']:.2f}")
-    c3.metric("Long-term adjustment of the mean speed", f"{lt['adjustment']:+.1%}",
+    c3.metric("Long-term adjustment", f"{lt['adjustment']:+.1%}",
               f"{s['target_mean_ms']:.2f} → {s['long_term_mean_ms']:.2f} m/s",
-              delta_color="off", delta_arrow="off")
+              delta_color="off", delta_arrow="off",
+              help="Long-term mean speed at the site against the mean measured over the "
+                   "concurrent period")
     c4.metric("Its uncertainty (1σ)", f"{u['total']:.1%}")
     st.caption(f"Uncertainty parts: correlation {u['correlation_part']:.1%}, length of the "
                f"reference {u['period_part']:.1%}, short concurrent period "

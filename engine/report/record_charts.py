@@ -49,9 +49,10 @@ def concurrent_scatter(mcp_result, max_points: int = MAX_SCATTER_POINTS) -> alt.
         x="reference_ms:Q", y="target_ms:Q")
     shown = f", {df.shape[0]:,} drawn" if stride > 1 else ""
     return alt.layer(points, line).properties(
-        width=360, height=300,
-        title=f"Concurrent pairs: {mcp_result.n_pairs:,}{shown}, r = "
-              f"{mcp_result.correlation:.2f} (dashed: equal speeds)")
+        width=420, height=320,
+        title=alt.TitleParams(f"Concurrent pairs: {mcp_result.n_pairs:,}{shown}, r = "
+                              f"{mcp_result.correlation:.2f}",
+                              subtitle="dashed line: equal speeds"))
 
 
 def series_monthly(monthly_wh, title: str) -> alt.Chart:
@@ -61,12 +62,21 @@ def series_monthly(monthly_wh, title: str) -> alt.Chart:
     return monthly_energy(frame, title)
 
 
-def series_hourly(hourly_wh, title: str) -> alt.Chart:
-    """Bar chart of net energy a year per UTC hour of day over the record [Wh in, kWh shown]."""
+def series_hourly(hourly_wh, title: str, hourly_records=None) -> alt.Chart:
+    """Bar chart of net energy a year per UTC hour of day over the record [Wh in, kWh shown].
+
+    Hours without a record (``hourly_records`` 0, e.g. a 3-hourly series) are left out, not
+    drawn as no energy; the title then says how many hours hold records.
+    """
     frame = pd.DataFrame({"hour_utc": np.arange(24),
                           "energy_kwh": np.asarray(hourly_wh, float) / 1000.0})
+    if hourly_records is not None:
+        keep = np.asarray(hourly_records) > 0
+        frame = frame[keep]
+        if not keep.all():
+            title = f"{title}; {int(keep.sum())} of 24 hours hold records"
     return alt.Chart(frame).mark_bar(color=ACCENT).encode(
-        x=alt.X("hour_utc:O", title="hour of day (UTC)"),
+        x=alt.X("hour_utc:O", title="hour of day (UTC)", scale=alt.Scale(domain=list(range(24)))),
         y=alt.Y("energy_kwh:Q", title="net energy a year (kWh)"),
         tooltip=[alt.Tooltip("hour_utc:O", title="hour (UTC)"),
                  alt.Tooltip("energy_kwh:Q", format=",.0f")],

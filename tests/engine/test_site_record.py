@@ -98,3 +98,14 @@ def test_problems_are_named_by_field():
         site_record.record_climate(site, "site.csv", reference=site_record.ReferenceFile(
             ref, "ref.csv", height_m=0.0))
     assert e.value.problems[0][0] == "reference_height_m"
+
+
+def test_hour_of_day_chart_leaves_out_hours_without_records():
+    """A 3-hourly series holds records in 8 of the 24 hours: the others are not drawn as
+    zero energy, and the title says so."""
+    records = [10 if h % 3 == 0 else 0 for h in range(24)]
+    energy = [1000.0 * (h % 3 == 0) for h in range(24)]
+    spec = record_charts.series_hourly(energy, "Net energy by hour", records).to_dict()
+    rows = [v for v in spec["datasets"].values()][0]
+    assert [r["hour_utc"] for r in rows] == list(range(0, 24, 3))
+    assert "8 of 24 hours" in str(spec["title"])
