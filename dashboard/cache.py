@@ -80,21 +80,6 @@ def turbine_library() -> tuple:
 
 
 @st.cache_data(show_spinner=False, max_entries=4)
-def climate_from_upload(data: bytes, file_name: str, height_m: float, roughness_m: float,
-                        displacement_m: float, n_sectors: int, speed_unit: str | None,
-                        altitude_m: float):
-    """Measured record -> (climate dict, quality-control text, import notes), cached on the
-    file's bytes and the settings."""
-    from engine.climate import fit as climate
-    from engine.io import sitefile
-    clim, report, diag = climate.climate_from_csv_bytes(
-        data, file_name, height_m=height_m, roughness_m=roughness_m,
-        displacement_m=displacement_m, n_sectors=n_sectors, speed_unit=speed_unit,
-        altitude_m=altitude_m)
-    return sitefile.assessment_to_dict(clim), report.to_text(), list(diag.get("import_notes", ()))
-
-
-@st.cache_data(show_spinner=False, max_entries=4)
 def record_climate(data: bytes, file_name: str, settings: tuple, reference: tuple | None):
     """A measured record (and its long-term reference) -> what the climate step shows, through
     :func:`engine.climate.site_record.record_climate`, the call ``engine climate RECORD
