@@ -164,6 +164,10 @@ def _reference(form: dict) -> tuple | None:
         with c2:
             _number("Longitude (°)", form, "lon_deg", "plain", "%.4f")
     kept = ss.get("lt_file")
+    if form["lt_on"] and not kept:
+        st.warning("The long-term correction is switched on but no reference is kept: upload "
+                   "one, or the climate is built from the record alone.",
+                   icon=":material/warning:")
     if not form["lt_on"] or not kept:
         return None
     return (("data", kept["data"]), ("name", kept["name"]), ("method", form["method"]),

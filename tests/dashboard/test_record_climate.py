@@ -187,3 +187,14 @@ def test_no_series_section_for_a_climate_without_a_record():
     at.switch_page("steps/step_results.py").run()
     assert not at.exception, at.exception
     assert "Time-series yield of the leading option" not in [s.value for s in at.subheader]
+
+
+@pytest.mark.slow
+def test_summary_download_carries_the_series_section():
+    """The summary step's files are built with the climate step's series."""
+    at = _logger_at_mill_long_term()
+    at.switch_page("steps/step_summary.py").run()
+    at.button(key="make_report").click().run()
+    assert not at.exception, at.exception
+    html = at.session_state["report_files"]["html"].decode("utf-8")
+    assert "Time series over the record" in html
