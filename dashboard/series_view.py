@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import streamlit as st
 
-from . import cache, state
+from . import cache, state, widgets
 
 
 def record_series(climate):
@@ -60,7 +60,7 @@ def render(evaluation, best) -> None:
                   "are, so the difference includes that correction.")
     if r["days"] < 365.0:
         words += f" The record spans {r['days']:.0f} days, so it weights the seasons it covers."
-    st.caption(words)
+    st.caption(widgets.plain(words))  # it quotes position and turbine ids
     c1, c2 = st.columns(2)
     c1.vega_lite_chart(r["monthly_spec"], width="stretch", theme=None)
     c2.vega_lite_chart(r["hourly_spec"], width="stretch", theme=None)
