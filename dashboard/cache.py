@@ -80,18 +80,39 @@ def turbine_library() -> tuple:
 
 
 @st.cache_data(show_spinner=False, max_entries=4)
-def climate_from_upload(data: bytes, file_name: str, height_m: float, roughness_m: float,
-                        displacement_m: float, n_sectors: int, speed_unit: str | None,
-                        altitude_m: float):
-    """Measured record -> (climate dict, quality-control text, import notes), cached on the
-    file's bytes and the settings."""
-    from engine.climate import fit as climate
-    from engine.io import sitefile
-    clim, report, diag = climate.climate_from_csv_bytes(
-        data, file_name, height_m=height_m, roughness_m=roughness_m,
-        displacement_m=displacement_m, n_sectors=n_sectors, speed_unit=speed_unit,
-        altitude_m=altitude_m)
-    return sitefile.assessment_to_dict(clim), report.to_text(), list(diag.get("import_notes", ()))
+def record_climate(data: bytes, file_name: str, settings: tuple, reference: tuple | None):
+    """A measured record (and its long-term reference) -> what the climate step shows, through
+    :func:`engine.climate.site_record.record_climate`, the call ``engine climate RECORD
+    --long-term REFERENCE`` makes. ``settings`` and ``reference`` are tuples of that function's
+    and :class:`engine.climate.site_record.ReferenceFile`'s keyword arguments (hashable),
+    cached on the files' bytes and them."""
+    from dashboard import record_view
+    from engine.climate import site_record
+    ref = site_record.ReferenceFile(**dict(reference)) if reference else None
+    lc = site_record.record_climate(data, file_name, reference=ref, **dict(settings))
+    return record_view.shown(lc)
+
+
+@st.cache_data(show_spinner=False, max_entries=8)
+def series_yield(text: str, position_id: str, turbine_id: str, record_key: str, _record):
+    """The leading option's series and Weibull yields with its monthly and hour-of-day chart
+    specs (:func:`engine.report.series_check.leading_series_yield`), or None; cached on the
+    site-file text, the option and the record's key (``_record`` itself is not hashed)."""
+    from altair.utils.schemapi import debug_mode
+
+    from engine.report import record_charts, series_check
+    best = {"position_id": position_id, "turbine_id": turbine_id}
+    r = series_check.leading_series_yield(evaluate_text(text), best, _record)
+    if r is None:
+        return None
+    with debug_mode(False):
+        r["monthly_spec"] = record_charts.series_monthly(
+            r["monthly_wh"], f"Net energy by month over the record, {turbine_id} at "
+                             f"{position_id}").to_dict(validate=False)
+        r["hourly_spec"] = record_charts.series_hourly(
+            r["hourly_wh"], "Net energy by hour of day (UTC)",
+            r["hourly_records"]).to_dict(validate=False)
+    return r
 
 
 RANKED_CHARTS = ("plan", "bars")

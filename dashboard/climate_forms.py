@@ -4,7 +4,6 @@ from __future__ import annotations
 import copy
 import json
 
-import pandas as pd
 import streamlit as st
 
 from engine.report import charts
@@ -169,51 +168,8 @@ def _mean_form() -> None:
 
 
 def _record_form() -> None:
-    ss = st.session_state
-    st.caption("A CSV or TSV of time, speed and direction (gust, temperature, pressure "
-               "optional), up to 100 MiB. Units are read from the headers; quality control "
-               "runs before the fit.")
-    up = st.file_uploader("Measured record", type=["csv", "txt", "tsv"], key="record_upload")
-    form = ss.setdefault("record_form", {"height_m": 10.0, "roughness_m": RECORD_ROUGHNESS_M,
-                                         "n_sectors": 12})
-    L = state.unit_of("length")
-    c1, c2, c3 = st.columns(3)
-    h_key, z_key = f"rf|h|{L}", f"rf|z0|{L}"
-    if h_key not in ss:
-        ss[h_key] = float(units.length_from_si(form["height_m"], L))
-    if z_key not in ss:
-        ss[z_key] = float(units.length_from_si(form["roughness_m"], L))
-    if "rf|n" not in ss:
-        ss["rf|n"] = form["n_sectors"]
-    h = c1.number_input(f"Sensor height ({L})", key=h_key, format="%.1f")
-    z = c2.number_input(f"Roughness around the sensor ({L})", key=z_key, format="%.3f")
-    n = c3.selectbox("Sectors", [8, 12, 16, 36], key="rf|n")
-    form.update(height_m=units.length_to_si(h or 0.0, L),
-                roughness_m=units.length_to_si(z or 0.0, L), n_sectors=n)
-    unit = st.selectbox("Speed unit when the header does not say",
-                        ["from the header"] + list(units.SPEED_UNITS), key="rf|unit")
-    if up is not None and st.button("Build the climate from this record", key="build_record"):
-        try:
-            with st.spinner("Reading, checking and fitting the record…"):
-                clim, qc_text, notes = cache.climate_from_upload(
-                    up.getvalue(), up.name, form["height_m"], form["roughness_m"], 0.0,
-                    int(n), None if unit == "from the header" else unit,
-                    float(state.get_path("site.altitude_m") or 0.0))
-            state.set_path("climate", clim)
-            ss["record_result"] = {"qc": qc_text, "notes": notes, "file": up.name}
-            state.set_local_problems("climate", [])
-            state.clear_widgets()
-            state.validate()
-        except InputError as e:
-            state.set_local_problems("climate", e.problems)
-    for where, msg in ss["local_problems"].get("climate", []):
-        st.error(f"**{widgets.plain(where)}:** {widgets.plain(msg)}", icon=":material/error:")
-    res = ss.get("record_result")
-    if res:
-        st.markdown(f"**Quality control of {widgets.plain(res['file'])}**")
-        st.code(res["qc"], language=None)
-        for note in res["notes"]:
-            st.info(note, icon=":material/info:")
+    from . import record_form
+    record_form.render()
 
 
 def summary() -> None:

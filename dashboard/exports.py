@@ -50,12 +50,13 @@ def report_builders():
     return None
 
 
-def build_report(evaluation) -> dict:
-    """HTML and PDF bytes of the siting summary, with any problem found on the way."""
+def build_report(evaluation, record=None) -> dict:
+    """HTML and PDF bytes of the siting summary, with any problem found on the way; ``record``
+    (the climate's series, as ``engine report --record`` reads it) adds the series section."""
     report = report_builders()
     out = {"sha": content_sha(evaluation.assessment), "html": None, "pdf": None, "problems": []}
     try:
-        summary = report.build_summary(evaluation)
+        summary = report.build_summary(evaluation, record=record)
         out["html"] = report.render_html(summary).encode("utf-8")
         out["pdf"] = report.render_pdf(summary)
     except InputError as e:

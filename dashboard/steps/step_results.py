@@ -8,7 +8,7 @@ marks and the banner stay true.
 import numpy as np
 import streamlit as st
 
-from dashboard import cache, results_view, state, widgets
+from dashboard import cache, results_view, series_view, state, widgets
 from engine.chain.verdict import headline
 from engine.core import units
 
@@ -229,6 +229,7 @@ def results_body() -> None:
     _all_rows(text, ev.table, S, L)
     dp, dt = _detail(a, ev.table, text, best, S, L)
     _chart(text, dp, dt, S, L)
+    series_view.render(ev, best)
     state.flush_autosave()
     if not ss.get("full_run", True) and state.status_signature() != ss.get("drawn_status"):
         st.rerun(scope="app")  # the step marks and the banner follow the new state

@@ -3,7 +3,7 @@ import json
 
 import streamlit as st
 
-from dashboard import exports, results_view, state, widgets
+from dashboard import exports, results_view, series_view, state, widgets
 from engine.chain.verdict import headline_for
 
 ss = st.session_state
@@ -41,7 +41,7 @@ if report:
     c1, c2 = st.columns(2)
     if st.button("Prepare the siting summary (HTML and PDF)", key="make_report"):
         with st.spinner("Drawing the summary…"):
-            ss["report_files"] = exports.build_report(ev)
+            ss["report_files"] = exports.build_report(ev, series_view.record_series(a.climate))
     files = ss.get("report_files")
     if files and files.get("sha") == exports.content_sha(a):
         if files.get("html") is not None:

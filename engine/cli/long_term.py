@@ -13,7 +13,7 @@ from pathlib import Path
 import pandas as pd
 
 from engine.cli.common import finite_float, write_stdout
-from engine.climate import long_term
+from engine.climate import site_record
 from engine.core.errors import InputError
 from engine.io import records as timeseries
 from engine.io.safe_files import read_bounded
@@ -25,6 +25,7 @@ OPTION_NAMES = {"height_m": "--height-m", "roughness_m": "--roughness-m",
                 "lat_deg": "--lat-deg", "lon_deg": "--lon-deg",
                 "reference_height_m": "--ref-height-m",
                 "reference_roughness_m": "--ref-roughness-m", "speed_unit": "--speed-unit",
+                "base_height_m": "--base-height-m", "position_id": "--position",
                 "ref_speed_unit": "--ref-speed-unit", "utc_offset_h": "--utc-offset-h"}
 
 
@@ -44,11 +45,25 @@ def _time_ns(text, where):
         raise InputError([(where, f"must be a date such as 2025-03-01, got {text!r}")]) from None
 
 
-def long_term_document(result, base: dict) -> dict:
-    """The climate document with the correction beside it."""
+def long_term_document(result, base: dict, logger=None) -> dict:
+    """The climate document with the correction beside it.
+
+    With ``logger`` (the :class:`engine.climate.logger.LoggerClimate` the correction belongs
+    to) the document also holds ``climate``, the climate as the site file stores it (the
+    dashboard's climate step puts the same one in its site file), and ``logger``: logged
+    heights, the averaging interval and its factor on mean V³ per sector, the notes. The
+    ``sectors`` table is the fit of the long-term series before the averaging factor.
+    """
     from engine.chain.documents import jsonable
     m = result.mcp
     doc = dict(base)
+    if logger is not None:
+        from engine.io import sitefile
+        doc["climate"] = jsonable(sitefile.assessment_to_dict(logger.climate))
+        doc["logger"] = {"heights_m": [float(z) for z in logger.heights_m],
+                         "averaging_s": float(logger.climate.averaging_s),
+                         "averaging_factor": [float(f) for f in logger.averaging_factor],
+                         "notes": list(logger.notes)}
     lt = m.concurrent_stats()
     lt["sectors"] = [{k: jsonable(v) for k, v in row.items()}
                      for row in m.sectors.to_dict("records")]
@@ -94,37 +109,47 @@ def run_long_term(args, climate_document, table_text) -> int:
     if problems:
         raise InputError(problems)
     try:
-        target = timeseries.read_record(got[0], path.name, speed_unit=args.speed_unit,
-                                        utc_offset_h=args.utc_offset_h)
-        result = _correct(args, target, got[1], ref_path.name)
+        logger = _correct(args, got[0], path.name, got[1], ref_path.name)
     except InputError as e:
         raise InputError([(_where(w, ref_path.name, path.name), m)
                           for w, m in e.problems]) from None
+    result = logger.long_term
     if args.format == "json":
-        doc = long_term_document(result, climate_document(result.summary, result.target_qc))
+        doc = long_term_document(result, climate_document(result.summary, result.target_qc),
+                                 logger)
         write_stdout(json.dumps(doc, indent=2, ensure_ascii=False) + "\n")
     else:
         write_stdout(table_text(result.summary, result.target_qc) + "\n\n" + _text(result)
-                     + "\n")
+                     + "".join(f"\nnote: {n}" for n in logger.notes
+                               if n not in result.mcp.warnings) + "\n")
     return 0
 
 
-def _correct(args, target, ref_bytes, ref_name):
-    """:func:`engine.climate.long_term.long_term_correction` with the command's options."""
-    return long_term.long_term_correction(
-        target, ref_bytes, ref_name, height_m=args.height_m, roughness_m=args.roughness_m,
-        method=args.lt_method, n_sectors=args.sectors, fit_method=args.method,
-        lat_deg=args.lat_deg, lon_deg=args.lon_deg, reference_height_m=args.ref_height_m,
-        reference_roughness_m=args.ref_roughness_m, ref_speed_unit=args.ref_speed_unit,
-        utc_offset_h=args.utc_offset_h, period_start_ns=_time_ns(args.period_start,
-                                                                 "--period-start"),
+def _correct(args, data, name, ref_bytes, ref_name):
+    """:func:`engine.climate.site_record.record_climate` with the command's options (the
+    dashboard's climate step makes the same call)."""
+    ref = reference_file(args, ref_bytes, ref_name)
+    return site_record.record_climate(
+        data, name, height_m=args.height_m, base_height_m=args.base_height_m,
+        position_id=args.position_id, roughness_m=args.roughness_m, n_sectors=args.sectors,
+        fit_method=args.method, speed_unit=args.speed_unit, utc_offset_h=args.utc_offset_h,
+        altitude_m=args.altitude_m, reference=ref,
+        max_excluded_share=args.max_excluded_share)
+
+
+def reference_file(args, ref_bytes, ref_name):
+    """The ``--long-term`` reference with its options, as the engine takes it."""
+    return site_record.ReferenceFile(
+        ref_bytes, ref_name, method=args.lt_method, lat_deg=args.lat_deg, lon_deg=args.lon_deg,
+        height_m=args.ref_height_m, roughness_m=args.ref_roughness_m,
+        speed_unit=args.ref_speed_unit,
+        period_start_ns=_time_ns(args.period_start, "--period-start"),
         period_end_ns=_time_ns(args.period_end, "--period-end"))
 
 
-def register_long_term_options(p) -> None:
-    """The ``--long-term`` options of ``engine climate``."""
+def add_reference_options(g) -> None:
+    """The reference's options (``engine climate`` and ``engine report``)."""
     from engine.climate.mcp import MCP_METHODS
-    g = p.add_argument_group("long-term correction")
     g.add_argument("--long-term", default=None, dest="long_term", metavar="REFERENCE",
                    help="reference series (CSV/TSV, or NetCDF3 reanalysis with --lat-deg/"
                         "--lon-deg) to long-term correct the record against")
@@ -144,3 +169,15 @@ def register_long_term_options(p) -> None:
                    help="first day of the concurrent period to use (UTC date)")
     g.add_argument("--period-end", default=None, dest="period_end",
                    help="day after the concurrent period to use (UTC date)")
+
+
+def register_long_term_options(p) -> None:
+    """The ``--long-term`` options of ``engine climate``."""
+    g = p.add_argument_group("long-term correction")
+    add_reference_options(g)
+    g.add_argument("--base-height-m", type=finite_float, default=0.0, dest="base_height_m",
+                   help="height of the logger's base above ground (its roof) [m]; a logger "
+                        "file's header heights (ws_5m...) are above it (default 0)")
+    g.add_argument("--position", default="", dest="position_id", metavar="POSITION_ID",
+                   help="the candidate position the record was measured at (default: a "
+                        "reference)")

@@ -4,8 +4,11 @@ The output format follows the file name's suffix (``.html``/``.htm`` or ``.pdf``
 ``--exports DIR`` also writes the data files (site file, rank JSON, ranking CSV, per-sector
 effective climate CSV). ``--record FILE`` hands the climate's own record (the file whose SHA-256
 the site file's climate names) to the summary, which then shows the leading option's
-time-series yield beside its Weibull yield. ``--generated-at`` fixes the time stamp so a re-run reproduces the
-file byte for byte; without it ``SOURCE_DATE_EPOCH`` is used when set, else the current time.
+time-series yield beside its Weibull yield. For a long-term corrected, averaging-corrected or
+logger-height climate the corrected series is rebuilt from the record (and ``--long-term
+REFERENCE`` with its options) through the call that built the climate, and used only when the
+rebuilt climate equals the site file's. ``--generated-at`` fixes the time stamp so a re-run
+reproduces the file byte for byte; without it ``SOURCE_DATE_EPOCH`` is used when set, else the current time.
 """
 from __future__ import annotations
 
@@ -65,15 +68,56 @@ def _check_args(args) -> tuple[Path, str, object]:
     return out, kind, stamp
 
 
-def _record_series(path_text: str, climate):
-    """(time_ns, speed_ms, direction_deg) of the valid rows of the climate's own record."""
+def _corrected(climate, data: bytes) -> bool:
+    """Whether the climate's series differs from the record's own valid rows (long-term or
+    averaging corrected, or a logger file's chosen height)."""
+    from engine.climate.averaging import LONG_AVERAGING_S
+    from engine.io import record_columns
+    return (climate.source == "long_term" or climate.averaging_s >= LONG_AVERAGING_S
+            or len(record_columns.height_columns(record_columns.header_line(data))) > 1)
+
+
+def _rebuilt_series(args, data: bytes, name: str, assessment):
+    """The corrected series, rebuilt with the same call that built the climate and checked
+    against it (:func:`engine.climate.site_record.climate_series`)."""
+    from engine.cli.long_term import reference_file
+    from engine.climate import site_record
+    from engine.io import records
+    from engine.io.safe_files import read_bounded
+    c = assessment.climate
+    ref = None
+    if getattr(args, "long_term", None):
+        ref_bytes = read_bounded(args.long_term, records.MAX_RECORD_BYTES,
+                                 "a CSV/TSV record or NetCDF file", "--long-term")
+        ref = reference_file(args, ref_bytes, Path(args.long_term).name)
+    elif c.source == "long_term":
+        raise InputError([("--record", "is the record of a long-term corrected climate: give "
+                                       "its reference with --long-term REFERENCE (and the "
+                                       "options it was corrected with) so the corrected series "
+                                       "is rebuilt and checked, or leave --record out")])
+    base = 0.0
+    if c.measured_at == "position":
+        base = next(assessment.base_height_m(p) for p in assessment.positions
+                    if p.id == c.position_id)
+    where = {"record": "--record", "reference": "--long-term", "period": "--period-start"}
+    try:
+        return site_record.climate_series(data, name, c, base_height_m=base, reference=ref)
+    except InputError as e:
+        raise InputError([(where.get(w, w), m) for w, m in e.problems]) from None
+
+
+def _record_series(args, assessment):
+    """(time_ns, speed_ms, direction_deg) of the climate's own record: its valid rows, or for
+    a corrected climate the corrected series rebuilt and checked."""
     import hashlib
 
     from engine.climate import qc
     from engine.climate.weibull import mixture_mean_ms
-    from engine.io import record_columns, records
+    from engine.io import records
     from engine.io.safe_files import read_bounded
 
+    climate = assessment.climate
+    path_text = args.record
     data = read_bounded(path_text, records.MAX_RECORD_BYTES, "a CSV/TSV record", "--record")
     if not climate.record_sha256:
         raise InputError([("--record", "the site file's climate names no record "
@@ -83,11 +127,8 @@ def _record_series(path_text: str, climate):
                                        f"({climate.record_file or 'unnamed'}, SHA-256 "
                                        f"{climate.record_sha256[:16]}...), got a file whose "
                                        "SHA-256 differs; give that file")])
-    if climate.source == "long_term" or climate.averaging_s >= 3000.0 \
-            or len(record_columns.height_columns(record_columns.header_line(data))) > 1:
-        raise InputError([("--record", "is a long-term corrected, averaging-corrected or "
-                                       "multi-height logger climate's record; its series is not "
-                                       "rebuilt from the command line, leave --record out")])
+    if _corrected(climate, data):
+        return _rebuilt_series(args, data, Path(path_text).name, assessment)
     rec = records.read_record(data, Path(path_text).name)
     if not rec.has("direction"):
         raise InputError([("--record", "needs a direction column for the series yield")])
@@ -111,8 +152,7 @@ def cmd_report(args) -> int:
     out, kind, stamp = _check_args(args)
     folder = _exports_folder(args.exports) if args.exports else None
     ev = pipeline.evaluate(sitefile.load(args.site))
-    record = (_record_series(args.record, ev.assessment.climate)
-              if getattr(args, "record", "") else None)
+    record = _record_series(args, ev.assessment) if getattr(args, "record", "") else None
     summary = report.build_summary(ev, assessor=args.assessor or "", notes=args.notes or "",
                                    generated_at=stamp, record=record)
     data = (report.render_html(summary).encode("utf-8") if kind == "html"
@@ -138,6 +178,10 @@ def register_report(sub):
                    help="the climate's own record (CSV/TSV, the file the site file's climate "
                         "names by SHA-256): shows the leading option's time-series yield "
                         "beside its Weibull yield")
+    from engine.cli.long_term import add_reference_options
+    add_reference_options(p.add_argument_group(
+        "reference of a long-term corrected climate (with --record: the corrected series is "
+        "rebuilt with these and checked against the site file's climate)"))
     p.add_argument("--generated-at", default="",
                    help="time stamp, ISO 8601 (e.g. 2026-05-01T09:30:00Z); fixes the output")
     p.add_argument("--exports", default="",

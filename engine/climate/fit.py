@@ -435,7 +435,7 @@ def climate_from_record(record, report=None, *, height_m: float,
 MAX_EXCLUDED_SHARE = 0.5
 
 
-def _check_kept_share(report, max_excluded_share: float) -> None:
+def check_kept_share(report, max_excluded_share: float) -> None:
     """Refuse a record that lost more than ``max_excluded_share`` of its rows, naming why."""
     if report.n_rows == 0 or report.n_excluded <= max_excluded_share * report.n_rows:
         return
@@ -482,7 +482,7 @@ def climate_from_csv_bytes(data: bytes, file_name: str = "record.csv", *, height
                                     utc_offset_h=utc_offset_h, max_bytes=max_bytes,
                                     direction_unit=direction_unit, day_first=day_first)
     report = qc.run_qc(record, qc_settings)
-    _check_kept_share(report, max_excluded_share)
+    check_kept_share(report, max_excluded_share)
     summary = climate_from_record(record, report, height_m=height_m, roughness_m=roughness_m,
                                   displacement_m=displacement_m, n_sectors=n_sectors,
                                   method=method, altitude_m=altitude_m, qc_settings=qc_settings)

@@ -57,7 +57,8 @@ def logger_climate(data: bytes, file_name: str, *, base_height_m: float = 0.0,
                    n_sectors: int = 12, fit_method: str = "mle", speed_unit=None,
                    utc_offset_h: float = 0.0, reference=None,
                    distance_constant_m: float = measured.DEFAULT_DISTANCE_CONSTANT_M,
-                   qc_settings=None) -> LoggerClimate:
+                   qc_settings=None, altitude_m: float = 0.0,
+                   heights=None) -> LoggerClimate:
     """Climate of a (multi-height) logger record.
 
     Parameters
@@ -71,13 +72,16 @@ def logger_climate(data: bytes, file_name: str, *, base_height_m: float = 0.0,
     reference : None, or a dict of :func:`engine.climate.long_term.long_term_correction`
         keyword arguments with ``reference_data`` and ``reference_name``
     distance_constant_m : the cup anemometer's distance constant [m] (0 for a sonic)
+    altitude_m : site altitude for ISA pressure when the record has no pressure [m]
+    heights : an already read :class:`engine.io.record_columns.HeightRecord` (None: read
+        ``data``), e.g. a single-height record (:func:`engine.climate.site_record.record_climate`)
     """
     p = Problems()
     check_range(p, "base_height_m", base_height_m, 0, 300, "m")
     check_range(p, "distance_constant_m", distance_constant_m, 0, 20, "m")
     p.raise_if_any()
-    hr = record_columns.read_heights(data, file_name, speed_unit=speed_unit,
-                                     utc_offset_h=utc_offset_h)
+    hr = heights if heights is not None else record_columns.read_heights(
+        data, file_name, speed_unit=speed_unit, utc_offset_h=utc_offset_h)
     i = int(height_index) % len(hr.heights_m)
     rec, z = hr.records[i], float(base_height_m + hr.heights_m[i])
     report = qc.run_qc(rec, qc_settings)
@@ -91,7 +95,8 @@ def logger_climate(data: bytes, file_name: str, *, base_height_m: float = 0.0,
         notes += list(lt.mcp.warnings)
     else:
         summary = climate_from_record(rec, report, height_m=z, roughness_m=roughness_m,
-                                      n_sectors=n_sectors, method=fit_method)
+                                      n_sectors=n_sectors, method=fit_method,
+                                      altitude_m=altitude_m, qc_settings=qc_settings)
         ok = report.valid
         series = (rec.time_ns[ok], rec.si("speed")[ok], rec.si("direction")[ok])
     ok = report.valid

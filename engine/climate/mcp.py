@@ -21,7 +21,7 @@ measure-correlate-predict algorithms", J. Wind Eng. Ind. Aerodyn. 93:243-264.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
@@ -58,6 +58,9 @@ class MCPResult:
     long_term_mean_ms : mean of the predicted long-term series [m/s]
     time_ns, speed_ms, direction_deg : the predicted long-term series at the target
     warnings : readable warnings (short overlap, weak correlation, thin sectors)
+    pair_reference_ms, pair_target_ms : (n_pairs,) the concurrent pairs the lines were fitted
+        on: reference speed and the target's mean over the same interval [m/s]
+    pair_sector : (n_pairs,) reference sector index of each pair
     """
 
     method: str
@@ -73,6 +76,17 @@ class MCPResult:
     speed_ms: np.ndarray
     direction_deg: np.ndarray
     warnings: tuple = ()
+    pair_reference_ms: np.ndarray = field(default_factory=lambda: np.empty(0))
+    pair_target_ms: np.ndarray = field(default_factory=lambda: np.empty(0))
+    pair_sector: np.ndarray = field(default_factory=lambda: np.empty(0, np.intp))
+
+    @property
+    def adjustment(self) -> float:
+        """Long-term adjustment of the mean speed: long-term mean / concurrent target mean − 1
+        [-] (NaN when the concurrent mean is 0)."""
+        if not self.target_mean_ms > 0:
+            return float("nan")
+        return float(self.long_term_mean_ms / self.target_mean_ms - 1.0)
 
     def concurrent_stats(self) -> dict:
         """JSON-ready concurrent-period statistics."""
@@ -252,7 +266,8 @@ def mcp_long_term(target_time_ns, target_speed_ms, target_direction_deg, ref_tim
                      reference_mean_ms=float(x.mean()),
                      predicted_concurrent_mean_ms=float(pred_conc.mean()),
                      long_term_mean_ms=float(pred.mean()), time_ns=rt, speed_ms=pred,
-                     direction_deg=pred_d, warnings=tuple(warnings))
+                     direction_deg=pred_d, warnings=tuple(warnings), pair_reference_ms=x,
+                     pair_target_ms=y, pair_sector=sec)
 
 
 def long_term_climate(target_record, target_report, ref_record, ref_report, *,

@@ -40,7 +40,10 @@ def leading_series_yield(evaluation, best, record):
     -------
     None, or dict: series_gross_wh, series_net_wh, weibull_gross_wh, weibull_net_wh [Wh/year],
     difference (series / Weibull − 1 on the gross) [-], records, days (the span with the last
-    record's interval) [d]
+    record's interval) [d], monthly_wh (12,) and hourly_wh (24,) net energy per calendar month
+    and per UTC hour of day [Wh] (:class:`engine.energy.series_yield.SeriesYield`),
+    hourly_records (24,) records in each UTC hour of day (0: the hour holds no record and
+    its energy is 0 for want of data, as with a 3-hourly series)
     """
     if record is None or best is None or not evaluation.assessment.climate.record_file:
         return None  # a climate without a record of its own has nothing to compare with
@@ -58,7 +61,11 @@ def leading_series_yield(evaluation, best, record):
     span = (float(ts[-1] - ts[0]) + step) / NS_PER_DAY  # the last record's interval counted
     return {"series_gross_wh": float(out.gross_wh[p, k]),
             "series_net_wh": float(out.net_wh[p, k]), "weibull_gross_wh": wg, "weibull_net_wh": wg * net,
-            "difference": float(out.difference[p, k]), "records": out.records, "days": span}
+            "difference": float(out.difference[p, k]), "records": out.records, "days": span,
+            "monthly_wh": [float(x) for x in out.monthly_wh[p, k]],
+            "hourly_wh": [float(x) for x in out.hourly_wh[p, k]],
+            "hourly_records": [int(x) for x in np.bincount(
+                (ts // 3_600_000_000_000) % 24, minlength=24)]}
 
 
 def series_blocks(evaluation, best, record) -> tuple:
