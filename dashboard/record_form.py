@@ -29,6 +29,10 @@ FORM_DEFAULTS = {"height_m": 10.0, "roughness_m": RECORD_ROUGHNESS_M, "n_sectors
                  "lat_deg": None, "lon_deg": None, "start": None, "end": None}
 
 
+#: The engine's line names, as the table shows them.
+LINE_WORDS = {"own": "this sector's own line",
+              "all-sector": "all sectors' line (too few pairs in this sector)"}
+
 def _form() -> dict:
     form = st.session_state.setdefault("record_form", dict(FORM_DEFAULTS))
     for k, v in FORM_DEFAULTS.items():
@@ -267,7 +271,10 @@ def _show_long_term(lt: dict, name: str) -> None:
                f"{u['season_part']:.1%}; year-to-year variability "
                f"{u['interannual_variability']:.1%} ({widgets.plain(u['interannual_from'])}).")
     st.vega_lite_chart(lt["scatter"], width="content", theme=None)
-    st.dataframe(lt["sectors"], hide_index=True, column_config={
+    table = lt["sectors"].assign(line=lt["sectors"]["line"].map(LINE_WORDS).fillna(
+        lt["sectors"]["line"]))
+    st.dataframe(table, hide_index=True, column_config={
+        "line": st.column_config.TextColumn("line used"),
         "sector_deg": st.column_config.NumberColumn("sector (°)", format="%.0f"),
         "slope": st.column_config.NumberColumn(format="%.3f"),
         "offset_ms": st.column_config.NumberColumn("offset (m/s)", format="%.3f"),

@@ -23,7 +23,7 @@ from scipy.signal import lfilter
 
 OUT_DIR = Path(__file__).with_name("records")
 SEED = 20261203
-START = pd.Timestamp("2024-01-01", tz="UTC")
+START = pd.Timestamp("2023-01-01", tz="UTC")  # the logger ends before today: no row is "in the future"
 YEARS = 3
 LOGGER_DAYS = 182
 
