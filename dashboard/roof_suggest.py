@@ -124,6 +124,8 @@ def section(draft: dict, edit: bool, L: str) -> None:
         return
     if not got["rows"]:
         return
+    st.caption(f"Suggested on **{widgets.plain(got['building'])}**: tick the ones to add; "
+               "change a name, a place or a mast, or delete a row, as in any table.")
     got["rows"] = widgets.table(KEY, got["rows"], _columns(L))
     if st.button("Add the ticked positions to the site", key="suggest_accept"):
         _accept(draft, got)

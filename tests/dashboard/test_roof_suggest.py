@@ -49,9 +49,12 @@ def _text(at, kind) -> str:
 
 def test_suggestions_are_the_engines_and_accepting_adds_positions():
     """The table holds the engine's candidates; ticking two and accepting appends them as
-    roof positions on that building, the demo's positions kept as they were."""
+    roof positions on that building, the positions already entered (one just edited) kept
+    as they were."""
     at = _layout()
+    _edit(at, "positions", {0: {"mast height (m)": 9.5}})
     before = copy.deepcopy(at.session_state["draft"]["positions"])
+    assert before[0]["mast_height_m"] == 9.5
     _suggest(at, "mill")
     expect = rs.suggest_roof_positions(sitefile.load(DEMO), "mill")
     got = at.session_state["roof_suggestions"]["rows"]
@@ -122,7 +125,7 @@ def test_names_never_collide_with_positions_already_entered():
     ids = [p["id"] for p in at.session_state["draft"]["positions"]]
     assert ids.count("mill-centre") == 1 and "mill-centre-2" in ids
     assert "mill-centre as mill-centre-2" in _text(at, "success")
-    _suggest(at, "mill")  # the first candidate's name is taken now by nothing; s-names free
+    _suggest(at, "mill")  # again: no suggested name is one the positions already use
     again = [r["id"] for r in at.session_state["roof_suggestions"]["rows"]]
     assert not set(again) & set(ids)
     assert not at.session_state["problems"]
