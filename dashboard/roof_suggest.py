@@ -29,7 +29,8 @@ def _columns(L: str) -> list:
         ("mast_height_m", f"mast height ({L})", "length", num(
             format="%.1f", help="Suggested: the shortest mast above the roof that keeps the "
                                 "largest chosen rotor clear of the roof's turbulence zone, at "
-                                "the suggested point (not worked out again when moved)")),
+                                "the suggested point (worked out again for a moved point by the button "
+                                "below the table)")),
         ("min_clear_mast_m", f"hub clears the zone from ({L})", "length",
          num(format="%.1f", disabled=True)),
         ("edge_distance_m", f"to the nearest edge ({L})", "length",
@@ -54,12 +55,44 @@ def _suggest(assessment, building: str, spacing_m, setback_m) -> None:
     state.clear_widgets()  # the suggestion table starts again from the new rows
 
 
-def _accept(draft: dict, got: dict) -> None:
+def _measured(assessment, got: dict, rows: list):
+    """The engine's masts and edge distances at the rows' points, or None after showing
+    its messages (a point off the roof, a cell left empty) by the rows' names."""
+    ss = st.session_state
+    try:
+        return rs.measure_roof_points(assessment, got["building"],
+                                      [_number(r.get("x_m")) for r in rows],
+                                      [_number(r.get("y_m")) for r in rows])
+    except InputError as e:
+        names = {f"point {k + 1}": str(r.get("id") or f"row {k + 1}") for k, r in enumerate(rows)}
+        ss["roof_suggest_errors"] = [f"{names.get(w, w)}: {m}" for w, m in e.problems]
+        return None
+
+
+def _number(v) -> float:
+    return float(v) if isinstance(v, (int, float)) else float("nan")
+
+
+def _remeasure(assessment, got: dict) -> None:
+    """Masts and edge distances worked out again where the rows now stand."""
+    found = _measured(assessment, got, got["rows"])
+    if found is None:
+        return
+    for k, r in enumerate(got["rows"]):
+        for c in ("mast_height_m", "min_clear_mast_m", "edge_distance_m"):
+            r[c] = float(found[c][k])
+    st.session_state["roof_suggest_note"] = "Masts worked out again at the points shown."
+    state.clear_widgets()
+
+
+def _accept(draft: dict, got: dict, assessment) -> None:
     """Append the ticked rows to the draft's positions; the rest stay suggested."""
     ss = st.session_state
     ticked = [r for r in got["rows"] if r.get("accept")]
     if not ticked:
         ss["roof_suggest_note"] = "Tick at least one suggestion to add it."
+        return
+    if _measured(assessment, got, ticked) is None:  # each must stand on the roof
         return
     taken = [str(p.get("id")) for p in draft["positions"] if p.get("id")]
     names = rs.free_ids([str(r.get("id") or f"{got['building']}-s") for r in ticked], taken)
@@ -114,6 +147,8 @@ def section(draft: dict, edit: bool, L: str) -> None:
     note = ss.pop("roof_suggest_note", "")
     if note:
         st.success(note, icon=":material/check_circle:")
+    for msg in ss.pop("roof_suggest_errors", []):
+        st.error(f"**Suggestions:** {widgets.plain(msg)}", icon=":material/error:")
     if not got:
         return
     for msg in got["error"]:
@@ -127,8 +162,13 @@ def section(draft: dict, edit: bool, L: str) -> None:
     st.caption(f"Suggested on **{widgets.plain(got['building'])}**: tick the ones to add; "
                "change a name, a place or a mast, or delete a row, as in any table.")
     got["rows"] = widgets.table(KEY, got["rows"], _columns(L))
-    if st.button("Add the ticked positions to the site", key="suggest_accept"):
-        _accept(draft, got)
+    c1, c2 = st.columns(2)
+    if c1.button("Add the ticked positions to the site", key="suggest_accept"):
+        _accept(draft, got, a)
+        st.rerun()
+    if c2.button("Work out the masts again where the points now stand",
+                 key="suggest_remeasure"):
+        _remeasure(a, got)
         st.rerun()
     _plan(a, got, L)
 

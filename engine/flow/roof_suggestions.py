@@ -17,7 +17,7 @@ import math
 import numpy as np
 import pandas as pd
 
-from engine.core.errors import InputError
+from engine.core.errors import InputError, Problems
 from engine.core.model import Position
 from engine.flow.effective import effective_climate
 from engine.flow.roof_candidates import DEFAULT_SETBACK_M, roof_candidate_points
@@ -146,14 +146,9 @@ def suggest_roof_positions(assessment, building_id: str, *, spacing_m=DEFAULT_SP
     pts = np.round(roof_candidate_points(b, spacing_m, setback_m), 3) + 0.0
     taken = {p.id for p in assessment.positions} | set(map(str, taken_ids))
     ids = free_ids([f"{b.id}-s{k + 1}" for k in range(len(pts))], taken)
-    extra = tuple(Position(id=i, kind="roof", x_m=float(x), y_m=float(y), mast_height_m=1.0,
-                           building_id=b.id) for i, (x, y) in zip(ids, pts))
-    radius = max((t.rotor_radius_m for t in assessment.turbines), default=0.0)
-    if air_density_kgm3 is None:
-        from engine.climate import air
-        air_density_kgm3 = air.site_air_density_kgm3(assessment.site)
-    need, mast = _clear_mast_m(assessment, extra, float(radius), float(air_density_kgm3),
-                               mast_step_m)
+    got = measure_roof_points(assessment, b.id, pts[:, 0], pts[:, 1],
+                              air_density_kgm3=air_density_kgm3, mast_step_m=mast_step_m)
+    need, mast, radius = got["min_clear_mast_m"], got["mast_height_m"], got["rotor_radius_m"]
     edge = _edge_distance_m(b, pts)
     why = np.empty(len(pts), dtype=object)
     why[0] = f"roof centre, {edge[0]:.1f} m from the nearest edge"
@@ -163,5 +158,58 @@ def suggest_roof_positions(assessment, building_id: str, *, spacing_m=DEFAULT_SP
                    "is harder to reach and service safely)")
     return pd.DataFrame({"id": np.asarray(ids, object), "x_m": pts[:, 0], "y_m": pts[:, 1],
                          "mast_height_m": mast, "min_clear_mast_m": need,
-                         "rotor_radius_m": np.full(len(pts), float(radius)),
+                         "rotor_radius_m": radius,
                          "edge_distance_m": edge, "why": why})[list(SUGGESTION_COLUMNS)]
+
+
+def measure_roof_points(assessment, building_id: str, x_m, y_m, *,
+                        air_density_kgm3: float | None = None,
+                        mast_step_m: float = MAST_STEP_M) -> dict:
+    """Shortest rotor-clear mast and distance to the edge at given points of one roof.
+
+    For points the assessor placed or moved: the same rule as
+    :func:`suggest_roof_positions` (see its Notes) at each point.
+
+    Parameters
+    ----------
+    assessment : a valid :class:`engine.core.model.Assessment`
+    building_id : the building the points stand on
+    x_m, y_m : (N,) plan points [m]
+    air_density_kgm3 : [kg/m³]; the site's when None
+    mast_step_m : masts are rounded up to this step [m]
+
+    Returns
+    -------
+    dict of (N,) arrays: ``mast_height_m``, ``min_clear_mast_m``, ``rotor_radius_m``,
+    ``edge_distance_m`` [m]
+
+    Raises
+    ------
+    InputError
+        a point is not a finite number, or is off the roof (``point <k>``, from 1).
+    """
+    b = _building(assessment, str(building_id))
+    x = np.asarray(x_m, dtype=float).ravel()
+    y = np.asarray(y_m, dtype=float).ravel()
+    pts = np.column_stack([x, y])
+    p = Problems()
+    ok = np.isfinite(pts).all(axis=1)
+    edge = np.where(ok, _edge_distance_m(b, np.where(ok[:, None], pts, 0.0)), np.nan)
+    for k in np.flatnonzero(~ok):
+        p.add(f"point {k + 1}", f"x and y must be numbers, got {x[k]}, {y[k]} m")
+    for k in np.flatnonzero(ok & (edge < 0)):
+        p.add(f"point {k + 1}", f"must be on the roof of {b.id}, got ({x[k]:g}, {y[k]:g}) m, "
+                                f"{-edge[k]:.1f} m outside its edge; move it onto the roof")
+    p.raise_if_any()
+    taken = {q.id for q in assessment.positions}
+    ids = free_ids([f"{b.id}-point-{k + 1}" for k in range(len(pts))], taken)
+    extra = tuple(Position(id=i, kind="roof", x_m=float(px), y_m=float(py), mast_height_m=1.0,
+                           building_id=b.id) for i, (px, py) in zip(ids, pts))
+    radius = max((t.rotor_radius_m for t in assessment.turbines), default=0.0)
+    if air_density_kgm3 is None:
+        from engine.climate import air
+        air_density_kgm3 = air.site_air_density_kgm3(assessment.site)
+    need, mast = _clear_mast_m(assessment, extra, float(radius), float(air_density_kgm3),
+                               mast_step_m)
+    return {"mast_height_m": mast, "min_clear_mast_m": need,
+            "rotor_radius_m": np.full(len(pts), float(radius)), "edge_distance_m": edge}

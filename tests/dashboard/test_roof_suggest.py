@@ -150,3 +150,25 @@ def test_bad_spacing_named():
     at.number_input(key="suggest_spacing|m").set_value(0.0).run()
     _suggest(at, "tower")
     assert "spacing must be more than 0 m, got 0.0 m" in _text(at, "error")
+
+
+def test_a_moved_suggestion_gets_its_mast_again_and_off_the_roof_is_refused():
+    """Moved to another point, the mast is worked out again there by the engine; moved off
+    the roof, accepting it is refused with a message naming it, and nothing is added."""
+    at = _layout()
+    _suggest(at, "mill")
+    name = at.session_state["roof_suggestions"]["rows"][1]["id"]
+    _edit(at, "roof_suggestions", {1: {"x east (m)": -10.0, "y north (m)": 4.0}})
+    at.button(key="suggest_remeasure").click().run()
+    assert not at.exception, at.exception
+    want = rs.measure_roof_points(sitefile.load(DEMO), "mill", [-10.0], [4.0])
+    row = at.session_state["roof_suggestions"]["rows"][1]
+    assert row["id"] == name and (row["x_m"], row["y_m"]) == (-10.0, 4.0)
+    assert row["mast_height_m"] == want["mast_height_m"][0]
+    assert row["edge_distance_m"] == pytest.approx(want["edge_distance_m"][0])
+    n = len(at.session_state["draft"]["positions"])
+    _edit(at, "roof_suggestions", {1: {"accept": True, "y north (m)": 30.0}})
+    at.button(key="suggest_accept").click().run()
+    msg = _text(at, "error")
+    assert f"{name}: must be on the roof of mill" in msg and "move it onto the roof" in msg
+    assert len(at.session_state["draft"]["positions"]) == n

@@ -100,3 +100,17 @@ def test_a_roof_exactly_twice_the_setback_gets_its_centre(site):
     """14 m wide with 7 m kept: the centre line is exactly 7 m from both long edges."""
     got = rs.suggest_roof_positions(site, "mill", setback_m=7.0)
     assert len(got) >= 1 and math.isclose(got["edge_distance_m"].min(), 7.0, abs_tol=1e-9)
+
+
+def test_measured_points_repeat_the_suggestions_and_refuse_off_the_roof(site):
+    """At the suggested points, the measure gives the suggestions' own masts; a point 3 m
+    beyond the 14 m wide roof's long edge (y = 7 + 3) is named with how far out it is."""
+    got = rs.suggest_roof_positions(site, "mill")
+    again = rs.measure_roof_points(site, "mill", got["x_m"], got["y_m"])
+    assert np.array_equal(again["mast_height_m"], got["mast_height_m"].to_numpy())
+    with pytest.raises(InputError) as e:
+        rs.measure_roof_points(site, "mill", [0.0, 0.0, float("nan")], [0.0, 10.0, 0.0])
+    where = dict(e.value.problems)
+    assert set(where) == {"point 2", "point 3"}
+    assert "3.0 m outside its edge" in where["point 2"]
+    assert "must be numbers" in where["point 3"]
