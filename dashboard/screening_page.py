@@ -141,9 +141,14 @@ def _confirm_open(pick, short, table) -> None:
         if c1.button(f"Keep it as “{plain(keep)}” and open {plain(pick)}",
                      key="screening_open_yes",
                      type="primary"):
-            used = state.save_scenario(keep)
             row = table.loc[short[short["id"] == pick].index[0]]
-            a = screening.assessment_for_building(row, ss["screening_context"])
+            try:
+                a = screening.assessment_for_building(row, ss["screening_context"])
+            except InputError as e:  # e.g. screened with per-sector surroundings
+                ss.pop("screening_confirm", None)
+                ss["screening_open_error"] = e.problems
+                st.rerun()
+            used = state.save_scenario(keep)
             ss[screening.SESSION_KEY] = a
             state.replace_draft(sitefile.assessment_to_dict(a), f"screening: building {pick}")
             ss.pop("screening_confirm", None)
@@ -265,6 +270,8 @@ if res is not None:
             st.session_state["screening_confirm"] = pick
         if st.session_state.get("screening_confirm") == pick:
             _confirm_open(pick, short, table)
+        for w, m in st.session_state.pop("screening_open_error", None) or ():
+            st.error(f"Building {plain(pick)} cannot be opened: **{plain(w)}** {plain(m)}")
         opened = st.session_state.pop("screening_opened", None)
         if opened is not None:
             st.success(f"Building {plain(opened[0])} is now the working assessment: one roof "

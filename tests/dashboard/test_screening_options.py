@@ -131,3 +131,18 @@ def test_bad_option_values_are_named_and_nothing_is_screened(table_bytes, kw, wh
     assert re.search(rf"\*\*{re.escape(where)}\*\*: [^\n]*{re.escape(text)}", err), err
     assert at.session_state["screening_result"] is None
     assert at.session_state["draft"] == draft  # nothing entered is lost
+
+
+def test_opening_a_building_screened_per_sector_says_why_not_and_keeps_the_draft(table_bytes):
+    """A row screened with per-sector surroundings cannot be one building alone in detail:
+    the page says so (the engine's message), keeps the working copy and saves no scenario."""
+    at = _page()
+    draft = at.session_state["draft"]
+    _set(at, sectors=True, effect=False)
+    _upload(at, table_bytes)
+    at.button(key="screening_open").click().run()
+    at.button(key="screening_open_yes").click().run()
+    assert not at.exception, at.exception
+    err = " ".join(_texts(at, "error"))
+    assert "cannot be opened" in err and "neighbours by sector" in err
+    assert at.session_state["draft"] == draft and not at.session_state["scenarios"]
