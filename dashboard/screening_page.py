@@ -21,6 +21,7 @@ from dashboard import state, widgets
 from dashboard.widgets import plain
 from engine import screening
 from engine.report import screening_charts
+from engine.screening import options as screening_options
 from engine.io import sitefile
 from engine.core import units
 from engine.core.errors import InputError
@@ -39,21 +40,88 @@ def _context(turbine_ids):
     return screening.context_from_assessment(st.session_state["valid"], turbine_ids)
 
 
-def _run(source_path: Path, turbine_ids) -> None:
+#: The option fields' labels on this page, for the engine's messages.
+OPTION_LABELS = {"sector_fetch_m": "Upwind fetch", "tile_m": "Tile side",
+                 "upwind_shelter": "Upwind neighbours' wakes"}
+
+
+def _run(source_path: Path, turbine_ids, options, show_effect: bool) -> None:
+    ss = st.session_state
     ctx = _context(turbine_ids)
+    ss["screening_effect"] = None
+    try:
+        use = screening_options.with_options(ctx, options)
+    except InputError as e:
+        ss["screening_result"] = None
+        ss["screening_error"] = [(OPTION_LABELS.get(w, w), m) for w, m in e.problems]
+        return
     bar = st.progress(0.0, text="Starting")
     try:
-        res = screening.screen_local(source_path, ctx,
-                                     progress=lambda f, text: bar.progress(min(f, 1.0), text=text))
+        res = screening_options.screen_with_options(
+            source_path, ctx, options,
+            progress=lambda f, text: bar.progress(min(f, 1.0), text=text))
+        effect = []
+        if show_effect:
+            for label, opt in screening_options.option_variants(ctx, options):
+                bar.progress(1.0, text=f"Screening again: {label}")
+                got = res if opt is options else screening_options.screen_with_options(
+                    source_path, ctx, opt)
+                effect.append({"model": label,
+                               **screening_options.class_shares(got.table)})
     except InputError as e:
         bar.empty()
-        st.session_state["screening_result"] = None
-        st.session_state["screening_error"] = e.problems
+        ss["screening_result"] = None
+        ss["screening_error"] = e.problems
         return
     bar.progress(1.0, text="Done")
-    st.session_state["screening_result"] = res
-    st.session_state["screening_context"] = ctx
-    st.session_state["screening_error"] = None
+    ss["screening_result"] = res
+    ss["screening_context"] = use
+    ss["screening_error"] = None
+    # Shown when there is something to compare (the plain model has no simpler one).
+    ss["screening_effect"] = effect if len(effect) > 1 else None
+
+
+def _option_widgets(valid):
+    """The model options in the form: (ScreeningOptions, show the effect)."""
+    L = state.unit_of("length")
+    with st.expander("Model options", expanded=False):
+        c1, c2 = st.columns(2)
+        sectors = c1.toggle("Per-sector surroundings", key="screening_sectors",
+                            value=valid.transfer.sector_morphometry,
+                            help="Each building's surroundings seen from each wind direction "
+                                 "(the buildings in an upwind wedge), instead of one average "
+                                 "over all directions")
+        fetch = c2.number_input(f"Upwind fetch ({L})", key=f"screening_fetch|{L}",
+                                value=state.to_display(valid.transfer.sector_fetch_m, "length"),
+                                format="%.0f", help="Radius of the upwind wedge")
+        shelter = c1.toggle("Upwind neighbours' wakes", key="screening_shelter",
+                            value=screening.ScreeningSettings().upwind_shelter,
+                            help="The wakes of taller buildings upwind slow the wind at the "
+                                 "hub (with per-sector surroundings only)")
+        tiles = c1.toggle("Screen in tiles", key="screening_tiles", value=False,
+                          help="Square tiles, each with a halo of the fetch: the same "
+                               "results in less memory (per-sector surroundings only)")
+        tile = c2.number_input(f"Tile side ({L})", key=f"screening_tile|{L}",
+                               value=state.to_display(2000.0, "length"), format="%.0f")
+        effect = st.checkbox("Show the options' effect (screens again with the simpler "
+                             "models)", key="screening_show_effect", value=True)
+    options = screening_options.ScreeningOptions(
+        sector_morphometry=bool(sectors), sector_fetch_m=state.to_si(fetch, "length"),
+        upwind_shelter=bool(shelter),
+        tile_m=state.to_si(tile, "length") if tiles else None)
+    return options, effect
+
+
+def _show_effect(effect) -> None:
+    st.subheader("What the model options do")
+    st.caption("Share of the screened buildings in each class, with the options as chosen "
+               "and with the simpler models beside them. The wakes of upwind neighbours are "
+               "the cautious choice: leaving them out credits sheltered roofs with wind they "
+               "do not get.")
+    pct = st.column_config.NumberColumn
+    st.dataframe(effect, hide_index=True, key="screening_effect_table",
+                 column_config={"model": st.column_config.TextColumn("model", width="large"),
+                                **{c: pct(c, format="percent") for c in screening.CLASSES}})
 
 
 def _confirm_open(pick, short, table) -> None:
@@ -73,9 +141,14 @@ def _confirm_open(pick, short, table) -> None:
         if c1.button(f"Keep it as “{plain(keep)}” and open {plain(pick)}",
                      key="screening_open_yes",
                      type="primary"):
-            used = state.save_scenario(keep)
             row = table.loc[short[short["id"] == pick].index[0]]
-            a = screening.assessment_for_building(row, ss["screening_context"])
+            try:
+                a = screening.assessment_for_building(row, ss["screening_context"])
+            except InputError as e:  # e.g. screened with per-sector surroundings
+                ss.pop("screening_confirm", None)
+                ss["screening_open_error"] = e.problems
+                st.rerun()
+            used = state.save_scenario(keep)
             ss[screening.SESSION_KEY] = a
             state.replace_draft(sitefile.assessment_to_dict(a), f"screening: building {pick}")
             ss.pop("screening_confirm", None)
@@ -114,6 +187,7 @@ with st.form("screening_form"):
     st.caption(f"Climate, site and losses: those of the current assessment "
                f"(**{plain(valid.site.name)}**, climate "
                f"“{plain(valid.climate.label or 'unnamed')}”).")
+    options, show_effect = _option_widgets(valid)
     go = st.form_submit_button("Screen", type="primary")
 
 if go:
@@ -124,9 +198,9 @@ if go:
         with tempfile.TemporaryDirectory() as tmp:
             path = Path(tmp) / f"buildings{suffix}"
             path.write_bytes(upload.getvalue())
-            _run(path, chosen)
+            _run(path, chosen, options, show_effect)
     else:
-        _run(DEMO_DISTRICT, chosen)
+        _run(DEMO_DISTRICT, chosen, options, show_effect)
 
 err = st.session_state.get("screening_error")
 if err:
@@ -146,6 +220,8 @@ if res is not None:
         with st.expander(f"{len(res.bad_rows):,d} row(s) left out: fix them and screen again",
                          expanded=True):
             st.table([{"where": w, "problem and fix": m} for w, m in res.problems])
+    if st.session_state.get("screening_effect"):
+        _show_effect(st.session_state["screening_effect"])
     st.altair_chart(screening_charts.plan_scatter_chart(table), width="content")
 
     st.subheader("Shortlist")
@@ -194,6 +270,8 @@ if res is not None:
             st.session_state["screening_confirm"] = pick
         if st.session_state.get("screening_confirm") == pick:
             _confirm_open(pick, short, table)
+        for w, m in st.session_state.pop("screening_open_error", None) or ():
+            st.error(f"Building {plain(pick)} cannot be opened: **{plain(w)}** {plain(m)}")
         opened = st.session_state.pop("screening_opened", None)
         if opened is not None:
             st.success(f"Building {plain(opened[0])} is now the working assessment: one roof "

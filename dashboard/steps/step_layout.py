@@ -1,7 +1,7 @@
 """Step 3: buildings, candidate positions and the places where noise matters."""
 import streamlit as st
 
-from dashboard import cache, consent_inputs, results_view, state, widgets
+from dashboard import cache, consent_inputs, results_view, roof_suggest, state, widgets
 from engine.core import model
 
 widgets.step_banner("layout", "3. Buildings & positions")
@@ -154,3 +154,5 @@ if not state.step_problems("layout"):
 else:
     st.info("The plan is drawn again once the tables above have no problems.",
             icon=":material/info:")
+
+roof_suggest.section(draft, edit, L)

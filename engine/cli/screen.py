@@ -4,7 +4,9 @@ Runs :func:`engine.screening.screen_local` (pandas/numpy, the default; the table
 parts with a fixed memory ceiling and the ranked CSV merged from sorted parts) or, with
 ``--workers N`` or ``--scheduler ADDRESS``, :func:`engine.screening.screen_dask` (identical
 results), which streams ``--out`` the same way on a Dask cluster. Bad rows are listed on stderr
-by line and id with the fix; the good rows are screened.
+by line and id with the fix; the good rows are screened. A GeoJSON footprint file
+(``--height-field``) is screened on the same engines: locally, on the cluster of ``--workers``
+or ``--scheduler``, and in tiles with ``--tile-m``, all with the same results.
 
 Exit codes: 0 when at least one building was screened; 2 when an input, file or network problem
 stops the run (one message naming the argument, no traceback); 1 for an internal fault (one
@@ -262,10 +264,11 @@ def _run_tiled(args, ctx):
 FOOTPRINT_SUFFIXES = (".geojson", ".json")
 
 
-def screen_footprint_file(path, ctx, args):
+def screen_footprint_file(path, ctx, args, client=None):
     """:func:`engine.screening.positions.screen_footprints` of a GeoJSON file, with the
     footprint options of ``args`` (``height_field``, ``id_field``, ``crs``,
-    ``grid_spacing_m``, ``setback_m``); the file read bounded, problems named by option."""
+    ``grid_spacing_m``, ``setback_m``, ``tile_m``) on ``client`` (a Dask client, or None for
+    this process); the file read bounded, problems named by option."""
     from engine.io.footprints import MAX_FOOTPRINT_BYTES
     from engine.screening.positions import screen_footprints
     if not args.height_field:
@@ -275,25 +278,21 @@ def screen_footprint_file(path, ctx, args):
     try:
         return screen_footprints(data, ctx, height_field=args.height_field,
                                  id_field=args.id_field or None, crs=args.crs or None,
-                                 spacing_m=args.grid_spacing_m, setback_m=args.setback_m)
+                                 spacing_m=args.grid_spacing_m, setback_m=args.setback_m,
+                                 client=client, tile_m=getattr(args, "tile_m", None))
     except InputError as e:
-        raise renamed(e, {"file": str(path), "features": str(path), "crs": "--crs"}) from None
+        raise renamed(e, {"file": str(path), "features": str(path), "crs": "--crs",
+                          "tile_m": "--tile-m"}) from None
 
 
 def _run_footprints(args, ctx) -> int:
     """A footprint file: every building's best position to --out, every position to
-    --positions-out (both written whole or not at all)."""
+    --positions-out (both written whole or not at all); on the Dask cluster of --workers or
+    --scheduler, in tiles with --tile-m."""
     from engine.io.exports import safe_csv
-    if args.tile_m is not None:
-        raise InputError([("--tile-m", "must not be given with a footprint file, got "
-                                       f"{args.tile_m} m: footprint files are screened whole "
-                                       "on the local engine; leave it out")])
-    if args.workers or args.scheduler:
-        raise InputError([("--workers" if args.workers else "--scheduler",
-                           "must not be given with a footprint file, got one: footprint files "
-                           "are screened on the local engine; leave it out")])
     t0 = time.perf_counter()
-    got = screen_footprint_file(args.buildings, ctx, args)
+    with _client(args) as client:
+        got = screen_footprint_file(args.buildings, ctx, args, client)
     for where, msg in got.problems:
         print(f"perch screen: {where}: {msg}", file=sys.stderr)
     write_output(args.out, safe_csv(got.buildings).encode("utf-8"), "--out", "the ranked CSV")

@@ -325,6 +325,49 @@ def plan_view(evaluation, length_unit: str = "m", selected: str | None = None,
         color="independent")
 
 
+def suggestion_plan(assessment, building_id: str, suggestions: pd.DataFrame,
+                    length_unit: str = "m", width: int = 460, height: int = 380):
+    """Plan of one roof's suggested positions beside the site's buildings and positions.
+
+    ``suggestions`` holds ``id``, ``x_m``, ``y_m``, ``mast_height_m`` [m] (the rows of
+    :func:`engine.flow.roof_suggestions.suggest_roof_positions`, as the assessor left them).
+    The chosen building is outlined in the accent colour, the site's positions are grey, the
+    suggestions are open circles labelled with their names. Local metres (or feet), no tiles.
+    """
+    L = lambda v: units.length_from_si(v, length_unit)  # noqa: E731
+    feats = _plan_buildings(assessment, L, length_unit)
+    chosen = [f for f in feats if f["properties"]["id"] == building_id]
+    proj = alt.Projection(type="identity", reflectY=True).to_dict()
+    blocks = alt.Chart(_geo(feats)).mark_geoshape(
+        fill=BUILDING_FILL, stroke=BUILDING_EDGE, strokeWidth=1).encode(
+        tooltip=alt.Tooltip("properties.label:N", title="building")).project(**proj)
+    layers = [blocks]
+    if chosen:
+        layers.append(alt.Chart(_geo(chosen)).mark_geoshape(
+            filled=False, stroke=ACCENT, strokeWidth=3).project(**proj))
+    here = pd.DataFrame({"name": [p.id for p in assessment.positions],
+                         "x": [L(p.x_m) for p in assessment.positions],
+                         "y": [L(p.y_m) for p in assessment.positions]})
+    layers.append(alt.Chart(here).mark_point(filled=True, size=90, color=EXCLUDED_COLOUR).encode(
+        longitude="x:Q", latitude="y:Q",
+        tooltip=alt.Tooltip("name:N", title="position entered")).project(**proj))
+    sug = pd.DataFrame({"name": suggestions["id"].astype(str).to_numpy(),
+                        "x": L(suggestions["x_m"].to_numpy(float)),
+                        "y": L(suggestions["y_m"].to_numpy(float)),
+                        "mast": L(suggestions["mast_height_m"].to_numpy(float))})
+    base = alt.Chart(sug).encode(
+        longitude="x:Q", latitude="y:Q",
+        tooltip=[alt.Tooltip("name:N", title="suggested"),
+                 alt.Tooltip("mast:Q", title=f"mast ({length_unit})", format=".1f")])
+    layers += [base.mark_point(filled=False, size=160, stroke=RANGE_COLOUR,
+                               strokeWidth=2.5).project(**proj),
+               base.mark_text(angle=330, align="left", dx=8, dy=-6, fontSize=10,
+                              color="#123").encode(text="name:N").project(**proj)]
+    return alt.layer(*layers).properties(
+        width=width, height=height,
+        title=f"Suggested positions on {building_id} ({length_unit}, east right, north up)")
+
+
 def wind_rose(climate, air_density_kgm3: float = 1.225, size: int = 240) -> alt.HConcatChart:
     """Two roses side by side: how often the wind comes from each sector, and its energy share."""
     df = sector_table(climate, air_density_kgm3)

@@ -9,6 +9,8 @@ with its own mast, the shortest that keeps the largest carried rotor clear of th
 high-turbulence zone (:func:`engine.screening.compute.screen_chunk`, the screening's own mast
 search and the chain's array entry). The output is a table per position and a table per
 building holding its best position (best class, then the larger net AEP, then the position id).
+Both passes run on any engine (:func:`screen_footprints`' ``client`` and ``tile_m``) with the
+same results: the candidates go in the file's order, in the same chunks everywhere.
 """
 from __future__ import annotations
 
@@ -107,46 +109,42 @@ def _position_rows(table: pd.DataFrame, spacing_m, setback_m):
     return rows, sur, blk
 
 
-def screen_positions(table: pd.DataFrame, ctx: ScreeningContext, spacing_m=None,
-                     setback_m: float = DEFAULT_SETBACK_M, blocks_frame=None) -> pd.DataFrame:
-    """Screen candidate positions on the roofs of an already screened buildings table.
-
-    Parameters
-    ----------
-    table : the ranked table of :func:`engine.screening.screen_local` (its surroundings)
-    ctx : the context it was screened with (one climate: the default zone's)
-    spacing_m, setback_m : candidate grid (:func:`engine.flow.roof_candidates.
-        roof_candidate_arrays`); only the roof centres when ``spacing_m`` is None
-    blocks_frame : the buildings table itself, for per-sector surroundings
-        (``transfer.sector_morphometry``): each position takes its building's sectors
-
-    Returns
-    -------
-    DataFrame, one row per position: ``position_id``, ``building_id``, plan ``x_m``, ``y_m``,
-    offsets ``u_m``, ``v_m`` in the block's axes, ``mast_height_m``, ``hub_height_m``,
-    ``mean_speed_ms``, ``suitability``, ``reasons``, ``best_turbine_id``, ``best_aep_kwh``,
-    ``best_capacity_factor`` and ``aep_kwh_<turbine>``
-    """
-    if "" not in ctx.climates:
-        raise InputError([("climate", "footprint screening needs a default climate (footprints "
-                                      "carry no zone); give --climate FILE")])
+def _position_inputs(table: pd.DataFrame, ctx: ScreeningContext, spacing_m, setback_m,
+                     blocks_frame):
+    """(rows, sur, blocks): every candidate's (N,) arrays in the table's line order, its
+    building's surroundings, and the buildings for per-sector surroundings (or None)."""
+    # In the file's order whatever order an engine ranked the buildings in, so the chunks,
+    # and with them every number, are the same on every engine.
+    table = table.sort_values("line", kind="stable") if "line" in table.columns else table
     rows, sur, _ = _position_rows(table, spacing_m, setback_m)
     blocks = None
     if ctx.transfer.sector_morphometry and blocks_frame is not None:
         blocks = combine_blocks([blocks_frame[["x_m", "y_m", "length_m", "width_m", "height_m",
                                                "orientation_deg"]].astype(float)])
-        # The building's own sectors, found again from the table (the screened table keeps
+        # The building's own sectors are found again per chunk (the screened table keeps
         # only their means).
         src = sur["surroundings_from"]
-        again = np.where(src == SURROUNDINGS_FROM[4], SURROUNDINGS_FROM[0], src)
-        sur = sector_surroundings(rows, {**sur, "surroundings_from": again}, blocks, ctx.site,
-                                  ctx.transfer, len(ctx.climates[""].frequency))
+        sur["surroundings_from"] = np.where(src == SURROUNDINGS_FROM[4], SURROUNDINGS_FROM[0],
+                                            src)
     # The plan position of each candidate from its block's axes (u along the length).
     phi = np.radians(np.asarray(rows["orientation_deg"], float))
-    px = rows["x_m"] + rows["u_m"] * np.sin(phi) + rows["v_m"] * np.cos(phi)
-    py = rows["y_m"] + rows["u_m"] * np.cos(phi) - rows["v_m"] * np.sin(phi)
-    rows.update(px_m=px, py_m=py)  # where the upwind neighbours' wakes are found
-    got = _chunked(rows, sur, ctx, blocks if ctx.settings.upwind_shelter else None)
+    rows["px_m"] = rows["x_m"] + rows["u_m"] * np.sin(phi) + rows["v_m"] * np.cos(phi)
+    rows["py_m"] = rows["y_m"] + rows["u_m"] * np.cos(phi) - rows["v_m"] * np.sin(phi)
+    return rows, sur, blocks
+
+
+def position_chunk(rows: dict, sur: dict, ctx: ScreeningContext, blocks=None) -> pd.DataFrame:
+    """The result rows of one chunk of candidates (the frame of :func:`screen_positions`).
+
+    Per-sector surroundings from ``blocks`` (when given), then
+    :func:`engine.screening.compute.screen_chunk` (the upwind wakes too, when the settings
+    ask for them) and the class (:func:`engine.screening.compute.suitability`). Each row's
+    numbers depend on that row alone; the chunk is the unit of work of both engines.
+    """
+    if blocks is not None and len(rows["id"]):
+        sur = sector_surroundings(rows, sur, blocks, ctx.site, ctx.transfer,
+                                  len(ctx.climates[""].frequency))
+    got = _screened(rows, sur, ctx, blocks if ctx.settings.upwind_shelter else None)
     net, cf = got["net_kwh"], got["capacity_factor"]
     carried = np.isfinite(net).any(axis=1)
     best = np.argmax(np.where(np.isfinite(net), net, -np.inf), axis=1)
@@ -161,7 +159,8 @@ def screen_positions(table: pd.DataFrame, ctx: ScreeningContext, spacing_m=None,
                                 shelter_factor=got["shelter_factor"])
     ids = np.asarray([t.id for t in ctx.turbines], dtype=object)[best]
     ids[~carried] = ""
-    out = {"position_id": rows["id"], "building_id": rows["building_id"], "x_m": px, "y_m": py,
+    out = {"position_id": rows["id"], "building_id": rows["building_id"],
+           "x_m": rows["px_m"], "y_m": rows["py_m"],
            "u_m": rows["u_m"], "v_m": rows["v_m"], "min_clear_mast_m": got["min_clear_mast_m"],
            "mast_height_m": got["mast_height_m"], "hub_height_m": got["hub_height_m"],
            "mean_speed_ms": got["mean_speed_ms"], "shelter_factor": got["shelter_factor"],
@@ -173,26 +172,60 @@ def screen_positions(table: pd.DataFrame, ctx: ScreeningContext, spacing_m=None,
     return pd.DataFrame(out)
 
 
-def _chunked(rows, sur, ctx, blocks=None):
-    """:func:`engine.screening.compute.screen_chunk` over chunks of positions (one climate)."""
-    n, T = len(rows["id"]), len(ctx.turbines)
-    rho = air.site_air_density_kgm3(ctx.site)
-    out = None
-    step = int(ctx.settings.chunk_rows)
-    for a in range(0, n, step):
-        sl = slice(a, min(a + step, n))
-        got = screen_chunk({k: v[sl] for k, v in rows.items()},
-                           {k: v[sl] for k, v in sur.items()}, ctx.climates[""], rho, ctx,
-                           blocks)
-        if out is None:
-            out = {k: np.empty((n,) + np.shape(v)[1:]) for k, v in got.items()}
-        for k, v in got.items():
-            out[k][sl] = v
-    if out is None:
+def screen_positions(table: pd.DataFrame, ctx: ScreeningContext, spacing_m=None,
+                     setback_m: float = DEFAULT_SETBACK_M, blocks_frame=None,
+                     client=None) -> pd.DataFrame:
+    """Screen candidate positions on the roofs of an already screened buildings table.
+
+    Parameters
+    ----------
+    table : the table of a buildings screening (:func:`engine.screening.screen_local`, the
+        Dask or the tiled engine): its surroundings
+    ctx : the context it was screened with (one climate: the default zone's)
+    spacing_m, setback_m : candidate grid (:func:`engine.flow.roof_candidates.
+        roof_candidate_arrays`); only the roof centres when ``spacing_m`` is None
+    blocks_frame : the buildings table itself, for per-sector surroundings
+        (``transfer.sector_morphometry``): each position takes its building's sectors
+    client : a ``distributed.Client``: the chunks of ``ctx.settings.chunk_rows`` candidates
+        are screened on its workers, one task each (:func:`position_chunk`); here otherwise.
+        The chunks are the same either way, so are the results.
+
+    Returns
+    -------
+    DataFrame, one row per position in the table's line order: ``position_id``,
+    ``building_id``, plan ``x_m``, ``y_m``, offsets ``u_m``, ``v_m`` in the block's axes,
+    ``mast_height_m``, ``hub_height_m``, ``mean_speed_ms``, ``suitability``, ``reasons``,
+    ``best_turbine_id``, ``best_aep_kwh``, ``best_capacity_factor`` and ``aep_kwh_<turbine>``
+    """
+    if "" not in ctx.climates:
+        raise InputError([("climate", "footprint screening needs a default climate (footprints "
+                                      "carry no zone); give --climate FILE")])
+    rows, sur, blocks = _position_inputs(table, ctx, spacing_m, setback_m, blocks_frame)
+    n, step = len(rows["id"]), int(ctx.settings.chunk_rows)
+    cut = [slice(a, min(a + step, n)) for a in range(0, n, step)] or [slice(0, 0)]
+    parts = [({k: v[sl] for k, v in rows.items()}, {k: v[sl] for k, v in sur.items()})
+             for sl in cut]
+    if client is None:
+        return pd.concat([position_chunk(r, s, ctx, blocks) for r, s in parts],
+                         ignore_index=True)
+    import dask
+    # The context and the buildings go into the graph once, not once per task.
+    shared = [dask.delayed(v, traverse=False) for v in (ctx, blocks)]
+    futures = client.compute([dask.delayed(position_chunk)(r, s, *shared) for r, s in parts])
+    return pd.concat(client.gather(futures), ignore_index=True)
+
+
+def _screened(rows, sur, ctx, blocks=None):
+    """:func:`engine.screening.compute.screen_chunk` of one chunk (one climate); empty
+    arrays for no rows."""
+    T = len(ctx.turbines)
+    if len(rows["id"]) == 0:
         out = {k: np.empty(0) for k in ("min_clear_mast_m", "mast_height_m", "hub_height_m",
                                         "mean_speed_ms", "shelter_factor")}
         out.update(net_kwh=np.empty((0, T)), capacity_factor=np.empty((0, T)))
-    return out
+        return out
+    rho = air.site_air_density_kgm3(ctx.site)
+    return screen_chunk(rows, sur, ctx.climates[""], rho, ctx, blocks)
 
 
 def best_per_building(positions: pd.DataFrame) -> pd.DataFrame:
@@ -213,7 +246,8 @@ def best_per_building(positions: pd.DataFrame) -> pd.DataFrame:
 
 def screen_footprints(data: bytes, ctx: ScreeningContext, *, height_field: str,
                       id_field=None, crs=None, spacing_m=None,
-                      setback_m: float = DEFAULT_SETBACK_M) -> FootprintScreening:
+                      setback_m: float = DEFAULT_SETBACK_M, client=None,
+                      tile_m=None) -> FootprintScreening:
     """Screen a GeoJSON footprint file: every building, candidate positions on every roof.
 
     Parameters
@@ -222,20 +256,46 @@ def screen_footprints(data: bytes, ctx: ScreeningContext, *, height_field: str,
     ctx : climate, turbines and settings (its default climate serves every footprint)
     height_field, id_field, crs : as :func:`engine.io.footprints.read_footprints`
     spacing_m, setback_m : candidate grid on each roof [m]; only the centre when None
+    client : a ``distributed.Client``: the buildings are screened as Dask partitions
+        (:func:`engine.screening.screen_dask`) and the candidates one chunk per task
+        (:func:`screen_positions`) on its workers
+    tile_m : side of square tiles [m] for the buildings' pass
+        (:func:`engine.screening.tiled.screen_tiled`, halo the sector fetch; needs
+        ``transfer.sector_morphometry``), on ``client`` when given
 
     Returns
     -------
     :class:`FootprintScreening`; the features that could not be read are listed in
-    ``problems`` with their fix (the rest are screened).
+    ``problems`` with their fix (the rest are screened). The numbers are the same on every
+    engine and for any tile size: the surroundings are the same to the last bit, and the
+    candidates are screened in the same chunks.
     """
     from engine.io.footprints import read_footprints
-    from engine.screening.local import screen_local
     fs = read_footprints(data, height_field=height_field, id_field=id_field, crs=crs)
     frame = footprint_frame(fs)
-    res = screen_local(frame, ctx)
-    pos = screen_positions(res.table, ctx, spacing_m, setback_m, blocks_frame=frame)
+    res = _screen_buildings(frame, ctx, client, tile_m)
+    pos = screen_positions(res.table, ctx, spacing_m, setback_m, blocks_frame=frame,
+                           client=client)
     pos = with_coordinates(pos, fs.plan, fs.crs)
     return FootprintScreening(positions=pos, buildings=best_per_building(pos),
                               problems=tuple(fs.problems) + tuple(res.problems),
                               n_features=len(fs.buildings), plan=fs.plan, crs=fs.crs,
                               footprints=tuple(fs.buildings))
+
+
+def _screen_buildings(frame: pd.DataFrame, ctx: ScreeningContext, client, tile_m):
+    """The buildings' pass on the engine asked for: tiled, Dask or local."""
+    if tile_m is not None:
+        from engine.screening.tiled import check_tile_size, screen_tiled
+        if not ctx.transfer.sector_morphometry:
+            raise InputError([("tile_m", f"needs per-sector surroundings "
+                                         f"(transfer.sector_morphometry; the halo is the sector "
+                                         f"fetch), got tiles of {tile_m} m with them off; turn "
+                                         "them on or leave the tiles out")])
+        tile = check_tile_size(tile_m, ctx.transfer.sector_fetch_m, "tile_m")
+        return screen_tiled(frame, ctx, tile_m=tile, client=client)
+    if client is not None:
+        from engine.screening.dask_engine import screen_dask
+        return screen_dask(frame, ctx, client)
+    from engine.screening.local import screen_local
+    return screen_local(frame, ctx)

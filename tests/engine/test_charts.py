@@ -74,12 +74,26 @@ def test_every_chart_is_valid_vega_lite_and_offline(ev):
              charts.power_curve(tur, "mph", corrected=charts.corrected_curve(ev, pid, tid),
                                 distribution=charts.hub_distribution(ev, pid, "mph")),
              charts.ranking_bars(ev.table),
+             charts.suggestion_plan(a, a.buildings[0].id, pd.DataFrame(
+                 {"id": ["s1"], "x_m": [1.0], "y_m": [2.0], "mast_height_m": [5.0]}), "ft"),
              charts.ranking_bars(ev.table.drop(columns=["p50_aep_kwh", "p90_aep_kwh"],
                                                errors="ignore"))]
     for chart in built:
         spec = chart.to_dict(validate=True)
         text = json.dumps(spec)
         assert "http" not in text.replace(spec["$schema"], "")
+
+
+def test_suggestion_plan_draws_the_suggestions_in_the_display_unit(ev):
+    """The suggested points are drawn where they are, in feet: 1 ft = 0.3048 m exactly
+    (NIST SP 811, appendix B)."""
+    a = ev.assessment
+    sug = pd.DataFrame({"id": ["s1", "s2"], "x_m": [3.048, -6.096], "y_m": [0.0, 30.48],
+                        "mast_height_m": [6.0, 7.5]})
+    spec = charts.suggestion_plan(a, a.buildings[0].id, sug, "ft").to_dict()
+    rows = [r for d in spec["datasets"].values() for r in d if "mast" in r]
+    assert [(r["name"], r["x"], r["y"]) for r in rows] == [
+        ("s1", pytest.approx(10.0), 0.0), ("s2", pytest.approx(-20.0), pytest.approx(100.0))]
 
 
 def test_monthly_energy_is_absent_without_monthly_speeds(ev):
