@@ -31,8 +31,10 @@ def _columns(L: str) -> list:
                                 "largest chosen rotor clear of the roof's turbulence zone, at "
                                 "the suggested point (worked out again for a moved point by the button "
                                 "below the table)")),
-        ("min_clear_mast_m", f"hub clears the zone from ({L})", "length",
-         num(format="%.1f", disabled=True)),
+        ("min_clear_mast_m", f"zone top above the roof ({L})", "length",
+         num(format="%.1f", disabled=True, help="Height above the roof where the turbulence "
+                                                "zone ends at this point; the mast adds the "
+                                                "rotor radius so the whole rotor clears it")),
         ("edge_distance_m", f"to the nearest edge ({L})", "length",
          num(format="%.1f", disabled=True)),
         ("why", "why here", "text", st.column_config.TextColumn(disabled=True)),
