@@ -108,7 +108,8 @@ def _kwh(v) -> str:
     return f"{float(v):,.0f} kWh" if np.isfinite(float(v)) else "no figure"
 
 
-def _firm_up(row, uncertainty, measured_at_position: str, height_m) -> str:
+def _firm_up(row, uncertainty, measured_at_position: str, height_m,
+             long_term_corrected: bool = False) -> str:
     """The clause naming the largest term and what to do about it."""
     here = bool(measured_at_position) and str(row["position_id"]) == measured_at_position
     exclude = COVERED_BY_POSITION_RECORD if here else ()
@@ -121,12 +122,15 @@ def _firm_up(row, uncertainty, measured_at_position: str, height_m) -> str:
     at = f" at {float(height_m):g} m" if height_m is not None else ""
     return (f"the wind was measured at {measured_at_position}{at}, which already stands in for "
             f"{COMPONENT_WORDS['speed_building_model']} and "
-            f"{COMPONENT_WORDS['speed_transfer']} there (their stated allowances stay in the "
-            f"P90); of the rest, {text}")
+            f"{COMPONENT_WORDS['speed_transfer']} there ("
+            + ("so its P90 leaves them out" if long_term_corrected else
+               "their stated allowances stay in its P90 until the record is long-term "
+               "corrected") + f"); of the rest, {text}")
 
 
 def answer_sentences(table, economics, uncertainty, measured_at_position: str = "",
-                     measured_height_m=None) -> tuple[str, str]:
+                     measured_height_m=None, long_term_corrected: bool = False
+                     ) -> tuple[str, str]:
     """The answer in two sentences: (verdict and money, energy and what to measure next).
 
     Parameters
@@ -137,6 +141,8 @@ def answer_sentences(table, economics, uncertainty, measured_at_position: str = 
     measured_at_position : id of the position the climate was measured at ("" for a
         reference climate); the option there is not advised to measure again
     measured_height_m : the measured climate's height above ground [m], for the words
+    long_term_corrected : the position record was long-term corrected, so its P-values leave
+        out the terms it covers (:func:`engine.energy.uncertainty.logger_row`)
     """
     if "verdict" not in table:
         table = add_verdicts(table, economics)
@@ -160,7 +166,8 @@ def answer_sentences(table, economics, uncertainty, measured_at_position: str = 
         first = f"{name} {row['verdict']}: {row['verdict_reason']}."
     p50 = row.get("p50_aep_kwh", row.get("aep_kwh", np.nan))
     p90 = row.get("p90_aep_kwh", np.nan)
-    firm = _firm_up(row, uncertainty, measured_at_position, measured_height_m)
+    firm = _firm_up(row, uncertainty, measured_at_position, measured_height_m,
+                    long_term_corrected)
     second = (f"It would make about {_kwh(p50)} a year (P50; P90 {_kwh(p90)} as a life "
               f"average); {firm}.")
     return first, second
@@ -174,4 +181,5 @@ def answer_for(evaluation) -> tuple[str, str]:
     here = c.position_id if getattr(c, "measured_at", "reference") == "position" else ""
     return answer_sentences(evaluation.table, a.economics, with_climate(a.uncertainty, c),
                             measured_at_position=here,
-                            measured_height_m=c.height_m if here else None)
+                            measured_height_m=c.height_m if here else None,
+                            long_term_corrected=float(c.long_term_uncertainty) > 0)

@@ -15,6 +15,7 @@ from engine.climate import air
 from engine.energy import economics
 from engine.energy import aep as energy
 from engine.flow import effective as flow
+from engine.flow import measured_position
 from engine.energy import loads
 from engine.chain import arrays
 from engine.chain import neighbours
@@ -51,9 +52,10 @@ def energy_table(assessment, eff: flow.EffectiveClimate) -> pd.DataFrame:
     # The yield step the screening shares (engine.chain.arrays): energy, mean speed, TI.
     at_hub = arrays.position_yields(eff, turbines, assessment.losses, assessment.energy)
     y = at_hub.yields
-    pv = uncertainty.exceedance_table(y.setup, y.net_wh, uncertainty.with_climate(
-        assessment.uncertainty, assessment.climate), assessment.economics.lifetime_years,
-        gross_wh=y.bins_gross_wh)  # the climate's long-term correction can raise σ_LT
+    pv = uncertainty.exceedance_with_logger(  # the long-term correction can raise σ_LT
+        y.setup, y.net_wh, uncertainty.with_climate(assessment.uncertainty, assessment.climate),
+        assessment.economics.lifetime_years, uncertainty.logger_row(assessment.climate,
+        measured_position.measuring_index(assessment)), gross_wh=y.bins_gross_wh)
     mast = np.array([float(p.mast_height_m) for p in assessment.positions])
     ld = loads.turbine_loads(turbines, mast, eff.air_density_kgm3)
     ti_mean = np.sum(eff.frequency * eff.turbulence_intensity, axis=-1)  # (P,)

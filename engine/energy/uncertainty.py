@@ -66,6 +66,52 @@ def with_climate(uncertainty, climate):
     return replace(uncertainty, speed_long_term=measured)
 
 
+#: Speed components a record logged at the position itself replaces there: the wind was
+#: measured where the rotor will be, so neither the transfer to the site nor the building-flow
+#: model stands between the data and the hub.
+COVERED_AT_LOGGER = ("speed_transfer", "speed_building_model")
+
+
+def at_logger(uncertainty):
+    """The uncertainties of the position where the climate was measured (hub within 0.5 m of
+    the logger, :mod:`engine.core.measured_checks`): the transfer and building-flow terms set to
+    0; the data, long-term, power-curve and year-to-year terms stay.
+
+    Notes
+    -----
+    σ_V,logger = √(u_data² + u_LT²). The logger's own calibration and mounting are in
+    ``speed_data``; a short record's representativeness is in ``speed_long_term`` (raised by
+    the correction's own value, :func:`with_climate`). The other positions keep every term:
+    they are reached from the logger through the building model.
+    """
+    return replace(uncertainty, **{name: 0.0 for name in COVERED_AT_LOGGER})
+
+
+def logger_row(climate, measuring_index):
+    """The row whose P-values :func:`at_logger` gives, or None.
+
+    Only a position record that was long-term corrected (``climate.long_term_uncertainty`` >
+    0) earns it: an uncorrected record of a few months says nothing of the years it missed,
+    and its stated long-term allowance was not sized for that, so until it is corrected its
+    position keeps every term (the summary says so).
+    """
+    if measuring_index is None or float(getattr(climate, "long_term_uncertainty", 0.0)) <= 0:
+        return None
+    return int(measuring_index)
+
+
+def exceedance_with_logger(setup, p50, uncertainty, life_years, logger_index, gross_wh=None):
+    """:func:`exceedance_table`, with the row of the position the climate was measured at
+    (``logger_index``; None for a reference climate) taken from :func:`at_logger`."""
+    out = exceedance_table(setup, p50, uncertainty, life_years, gross_wh)
+    if logger_index is None:
+        return out
+    here = exceedance_table(setup, p50, at_logger(uncertainty), life_years, gross_wh)
+    for name, values in out.items():
+        values[logger_index] = here[name][logger_index]
+    return out
+
+
 def combined_speed_uncertainty(uncertainty) -> float:
     """Root sum of squares of the speed components of :class:`engine.core.model.Uncertainty` [-].
 

@@ -276,6 +276,13 @@ def _quality(a, best, records, centre, series=()) -> Section:
                 ("Power curve", fmt_percent(u.energy_power_curve), "of energy"))
     qual.append(Table("uncertainty", ("Source of uncertainty", "One sigma", "As a share"),
                       unc_rows, ("l", "r", "l")))
+    if c.measured_at == "position":
+        qual.append(Paragraph(
+            f"At {c.position_id}, where the wind was measured, the P-values leave out the "
+            "transfer and building-flow terms: the long-term corrected record stands in for "
+            "both there. Every other position keeps them." if c.long_term_uncertainty > 0 else
+            f"The wind was measured at {c.position_id}, but the record is not long-term "
+            "corrected: its P-values keep the transfer and building-flow terms until it is."))
     if best and finite(best.get("p90_aep_kwh")) and finite(best.get(centre)) \
             and float(best[centre]) > 0:
         ratio = float(best["p90_aep_kwh"]) / float(best[centre])

@@ -177,10 +177,15 @@ def test_long_term_correction_uncertainty_enters_the_p_values():
     same = pipeline.evaluate(stated).table.set_index("position_id")
     assert model.Uncertainty().speed_long_term == pytest.approx(0.04)
     np.testing.assert_allclose(high.p50_aep_kwh, base.p50_aep_kwh, rtol=1e-12)
-    np.testing.assert_allclose(high.p90_aep_kwh, same.p90_aep_kwh, rtol=1e-12)
-    np.testing.assert_allclose(high.p90_one_year_aep_kwh, same.p90_one_year_aep_kwh, rtol=1e-12)
-    assert np.all(high.p90_aep_kwh < base.p90_aep_kwh)
-    np.testing.assert_allclose(low.p90_aep_kwh, base.p90_aep_kwh, rtol=1e-12)
+    # Away from the logger every term stays, so the two runs agree there; at the logger the
+    # corrected record also drops the transfer and building terms (the test above).
+    others = ["twin", "other"]
+    np.testing.assert_allclose(high.p90_aep_kwh[others], same.p90_aep_kwh[others], rtol=1e-12)
+    np.testing.assert_allclose(high.p90_one_year_aep_kwh[others],
+                               same.p90_one_year_aep_kwh[others], rtol=1e-12)
+    assert high.p90_aep_kwh["logger"] > same.p90_aep_kwh["logger"]
+    assert np.all(high.p90_aep_kwh[others] < base.p90_aep_kwh[others])
+    np.testing.assert_allclose(low.p90_aep_kwh[others], base.p90_aep_kwh[others], rtol=1e-12)
 
 
 def _kaimal_between_share(U, z, T, short=600.0):
@@ -306,3 +311,42 @@ def test_answer_names_the_long_term_correction_when_its_own_sigma_is_the_largest
     assert answer.COMPONENT_WORDS["speed_long_term"] in second
     ev0 = pipeline.evaluate(_roof_site(_position_climate(0.0)))
     assert answer.COMPONENT_WORDS["speed_long_term"] not in answer.answer_for(ev0)[1]
+
+
+def test_p_values_at_the_logger_leave_out_transfer_and_building_terms():
+    """At the logger the record replaces the transfer and the building-flow model, so its
+    P-values use σ_V = √(u_data² + u_LT²); a twin position at the same place, reached through
+    the building model, keeps every term. Check: the logger's P90 equals the twin's P90 when
+    the site states zero transfer and building terms (the same σ_V reached by another path),
+    and the twin's P90 is lower with the stated terms (root sum of squares, IEC 61400-12-1)."""
+    res = _long_term_roof_record()
+    summary = fit.climate_from_series(res.speed_ms, res.direction_deg, res.time_ns,
+                                      height_m=16.0, roughness_m=0.5, source="long_term")
+    clim = dataclasses.replace(summary.climate, measured_at="position", position_id="logger",
+                               long_term_uncertainty=0.05)
+    a = _roof_site(clim)
+    stated = a.uncertainty
+    assert stated.speed_transfer > 0 and stated.speed_building_model > 0
+    t = pipeline.evaluate(a).table.set_index("position_id")
+    zeroed = dataclasses.replace(a, uncertainty=dataclasses.replace(
+        stated, speed_transfer=0.0, speed_building_model=0.0))
+    tz = pipeline.evaluate(zeroed).table.set_index("position_id")
+    assert t.loc["logger", "aep_kwh"] == pytest.approx(t.loc["twin", "aep_kwh"], rel=1e-9)
+    for col in ("p75_aep_kwh", "p90_aep_kwh", "p90_one_year_aep_kwh"):
+        assert t.loc["logger", col] == pytest.approx(tz.loc["twin", col], rel=1e-9)
+        assert t.loc["twin", col] < t.loc["logger", col] <= t.loc["logger", "aep_kwh"]
+        assert t.loc["other", col] < tz.loc["other", col]  # the others keep every term
+
+
+def test_an_uncorrected_position_record_keeps_every_term():
+    """A few months logged at the position and not long-term corrected say nothing of the years
+    they missed: its P-values keep the stated transfer and building-flow terms, so the logger
+    and its twin (same place, same energy) have the same P90."""
+    res = _long_term_roof_record()
+    summary = fit.climate_from_series(res.speed_ms, res.direction_deg, res.time_ns,
+                                      height_m=16.0, roughness_m=0.5, source="measured")
+    clim = dataclasses.replace(summary.climate, measured_at="position", position_id="logger")
+    assert clim.long_term_uncertainty == 0
+    t = pipeline.evaluate(_roof_site(clim)).table.set_index("position_id")
+    assert t.loc["logger", "p90_aep_kwh"] == pytest.approx(t.loc["twin", "p90_aep_kwh"],
+                                                           rel=1e-9)
