@@ -28,6 +28,10 @@ representativeness), so it replaces it rather than adding to it; but only upward
 (:func:`with_climate`): the computed value (regression scatter and reference length) leaves
 out the reference's own drift and consistency, so it may not lower the stated allowance.
 
+At the position where a long-term corrected climate was measured (:func:`logger_row`), the
+record replaces the transfer and building-flow terms, so that row's P-values leave them out
+(:func:`at_logger`, :func:`exceedance_with_logger`); every other position keeps them.
+
 References
 ----------
 IEC 61400-12-1:2017, uncertainty of the annual energy production (combining independent
