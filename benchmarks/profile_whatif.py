@@ -34,6 +34,8 @@ def _listing(prof: cProfile.Profile, top: int) -> str:
     st = pstats.Stats(prof, stream=out)
     st.sort_stats("cumulative").print_stats(top)
     st.sort_stats("tottime").print_stats(top)
+    # the project's own functions, cumulative: which step of the chain or the page
+    st.sort_stats("cumulative").print_stats(r"/(engine|dashboard)/", top)
     return out.getvalue()
 
 

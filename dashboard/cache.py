@@ -31,10 +31,16 @@ def _energy_stage(key: str, _text: str):
 
 
 @st.cache_data(show_spinner=False, max_entries=48)
-def evaluate_text(text: str):
+def evaluate_text(text: str, _assessment=None):
     """Run the chain for a site-file text (each caller gets its own copy); the energy part
-    comes from :func:`_energy_stage` when only money or ranking settings changed."""
-    a = sitefile.loads(text)
+    comes from :func:`_energy_stage` when only money or ranking settings changed.
+
+    ``_assessment`` (not hashed) is the text already read, when the caller holds it (the
+    working copy's last valid assessment, whose text ``text`` is): it spares reading the
+    text again. The site file's round trip is exact (``loads(dumps(a)) == a``, tested), so
+    either way the result for a text is the same.
+    """
+    a = sitefile.loads(text) if _assessment is None else _assessment
     return pipeline.priced(a, _energy_stage(pipeline.energy_key(a), text))
 
 

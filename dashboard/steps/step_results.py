@@ -224,7 +224,7 @@ def results_body() -> None:
         _what_if_controls()
     a = ss["valid"]
     text = state.draft_text()
-    ev = cache.evaluate_text(text)
+    ev = cache.evaluate_text(text, a)
     best = _headline(text, ev.table, a.economics, S, L)
     _all_rows(text, ev.table, S, L)
     dp, dt = _detail(a, ev.table, text, best, S, L)
