@@ -238,12 +238,17 @@ def results_body() -> None:
         # field's message shows beneath it at once.
         state.sync_widgets()
         state.validate()
-    if widgets.editing():
-        _what_if_controls()
+    # The what-if controls stay on top but are drawn after the verdict: their values are in
+    # the working copy already (synced above, or by the app on a whole run), so the answer
+    # reaches the page first.
+    controls = st.container() if widgets.editing() else None
     a = ss["valid"]
     text = state.draft_text()
     ev = cache.evaluate_text(text, a)
     _headline(text, ev.table, a.economics, S, L)
+    if controls is not None:
+        with controls:
+            _what_if_controls()
     _all_rows(text, ev.table, S, L)
     position_detail()
     state.flush_autosave()
