@@ -237,6 +237,12 @@ def _plan_compass(climate, feats, pts) -> dict:
             "prev_deg": prev_deg}
 
 
+def _values(frame: pd.DataFrame) -> dict:
+    """A frame as the inline values Altair would make of it, converted once: a chart drawn
+    from it in several layers (or copied by each method call) does not convert it again."""
+    return alt.utils.data.to_values(frame)
+
+
 def _geo(features):
     return alt.Data(values={"type": "FeatureCollection", "features": features},
                     format=alt.DataFormat(type="json", property="features"))
@@ -264,7 +270,7 @@ def _plan_ground_layers(feats, c, lu, proj) -> list:
         + [{"x": cx, "y": cy + 1.45 * cr, "text": "N"},
            {"x": cx, "y": cy - 1.5 * cr,
             "text": f"wind from {compass_name(c['prev_deg'])}"}])
-    text_l = alt.Chart(labels).mark_text(fontSize=11, color="#333", dy=0).encode(
+    text_l = alt.Chart(_values(labels)).mark_text(fontSize=11, color="#333", dy=0).encode(
         longitude=alt.Longitude("x:Q"), latitude=alt.Latitude("y:Q"),
         text=alt.Text("text:N")).project(**proj)
     return [frame_l, blocks, wedge_l, north_l, text_l]
@@ -273,7 +279,7 @@ def _plan_ground_layers(feats, c, lu, proj) -> list:
 def _plan_point_layers(pts, lu, proj) -> list:
     """Position marks (colour by place, shape by kind), the selection ring and the names."""
     n_rank = max(int(pts["place"].max()), 2)
-    point_base = alt.Chart(pts).encode(
+    point_base = alt.Chart(_values(pts)).encode(
         longitude=alt.Longitude("x:Q"), latitude=alt.Latitude("y:Q"),
         tooltip=[alt.Tooltip("position_id:N", title="position"),
                  alt.Tooltip("kind_name:N", title="kind"),
