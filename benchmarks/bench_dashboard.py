@@ -8,6 +8,8 @@
      energy stage and re-runs only the money, ranking and verdicts
      (``engine.chain.pipeline.priced``);
    * an energy what-if (a mast height typed and Enter pressed): the whole chain runs again.
+   For each kind also the time until the run has finished drawing the rest of the page (the
+   tables, the plan and the chart; no element left stale), which the verdict precedes.
    Beside them a full-page rerun of the same page: the length unit switched in the sidebar,
    until the ranked table shows the new unit. Also the time the chain itself takes, whole
    (``pipeline.evaluate``) and money-only on a kept stage (``pipeline.priced``), and the
