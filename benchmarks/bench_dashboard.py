@@ -8,6 +8,8 @@
      energy stage and re-runs only the money, ranking and verdicts
      (``engine.chain.pipeline.priced``);
    * an energy what-if (a mast height typed and Enter pressed): the whole chain runs again.
+   For each kind also the time until the run has finished drawing the rest of the page (the
+   tables, the plan and the chart; no element left stale), which the verdict precedes.
    Beside them a full-page rerun of the same page: the length unit switched in the sidebar,
    until the ranked table shows the new unit. Also the time the chain itself takes, whole
    (``pipeline.evaluate``) and money-only on a kept stage (``pipeline.priced``), and the
@@ -36,6 +38,13 @@ TARGET_MS = 120.0
 HEADER_HAS = """(unit) => {
   const head = document.querySelector('[data-testid="stTable"] thead');
   return head !== null && head.innerText.includes(unit);
+}"""
+#: The run has finished and nothing on the page is left over from the one before (a stale
+#: element is drawn faded until the run that replaces it ends).
+SETTLED = """() => {
+  const app = document.querySelector('[data-testid="stApp"]');
+  return app !== null && app.getAttribute('data-test-script-state') === 'notRunning'
+    && document.querySelector('[data-stale="true"]') === null;
 }"""
 HEADLINE_HAS = """(text) => Array.from(
   document.querySelectorAll('[data-testid="stMarkdownContainer"] strong')).some(
@@ -143,9 +152,10 @@ def expected_headlines(values: dict) -> dict:
 
 def what_if_ms(page, field, kind: str, values, heads: dict, pid: int) -> tuple:
     """Round trips [ms] of changes of one field to each of ``values[1:]``, each until the
-    page's headline is the engine's for the new value, and the server's CPU per change [ms];
-    the field is set back to ``values[0]`` at the end (not timed)."""
-    times = []
+    page's headline is the engine's for the new value, the server's CPU per change [ms], and
+    the time [ms] until that run had finished drawing the rest of the page (the tables, the
+    plan, the chart); the field is set back to ``values[0]`` at the end (not timed)."""
+    times, settled = [], []
     cpu0 = cpu_s(pid)
     for v in values[1:]:
         field.fill(f"{v:g}")
@@ -156,6 +166,8 @@ def what_if_ms(page, field, kind: str, values, heads: dict, pid: int) -> tuple:
         page.wait_for_function(HEADLINE_HAS, arg=heads[kind, v], polling="raf",
                                timeout=20000)
         times.append((time.perf_counter() - t0) * 1000)
+        page.wait_for_function(SETTLED, polling="raf", timeout=20000)
+        settled.append((time.perf_counter() - t0) * 1000)
         # let the run finish, as a person reading the new verdict would, before the next
         page.wait_for_timeout(1500)
         page.wait_for_selector(IDLE, state="attached")
@@ -165,15 +177,15 @@ def what_if_ms(page, field, kind: str, values, heads: dict, pid: int) -> tuple:
     page.wait_for_function(HEADLINE_HAS, arg=heads[kind, values[0]], polling="raf",
                            timeout=20000)
     page.wait_for_selector(IDLE, state="attached")
-    return times, cpu
+    return times, cpu, settled
 
 
-def _line(name: str, times: list, cpu: float) -> str:
+def _line(name: str, times: list, cpu: float, settled: list) -> str:
     med = statistics.median(times)
     return (f"  {name} -> updated verdict: median {med:.0f} ms of {len(times)} (min "
             f"{min(times):.0f}, max {max(times):.0f}); ratio to the {TARGET_MS:.0f} ms target "
-            f"{med / TARGET_MS:.2f}; server CPU per change (incl. the idle 1.5 s after it) "
-            f"{cpu:.0f} ms")
+            f"{med / TARGET_MS:.2f}; whole page drawn: median {statistics.median(settled):.0f}"
+            f" ms; server CPU per change (incl. the idle 1.5 s after it) {cpu:.0f} ms")
 
 
 def _browser_part(port: int, pid: int, heads: dict, n_timed: int, n_memory: int) -> dict:
@@ -224,13 +236,13 @@ def main(n_timed: int = 15, n_memory: int = 100) -> int:
     finally:
         stop(proc)
     whole, money = chain_ms()
-    price_t, price_cpu = got["price"]
-    mast_t, mast_cpu = got["mast"]
+    price_t, price_cpu, price_settled = got["price"]
+    mast_t, mast_cpu, mast_settled = got["mast"]
     med_p, med_m, med_full = (statistics.median(x) for x in (price_t, mast_t, got["full"]))
     before, after, memory_s = got["memory"]
     print("Dashboard benchmark (demo site, headless Chromium, this machine)")
-    print(_line("money what-if (import price)", price_t, price_cpu))
-    print(_line("energy what-if (mast height)", mast_t, mast_cpu))
+    print(_line("money what-if (import price)", price_t, price_cpu, price_settled))
+    print(_line("energy what-if (mast height)", mast_t, mast_cpu, mast_settled))
     print(f"  full-page rerun (length unit switched) -> updated ranking: median "
           f"{med_full:.0f} ms of {len(got['full'])}")
     print(f"  ratios in this run: money / energy what-if {med_p / med_m:.2f}; money what-if / "

@@ -6,8 +6,10 @@ kept entries is bounded so a long client session cannot grow the server's memory
 """
 from __future__ import annotations
 
+import json
 from pathlib import Path
 
+import numpy as np
 import streamlit as st
 
 from engine.chain import pipeline
@@ -31,18 +33,27 @@ def _energy_stage(key: str, _text: str):
 
 
 @st.cache_data(show_spinner=False, max_entries=48)
-def evaluate_text(text: str):
+def evaluate_text(text: str, _assessment=None):
     """Run the chain for a site-file text (each caller gets its own copy); the energy part
-    comes from :func:`_energy_stage` when only money or ranking settings changed."""
-    a = sitefile.loads(text)
+    comes from :func:`_energy_stage` when only money or ranking settings changed.
+
+    ``_assessment`` (not hashed) is the text already read, when the caller holds it (the
+    working copy's last valid assessment, whose text ``text`` is): it spares reading the
+    text again. The site file's round trip is exact (``loads(dumps(a)) == a``, tested), so
+    either way the result for a text is the same.
+    """
+    a = sitefile.loads(text) if _assessment is None else _assessment
     return pipeline.priced(a, _energy_stage(pipeline.energy_key(a), text))
 
 
 @st.cache_data(show_spinner=False, max_entries=48)
 def chart_keys(text: str) -> dict:
-    """What each chart of the results depends on, as short content keys: the energy stage
-    for the climate and position charts, and the ranked order with exclusions too for the
-    plan and the ranking bars, so a what-if that leaves them unchanged redraws nothing new."""
+    """What each chart of the results depends on, as short content keys, so a what-if that
+    leaves a chart's content unchanged redraws nothing new: the reference climate and the
+    air density for the wind rose; each position's sector frequencies and hub Weibull
+    parameters for its speed distribution (``hub``, by position id); the energy stage for
+    the other position charts; and the ranked order with exclusions too for the plan and
+    the ranking bars."""
     import hashlib
 
     import pandas as pd
@@ -52,7 +63,14 @@ def chart_keys(text: str) -> dict:
                         "p50_aep_kwh", "p90_aep_kwh") if c in ev.table]
     order = hashlib.sha256(pd.util.hash_pandas_object(ev.table[cols], index=False)
                            .to_numpy().tobytes()).hexdigest()
-    return {"energy": energy, "ranked": f"{energy}:{order}"}
+    climate = json.dumps([sitefile.assessment_to_dict(ev.assessment)["climate"],
+                          float(ev.climate.air_density_kgm3)], sort_keys=True)
+    eff = ev.climate
+    hub = {pid: hashlib.sha256(b"".join(np.ascontiguousarray(x[i], float).tobytes() for x in
+                                        (eff.frequency, eff.weibull_k, eff.weibull_c_ms))
+                               ).hexdigest() for i, pid in enumerate(eff.position_ids)}
+    return {"energy": energy, "ranked": f"{energy}:{order}",
+            "climate": hashlib.sha256(climate.encode("utf-8")).hexdigest(), "hub": hub}
 
 
 @st.cache_data(show_spinner=False, max_entries=48)
@@ -122,7 +140,19 @@ def chart_spec(kind: str, text: str, speed_unit: str, length_unit: str,
                position_id: str = "", turbine_id: str = "") -> dict:
     """Vega-Lite spec of one chart of the results, cached on the content it draws
     (:func:`chart_keys`), not on the whole site-file text."""
-    key = chart_keys(text)["ranked" if kind in RANKED_CHARTS else "energy"]
+    keys = chart_keys(text)
+    if kind in RANKED_CHARTS:
+        key = keys["ranked"]
+    elif kind == "rose":
+        key, position_id = keys["climate"], ""
+    elif kind == "dist" and position_id in keys["hub"]:
+        key = keys["hub"][position_id]
+    else:
+        key = keys["energy"]
+    if kind in ("plan", "bars", "rose", "dist"):
+        turbine_id = ""  # not drawn: another turbine picked finds the same chart
+    if kind == "bars":
+        position_id = ""
     return _chart_spec(kind, key, speed_unit, length_unit, position_id, turbine_id, text)
 
 

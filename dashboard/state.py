@@ -375,7 +375,7 @@ def draft_text() -> str:
 
 def evaluation():
     """Evaluation of the last valid assessment (cached on its site-file text)."""
-    return cache.evaluate_text(draft_text())
+    return cache.evaluate_text(draft_text(), st.session_state["valid"])
 
 
 # ---------------------------------------------------------------- what-if scenarios

@@ -1,9 +1,11 @@
 """Step 5: ranked positions, the plan, a position's detail and the what-if controls.
 
-Everything below the banner is one fragment: a what-if change, a position picked in the plan
-or a chart chosen reruns this part alone (the evaluation and the chart specs come from the
-caches), and the whole page runs again only when the steps' state changes, so the sidebar's
-marks and the banner stay true.
+Everything below the banner is one fragment, ``results_body``: a what-if change reruns it
+alone (the evaluation and the chart specs come from the caches, keyed by content), and the
+whole page runs again only when the steps' state changes, so the sidebar's marks and the
+banner stay true. Inside it, ``position_detail`` (the plan, one position's figures and its
+chart) is a fragment of its own: a position or turbine picked, a click on the plan or another
+chart reruns that part alone, not the headline and the tables above it.
 """
 import numpy as np
 import streamlit as st
@@ -78,11 +80,16 @@ def _what_if_controls() -> None:
                            "ranking.apply_noise_limits", scope="whatif")
 
 
+def _leading(table):
+    """The first allowed row of the ranked table, or None when every row is excluded."""
+    ok = table[~table["excluded"]]
+    return ok.iloc[0] if len(ok) else None
+
+
 def _headline(text: str, table, economics, S: str, L: str):
     """The verdict, the leading allowed row as metrics (named with its verdict, never
-    "best"), then the top five; returns that row (or None)."""
-    ok = table[~table["excluded"]]
-    best = ok.iloc[0] if len(ok) else None
+    "best"), then the top five; returns that row (None when every row is excluded)."""
+    best = _leading(table)
     st.markdown(f"**{widgets.plain(headline(table, economics))}**")  # it quotes ids and names
     # the first column wider: its label carries the verdict, which must not be cut short
     c1, c2, c3, c4 = st.columns([1.5, 1, 1, 1])
@@ -213,6 +220,18 @@ def _chart(text: str, dp: str, dt: str, S: str, L: str) -> None:
 
 
 @st.fragment
+def position_detail() -> None:
+    """The plan, one position's figures and a chart of it, from the cached evaluation of
+    the working copy (the same one the headline above was drawn from)."""
+    S, L = state.units_now()
+    a = ss["valid"]
+    text = state.draft_text()
+    table = cache.evaluate_text(text, a).table
+    dp, dt = _detail(a, table, text, _leading(table), S, L)
+    _chart(text, dp, dt, S, L)
+
+
+@st.fragment
 def results_body() -> None:
     S, L = state.units_now()
     if not ss.get("full_run", True):
@@ -220,15 +239,19 @@ def results_body() -> None:
         # field's message shows beneath it at once.
         state.sync_widgets()
         state.validate()
-    if widgets.editing():
-        _what_if_controls()
+    # The what-if controls stay on top but are drawn after the verdict: their values are in
+    # the working copy already (synced above, or by the app on a whole run), so the answer
+    # reaches the page first.
+    controls = st.container() if widgets.editing() else None
     a = ss["valid"]
     text = state.draft_text()
-    ev = cache.evaluate_text(text)
+    ev = cache.evaluate_text(text, a)
     best = _headline(text, ev.table, a.economics, S, L)
+    if controls is not None:
+        with controls:
+            _what_if_controls()
     _all_rows(text, ev.table, S, L)
-    dp, dt = _detail(a, ev.table, text, best, S, L)
-    _chart(text, dp, dt, S, L)
+    position_detail()
     series_view.render(ev, best)
     state.flush_autosave()
     if not ss.get("full_run", True) and state.status_signature() != ss.get("drawn_status"):

@@ -33,6 +33,7 @@ import pandas as pd
 
 #: Sample heights across a window, as fractions of its height from its centre.
 WINDOW_SAMPLES = (-0.5, 0.0, 0.5)
+MIDDLE = WINDOW_SAMPLES.index(0.0)
 
 CAUTION = ("Shadow flicker is estimated from the sun's path and the rotor's size; the "
            "astronomical worst case assumes constant sunshine and a rotor always face-on to "
@@ -57,6 +58,29 @@ def sun_path(latitude_deg, longitude_deg, year, step_min, altitude_m=0.0):
                                                altitude=altitude_m)
     up = sp["apparent_elevation"].to_numpy() > 0.0
     return (times[up], sp["azimuth"].to_numpy()[up], sp["apparent_elevation"].to_numpy()[up])
+
+
+@functools.lru_cache(maxsize=8)
+def sun_steps(latitude_deg, longitude_deg, year, step_min, altitude_m, min_elevation_deg):
+    """The sun steps that can cast a shadow (at least ``min_elevation_deg`` up), kept for
+    the site: a what-if that moves a rotor or a window reuses them.
+
+    Returns
+    -------
+    sun : (N, 3) unit vectors towards the sun (:func:`sun_vectors`)
+    day : (N,) local solar day of the year, 0-based (UTC shifted by longitude / 15 h)
+    month : (N,) local month, 1-12
+
+    The arrays are read-only (shared by every caller).
+    """
+    times, az, el = sun_path(latitude_deg, longitude_deg, year, step_min, altitude_m)
+    keep = el >= min_elevation_deg
+    local = times[keep] + pd.to_timedelta(longitude_deg / 15.0, unit="h")
+    out = (sun_vectors(az[keep], el[keep]), local.day_of_year.to_numpy() - 1,
+           local.month.to_numpy())
+    for arr in out:
+        arr.flags.writeable = False
+    return out
 
 
 def sun_vectors(azimuth_deg, elevation_deg):
@@ -120,7 +144,8 @@ class FlickerResult:
     daily_minutes: np.ndarray      # (P, T, W, 366) worst case per day of year [min]
 
 
-def _sunshine(settings, months):
+def sunshine_share(settings, months):
+    """Fraction of daylight with direct sun at each step [-], from its local month (1-12)."""
     frac = np.asarray(settings.sunshine_fraction, float)
     return np.full(months.shape, frac[0]) if frac.size == 1 else frac[months - 1]
 
@@ -130,72 +155,164 @@ def window_flicker(hub_xyz_m, windows, turbines, climate, site, settings) -> Fli
 
     ``climate`` gives ``frequency``, ``weibull_k``, ``weibull_c_ms`` (P, S) at each hub and
     ``sector_deg`` (S,); ``site`` its ``origin_lat_deg``, ``origin_lon_deg``, ``altitude_m``.
+
+    Notes
+    -----
+    Worked over every position x turbine x window x sun step at once, on the few sun steps
+    that can hit (:func:`cone_candidates`); the hit tests are the exact ones of
+    :func:`disc_hit` and :func:`cylinder_hit` on those steps, so the result is the same as
+    testing every step.
     """
     P, T, W = len(hub_xyz_m), len(turbines), len(windows)
-    times, az, el = sun_path(float(site.origin_lat_deg), float(site.origin_lon_deg),
-                             int(settings.year), float(settings.time_step_min),
-                             float(site.altitude_m))
-    keep = el >= settings.min_sun_elevation_deg
-    sun, times = sun_vectors(az[keep], el[keep]), times[keep]
-    local = times + pd.to_timedelta(float(site.origin_lon_deg) / 15.0, unit="h")
-    day = local.day_of_year.to_numpy() - 1
-    sunny = _sunshine(settings, local.month.to_numpy())
-    facing = np.radians([w.facing_deg for w in windows])
-    normal = np.stack([np.sin(facing), np.cos(facing), np.zeros(W)], -1)          # (W, 3)
-    in_front = sun @ normal.T > 0                                                   # (N, W)
-    k = np.asarray(WINDOW_SAMPLES)
-    win = np.array([[w.x_m, w.y_m, w.height_m] for w in windows], float)
-    pts = np.repeat(win[:, None, :], len(k), 1)
-    pts[..., 2] += k[None, :] * np.array([w.window_height_m for w in windows])[:, None]
-    offset = np.asarray(hub_xyz_m, float)[:, None, None, :] - pts[None]           # (P, W, K, 3)
-    dist = np.sqrt(np.sum(offset[:, :, 1] ** 2, -1))                                # (P, W)
-    step_h = settings.time_step_min / 60.0
-    worst = np.zeros((P, T, W))
-    expected = np.zeros((P, T, W))
-    daily = np.zeros((P, T, W, 366))
-    op = _operating_share(climate, turbines)                                        # (P, T, S)
+    sun, day, month = sun_steps(float(site.origin_lat_deg), float(site.origin_lon_deg),
+                                int(settings.year), float(settings.time_step_min),
+                                float(site.altitude_m), float(settings.min_sun_elevation_deg))
+    normal, offset, dist = _window_geometry(hub_xyz_m, windows)      # (W,3), (P,W,K,3), (P,W)
+    radius = np.array([tb.rotor_radius_m for tb in turbines], float)                # (T,)
+    near = dist[:, :, None] <= settings.max_distance_rotor_diameters * 2.0 * radius  # (P,W,T)
+    reach = np.max(np.abs(WINDOW_SAMPLES)) * np.array([w.window_height_m for w in windows])
+    bound = np.where(near, _bounding_radius_m(turbines)[None, None, :], 0.0).max(-1) + reach
+    n, pw = cone_candidates(offset[:, :, MIDDLE].reshape(P * W, 3), sun, bound.ravel(),
+                            near.any(-1).ravel(), sun @ normal.T > 0, W)
     theta = np.radians(np.asarray(climate.sector_deg, float))
     axes = np.stack([np.sin(theta), np.cos(theta), np.zeros_like(theta)], -1)       # (S, 3)
-    bins = (np.arange(W)[:, None] * 366 + day[None, :]).ravel()
-    # One block per position and turbine (a handful each), vectorised over windows and times.
-    for p in range(P):
-        for j, tb in enumerate(turbines):
-            radius = tb.rotor_radius_m
-            near = dist[p] <= settings.max_distance_rotor_diameters * 2.0 * radius  # (W,)
-            hit_any, hit_sector = _hits(offset[p], sun, tb, radius, axes)   # (W, N), (W, N, S)
-            ok = hit_any & in_front.T & near[:, None]
-            worst[p, j] = ok.sum(-1) * step_h
-            daily[p, j] = np.bincount(bins, ok.ravel(), minlength=W * 366).reshape(W, 366) \
-                * settings.time_step_min
-            share = hit_sector.astype(float) @ (climate.frequency[p] * op[p, j])   # (W, N)
-            expected[p, j] = np.sum(np.where(ok, share * sunny, 0.0), -1) * step_h
+    hit, sector = _exact_hits(offset.reshape(P * W, -1, 3)[pw], sun[n], turbines, axes)
+    pos, win = np.divmod(pw, W)
+    ok = hit & near[pos, win]                                                           # (C, T)
+    # expected share of a hit: sum over the sectors that shade of frequency x turning share
+    weight = np.asarray(climate.frequency, float)[:, None, :] * operating_share(
+        climate, turbines)                                                          # (P,T,S)
+    share = np.einsum("cst,cts->ct", sector.astype(float), weight[pos])
+    c, j = np.nonzero(ok)
+    cell = (pos[c] * T + j) * W + win[c]                                  # flat (P, T, W) index
+    step_h = settings.time_step_min / 60.0
+    worst = np.bincount(cell, minlength=P * T * W).reshape(P, T, W) * step_h
+    daily = np.bincount(cell * 366 + day[n[c]], minlength=P * T * W * 366).reshape(
+        P, T, W, 366) * settings.time_step_min
+    sunny = sunshine_share(settings, month)
+    expected = np.bincount(cell, weights=share[c, j] * sunny[n[c]],
+                           minlength=P * T * W).reshape(P, T, W) * step_h
     return FlickerResult(window_ids=tuple(w.id for w in windows), worst_hours=worst,
                          worst_day_minutes=daily.max(-1), expected_hours=expected,
                          daily_minutes=daily)
 
 
-def _hits(offset, sun, turbine, radius, axes):
-    """Worst-case hits (W, N) and per-sector hits (W, N, S) at one position, any window sample.
+def _window_geometry(hub_xyz_m, windows):
+    """Window normals (W, 3), hub minus each window sample (P, W, K, 3) [m] and the distance
+    from each window's middle to each hub (P, W) [m]."""
+    W = len(windows)
+    facing = np.radians([w.facing_deg for w in windows])
+    normal = np.stack([np.sin(facing), np.cos(facing), np.zeros(W)], -1)
+    k = np.asarray(WINDOW_SAMPLES)
+    win = np.array([[w.x_m, w.y_m, w.height_m] for w in windows], float).reshape(W, 3)
+    pts = np.repeat(win[:, None, :], len(k), 1)
+    pts[..., 2] += k[None, :] * np.array([w.window_height_m for w in windows])[:, None]
+    offset = np.asarray(hub_xyz_m, float).reshape(-1, 3)[:, None, None, :] - pts[None]
+    dist = np.sqrt(np.sum(offset[:, :, MIDDLE] ** 2, -1))
+    return normal, offset, dist
 
-    ``offset`` (W, K, 3) hub minus window samples, ``sun`` (N, 3), ``axes`` (S, 3).
+
+def _bounding_radius_m(turbines):
+    """Radius of a sphere about the hub holding the whole rotor [m], (T,): the disc's radius,
+    or for a vertical axis sqrt(r² + (h/2)²) around the cylinder of :func:`cylinder_hit`."""
+    out = []
+    for tb in turbines:
+        r = tb.rotor_radius_m
+        h = (tb.rotor_height_m or 2.0 * r) if tb.axis == "vertical" else 0.0
+        out.append(float(np.hypot(r, h / 2.0)))
+    return np.array(out, float)
+
+
+#: Slack on the cone test's cosine: the exact hit tests decide; this only keeps every step
+#: they could accept (rounding differences are ~1e-15).
+CONE_SLACK = 1e-9
+#: Elements of the (sun steps x window samples) cosine block worked at once.
+CONE_BLOCK = 1 << 20
+
+
+def cone_candidates(offset_m, sun, bound_m, use, in_front, n_windows):
+    """Sun steps that can put a window in a rotor's shadow, as (step, pair) index arrays.
+
+    Parameters
+    ----------
+    offset_m : (M, 3) hub minus the window's middle, M = positions x windows [m]
+    sun : (N, 3) unit vectors towards the sun
+    bound_m : (M,) radius of a sphere about the hub holding the rotor, plus the largest
+        distance of a window sample from the middle [m]
+    use : (M,) pairs to look at (the window within reach of some turbine)
+    in_front : (N, W) the sun in front of each window; pair m is window ``m % n_windows``
+
+    Returns
+    -------
+    step, pair : int arrays, C each, pairs ascending within a step.
+
+    Notes
+    -----
+    A ray that passes within r of the hub from a sample a distance δ from the middle passes
+    within b = r + δ of it from the middle (the rays are parallel). From a distance L > b
+    such a ray points within asin(b / L) of the hub: s·D / L >= sqrt(1 - b²/L²). Every hit
+    of :func:`disc_hit` (r the rotor radius) and :func:`cylinder_hit` (r = sqrt(r_c² +
+    (h/2)²), the cylinder's bounding sphere) passes this test; a window within b of the hub
+    keeps every step in front of it.
     """
-    off = offset[:, :, None, :]                                                     # (W, K, 1, 3)
-    s = sun[None, None]                                                             # (1, 1, N, 3)
-    if turbine.axis == "vertical":
-        h = turbine.rotor_height_m or 2.0 * radius
-        hit = cylinder_hit(off, s, radius, h).any(1)
-        return hit, np.repeat(hit[..., None], len(axes), -1)
-    worst = disc_hit(off, s, radius).any(1)
-    sector = np.zeros(worst.shape + (len(axes),), bool)
-    cand = np.nonzero(worst)
-    if cand[0].size:
-        o = offset[cand[0]]                                                         # (C, K, 3)
-        ss = sun[cand[1]][:, None, None, :]                                         # (C, 1, 1, 3)
-        sector[cand] = disc_hit(o[:, :, None, :], ss, radius, axes[None, None]).any(1)
+    length = np.sqrt(np.sum(offset_m ** 2, -1))                                        # (M,)
+    b = np.asarray(bound_m, float)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        cos_min = np.where(length > b, np.sqrt(np.maximum(1.0 - (b / length) ** 2, 0.0)),
+                           -2.0) - CONE_SLACK
+        unit = offset_m / length[:, None]
+    pairs = np.flatnonzero(use)
+    steps, found = [np.zeros(0, int)], [np.zeros(0, int)]
+    per = max(1, CONE_BLOCK // max(len(sun), 1))
+    for lo in range(0, len(pairs), per):  # blocks of pairs, each over every sun step
+        m = pairs[lo:lo + per]
+        keep = (sun @ unit[m].T >= cos_min[m]) & in_front[:, m % n_windows]     # (N, B)
+        s, i = np.nonzero(keep)
+        steps.append(s)
+        found.append(m[i])
+    return np.concatenate(steps), np.concatenate(found)
+
+
+#: Candidate rays worked at once by the exact hit tests.
+HIT_BLOCK = 8192
+
+
+def _exact_hits(offset_m, sun, turbines, axes):
+    """Worst-case hits (C, T) and per-sector hits (C, S, T) of candidate rays, any sample.
+
+    ``offset_m`` (C, K, 3) hub minus window samples, ``sun`` (C, 3), ``axes`` (S, 3). The
+    sector hits are those of the disc facing each sector's wind among the worst-case hits; a
+    vertical axis shades alike from every sector.
+    """
+    C, T, S = len(offset_m), len(turbines), len(axes)
+    worst = np.zeros((C, T), bool)
+    sector = np.zeros((C, S, T), bool)
+    vert = np.array([tb.axis == "vertical" for tb in turbines], bool)
+    radius = np.array([tb.rotor_radius_m for tb in turbines], float)
+    height = np.array([tb.rotor_height_m or 2.0 * tb.rotor_radius_m for tb in turbines])
+    flat = axes[None, None, :, None, :]                                      # (1, 1, S, 1, 3)
+    for lo in range(0, C, HIT_BLOCK):
+        o = offset_m[lo:lo + HIT_BLOCK, :, None, :]                               # (B, K, 1, 3)
+        s = sun[lo:lo + HIT_BLOCK, None, None, :]                                 # (B, 1, 1, 3)
+        part = slice(lo, lo + HIT_BLOCK)
+        if vert.any():
+            hit = cylinder_hit(o, s, radius[vert], height[vert]).any(1)         # (B, Tv)
+            worst[part, vert] = hit
+            sector[part][..., vert] = hit[:, None, :]
+        if (~vert).any():
+            hit = disc_hit(o, s, radius[~vert]).any(1)                          # (B, Th)
+            worst[part, ~vert] = hit
+            rows = np.flatnonzero(hit.any(-1))
+            if rows.size:
+                by_axis = disc_hit(o[rows][:, :, :, None, :], s[rows][:, :, :, None, :],
+                                   radius[~vert], flat).any(1)                  # (R, S, Th)
+                sub = np.zeros((len(hit), S, hit.shape[1]), bool)
+                sub[rows] = by_axis & hit[rows][:, None, :]
+                sector[part][:, :, ~vert] = sub
     return worst, sector
 
 
-def _operating_share(climate, turbines):
+def operating_share(climate, turbines):
     """Share of each sector's time the rotor turns: F(cut-out) - F(cut-in), (P, T, S)."""
     k = np.asarray(climate.weibull_k, float)[:, None, :]
     c = np.asarray(climate.weibull_c_ms, float)[:, None, :]

@@ -237,6 +237,12 @@ def _plan_compass(climate, feats, pts) -> dict:
             "prev_deg": prev_deg}
 
 
+def _values(frame: pd.DataFrame) -> dict:
+    """A frame as the inline values Altair would make of it, converted once: a chart drawn
+    from it in several layers (or copied by each method call) does not convert it again."""
+    return alt.utils.data.to_values(frame)
+
+
 def _geo(features):
     return alt.Data(values={"type": "FeatureCollection", "features": features},
                     format=alt.DataFormat(type="json", property="features"))
@@ -264,16 +270,17 @@ def _plan_ground_layers(feats, c, lu, proj) -> list:
         + [{"x": cx, "y": cy + 1.45 * cr, "text": "N"},
            {"x": cx, "y": cy - 1.5 * cr,
             "text": f"wind from {compass_name(c['prev_deg'])}"}])
-    text_l = alt.Chart(labels).mark_text(fontSize=11, color="#333", dy=0).encode(
-        longitude="x:Q", latitude="y:Q", text="text:N").project(**proj)
+    text_l = alt.Chart(_values(labels)).mark_text(fontSize=11, color="#333", dy=0).encode(
+        longitude=alt.Longitude("x:Q"), latitude=alt.Latitude("y:Q"),
+        text=alt.Text("text:N")).project(**proj)
     return [frame_l, blocks, wedge_l, north_l, text_l]
 
 
 def _plan_point_layers(pts, lu, proj) -> list:
     """Position marks (colour by place, shape by kind), the selection ring and the names."""
     n_rank = max(int(pts["place"].max()), 2)
-    point_base = alt.Chart(pts).encode(
-        longitude="x:Q", latitude="y:Q",
+    point_base = alt.Chart(_values(pts)).encode(
+        longitude=alt.Longitude("x:Q"), latitude=alt.Latitude("y:Q"),
         tooltip=[alt.Tooltip("position_id:N", title="position"),
                  alt.Tooltip("kind_name:N", title="kind"),
                  alt.Tooltip("place:Q", title="position order"),
@@ -300,7 +307,7 @@ def _plan_point_layers(pts, lu, proj) -> list:
         size=650, stroke="#d62", strokeWidth=3, filled=False).project(**proj)
     # Names slant up and to the right of their markers so close neighbours stay readable.
     names = point_base.mark_text(angle=330, align="left", dx=8, dy=-6, fontSize=10,
-                                 color="#123").encode(text="position_id:N").project(**proj)
+                                 color="#123").encode(text=alt.Text("position_id:N")).project(**proj)
     return [dots, ring, names]
 
 
@@ -374,7 +381,7 @@ def wind_rose(climate, air_density_kgm3: float = 1.225, size: int = 240) -> alt.
 
     def rose(field, title, colour):
         return alt.Chart(df).mark_arc(stroke="white", strokeWidth=1, color=colour).encode(
-            theta=alt.Theta("t0:Q", scale=None), theta2="t1:Q",
+            theta=alt.Theta("t0:Q", scale=None), theta2=alt.Theta2("t1:Q"),
             # explicit range: a concatenated view has no single width to size the radius by
             radius=alt.Radius(f"{field}:Q", scale=alt.Scale(type="sqrt", zero=True,
                                                             range=[0, size / 2 - 18])),
@@ -386,7 +393,7 @@ def wind_rose(climate, air_density_kgm3: float = 1.225, size: int = 240) -> alt.
                            "text": ["N", "E", "S", "W"]})
     lab = alt.Chart(labels).mark_text(radius=size / 2 - 6, fontSize=12, fontWeight="bold",
                                       color="#555").encode(
-        theta=alt.Theta("t:Q", scale=None), text="text:N")
+        theta=alt.Theta("t:Q", scale=None), text=alt.Text("text:N"))
     return alt.hconcat(alt.layer(rose("frequency", "time from each sector", ACCENT), lab),
                        alt.layer(rose("energy_share", "wind energy from each sector",
                                       RANGE_COLOUR), lab))
@@ -396,12 +403,12 @@ def speed_distribution(evaluation, position_id: str, speed_unit: str = "m/s") ->
     """Speed distribution at a position's hub: bin probabilities and the Weibull density."""
     df = hub_distribution(evaluation, position_id, speed_unit)
     bars = alt.Chart(df).mark_bar(color="#8cc0d8", opacity=0.9).encode(
-        x=alt.X("lo:Q", title=f"wind speed at hub ({speed_unit})"), x2="hi:Q",
+        x=alt.X("lo:Q", title=f"wind speed at hub ({speed_unit})"), x2=alt.X2("hi:Q"),
         y=alt.Y("probability:Q", title="share of the year per bin", axis=alt.Axis(format="%")),
         tooltip=[alt.Tooltip("speed:Q", format=".1f"),
                  alt.Tooltip("probability:Q", format=".2%")])
     line = alt.Chart(df).mark_line(color=ACCENT, strokeWidth=2).encode(
-        x="speed:Q", y="density_per_bin:Q")
+        x=alt.X("speed:Q"), y=alt.Y("density_per_bin:Q"))
     return alt.layer(bars, line).properties(
         width=460, height=260,
         title=f"Speed distribution at {position_id}: bins (bars), sector Weibull mixture (line)")
@@ -429,7 +436,7 @@ def vertical_profile(evaluation, position_id: str, turbine_id: str, length_unit:
                       "colour": RANGE_COLOUR})
     bdf = pd.DataFrame(bands)
     layers.append(alt.Chart(bdf).mark_rect(opacity=0.18).encode(
-        y="bottom:Q", y2="top:Q", x=alt.value(0), x2=alt.value(380),
+        y=alt.Y("bottom:Q"), y2=alt.Y2("top:Q"), x=alt.XValue(0), x2=alt.X2Value(380),
         color=alt.Color("colour:N", scale=None),
         tooltip=[alt.Tooltip("name:N"), alt.Tooltip("bottom:Q", format=".1f"),
                  alt.Tooltip("top:Q", format=".1f")]))
@@ -442,11 +449,11 @@ def vertical_profile(evaluation, position_id: str, turbine_id: str, length_unit:
         x=alt.X("speed:Q", title=f"mean speed, undisturbed ({speed_unit})",
                 scale=alt.Scale(domain=[0, vmax])),
         y=alt.Y("height:Q", title=f"height above ground ({length_unit})")))
-    layers.append(alt.Chart(ldf).mark_rule(strokeDash=[4, 3], color="#7a6a48").encode(y="h:Q"))
+    layers.append(alt.Chart(ldf).mark_rule(strokeDash=[4, 3], color="#7a6a48").encode(y=alt.Y("h:Q")))
     layers.append(alt.Chart(ldf).mark_text(align="left", dx=4, dy=-6, color="#7a6a48").encode(
-        y="h:Q", x=alt.value(4), text="name:N"))
+        y=alt.Y("h:Q"), x=alt.XValue(4), text=alt.Text("name:N")))
     layers.append(alt.Chart(bdf).mark_text(align="right", dx=-4, color="#333").encode(
-        y="top:Q", x=alt.value(376), text="name:N"))
+        y=alt.Y("top:Q"), x=alt.XValue(376), text=alt.Text("name:N")))
     return alt.layer(*layers).properties(
         width=380, height=320, title=f"Vertical profile at {position_id} with {turbine_id}")
 
@@ -522,9 +529,9 @@ def ranking_bars(table: pd.DataFrame, top: int = 12) -> alt.LayerChart:
     layers = [bars]
     if "p90_aep_kwh" in df:
         layers.append(alt.Chart(df).mark_rule(color=RANGE_COLOUR, strokeWidth=3).encode(
-            y=y, x="p90_aep_kwh:Q", x2=f"{centre}:Q"))
+            y=y, x=alt.X("p90_aep_kwh:Q"), x2=alt.X2(f"{centre}:Q")))
         layers.append(alt.Chart(df).mark_tick(color=RANGE_COLOUR, thickness=3).encode(
-            y=y, x="p90_aep_kwh:Q"))
+            y=y, x=alt.X("p90_aep_kwh:Q")))
     title = ("Ranking: bars P50, orange line down to P90" if "p90_aep_kwh" in df
              else "Ranking: net energy per year")
     return alt.layer(*layers).properties(width=460, height=max(160, 24 * len(df)), title=title)

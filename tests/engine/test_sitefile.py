@@ -31,6 +31,19 @@ def test_save_then_load_equals(tmp_path):
     assert sitefile.content_hash(sitefile.load(out)) == sitefile.content_hash(a)
 
 
+@pytest.mark.parametrize("mast_m, price", [(8.3, 0.271), (3.1, 0.1 + 0.2), (12.7, 1 / 3)])
+def test_round_trip_of_a_changed_working_copy_is_equal(demo_dict, mast_m, price):
+    """A working copy changed by what-ifs, read from its dict and then from its own text,
+    gives equal assessments (the dashboard evaluates the text with the assessment it was
+    written from); floats keep every bit (JSON's shortest repr, Python's float parsing)."""
+    demo_dict["positions"][0]["mast_height_m"] = mast_m
+    demo_dict["economics"]["tariff_per_kwh"] = price
+    a = sitefile.assessment_from_dict(demo_dict)
+    b = sitefile.loads(sitefile.dumps(a))
+    assert b == a
+    assert b.positions[0].mast_height_m == mast_m and b.economics.tariff_per_kwh == price
+
+
 def test_save_keeps_previous_version(tmp_path):
     """Saving over a file keeps the previous one as .bak."""
     a = sitefile.load(DEMO)
