@@ -62,7 +62,9 @@ def loop_flicker(hub, windows, turbines, climate, site, settings):
     bins = (np.arange(W)[:, None] * 366 + day[None, :]).ravel()
     for p in range(P):
         for j, tb in enumerate(turbines):
-            radius = tb.rotor_radius_m
+            # A vertical axis's cylinder has half its diameter as radius (rotor_radius_m is
+            # half its height, for clearance).
+            radius = tb.rotor_diameter_m / 2.0 if tb.axis == "vertical" else tb.rotor_radius_m
             near = dist[p] <= settings.max_distance_rotor_diameters * 2.0 * radius
             hit_any, hit_sector = _hits_one(offset[p], sun, tb, radius, axes)
             ok = hit_any & in_front.T & near[:, None]
@@ -221,3 +223,16 @@ def test_cone_keeps_every_hit_by_hand():
     step, pair = flicker.cone_candidates(off, sun, np.array([1.5]), np.array([True]),
                                          np.ones((2, 1), bool), 1)
     assert list(step) == [0] and list(pair) == [0]
+
+
+def test_vertical_rotor_shades_with_its_diameter_not_its_height():
+    """A vertical-axis rotor 2 m across and 3 m tall shades as a cylinder of radius 1 m
+    (hand geometry): a ray passing 1.2 m from the axis, level with the hub, misses it, though
+    it would hit a cylinder of half the height (1.5 m) as radius."""
+    tall = _turbine("v", axis="vertical", diameter=2.0, height=3.0)
+    assert tall.rotor_radius_m == pytest.approx(1.5)  # half the height, for clearance
+    assert flicker._plan_radius_m((tall,))[0] == pytest.approx(1.0)
+    offset = np.array([[10.0, 1.2, 0.0]])  # hub 10 m east of the window, 1.2 m north
+    sun = np.array([[1.0, 0.0, 0.0]])      # sun due east on the horizon, ray along +x
+    assert not flicker.cylinder_hit(offset, sun, 1.0, 3.0)[0]
+    assert flicker.cylinder_hit(offset, sun, 1.5, 3.0)[0]
