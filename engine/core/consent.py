@@ -45,6 +45,33 @@ DEFAULT_BACKGROUND_DB = (28.0, 29.0, 30.0, 32.0, 34.0, 36.0, 38.0, 40.0, 42.0, 4
 #: memory; they catch a typing slip, such as a sound power entered in place of a level).
 BACKGROUND_DB_RANGE = (10.0, 80.0)
 
+#: Where each criterion default of :class:`NoiseSettings` and :class:`FlickerSettings` comes
+#: from, in words, for every place that shows a default beside its field.
+DEFAULT_SOURCES = {
+    "criterion": "a fixed limit at each place; the local authority says which criterion applies",
+    "margin_above_background_db": "background plus 5 dB, never below the fixed limit, is the "
+                                  "form of UK wind-turbine noise guidance (ETSU-R-97, from "
+                                  "memory)",
+    "tolerance_db": "no tolerance: any level above the criterion counts (the sceptical choice)",
+    "worst_hours_per_year_limit": "commonly quoted for the astronomical worst case (German "
+                                  "guidance on turbine shadow, from memory)",
+    "worst_minutes_per_day_limit": "commonly quoted for the astronomical worst case (German "
+                                   "guidance on turbine shadow, from memory)",
+    "expected_hours_per_year_limit": "commonly quoted for the expected case (German guidance "
+                                     "on turbine shadow, from memory)",
+    "sunshine_fraction": "an assumed value for northwest Europe (from memory); use the local "
+                         "climate's sunshine record",
+    "min_sun_elevation_deg": "no distinct shadow from a lower sun (common practice, from memory)",
+}
+#: What the neighbour figures are and who decides, for every page that shows them.
+NEIGHBOUR_CAUTION = (
+    "Noise and shadow flicker here are screening estimates, not a noise or flicker "
+    "assessment. Consent rests with the local planning authority, whose criteria and limits "
+    "govern over every default here. Where a position's noise margin is small (a few dB), a "
+    "noise survey by a qualified acoustician is needed: measured background at the "
+    "neighbours' windows and gardens, and the turbine's own noise, tonality and amplitude "
+    "modulation.")
+
 
 def _check_curve(p: Problems, speed_name: str, speeds, level_name: str, levels, lo, hi):
     """A speed-indexed table: equal lengths, speeds strictly increasing, levels in range.
@@ -257,4 +284,5 @@ def turbine_problems(t) -> Problems:
 
 
 __all__ = ["NoiseSettings", "FlickerSettings", "SitingRule", "ConsentSettings", "RULE_KINDS",
-           "OCTAVE_HZ", "BACKGROUND_DB_RANGE"]
+           "OCTAVE_HZ", "BACKGROUND_DB_RANGE", "DEFAULT_SOURCES", "NEIGHBOUR_CAUTION",
+           "NOISE_CRITERIA"]
