@@ -53,7 +53,8 @@ def _ensure_settings(draft: dict) -> None:
 
 
 def _default_caption(field: str, shown: str) -> None:
-    st.caption(f"Engine default {shown}: {consent.DEFAULT_SOURCES[field]}.")
+    st.caption(f"Engine default{' ' + shown if shown else ''}: "
+               f"{consent.DEFAULT_SOURCES[field]}.")
 
 
 def _noise_fields() -> None:
@@ -62,7 +63,7 @@ def _noise_fields() -> None:
                    fmt=CRITERION_LABELS.get,
                    help="How the level at each place is judged, in each 1 m/s bin of hub "
                         "wind speed")
-    _default_caption("criterion", "a fixed limit")
+    _default_caption("criterion", "")
     c1, c2 = st.columns(2)
     with c1:
         widgets.number("Margin above background (dB)",
