@@ -164,3 +164,32 @@ def test_switching_to_background_plus_changes_results_as_the_engine_does():
     assert after == want
     # background + 5 dB above every fixed limit here: the criterion is looser, never tighter
     assert before < after
+
+
+def test_background_survives_edits_and_deletions_in_the_table_of_places():
+    """A background entered for the second place stays with it when the first place's limit
+    is edited and when the first place is deleted; a look in mph changes no stored speed."""
+    at = _go(_app(), LAYOUT)
+    rid = at.session_state["draft"]["receptors"][1]["id"]
+    _enter_background(at, 1, rid, [3.0, 6.0, 9.0], [30.0, 33.0, 37.0])
+    places = f"ed|receptors|{at.session_state['gen']}|m/s|m"
+    at.session_state[places] = {"edited_rows": {0: {"noise criterion (dB(A))": 38.0}},
+                                "added_rows": [], "deleted_rows": []}
+    at.run()
+    assert not at.exception and not _errors(at)
+    r = at.session_state["valid"].receptors[1]
+    assert (r.id, r.background_speed_ms, r.background_db) == (
+        rid, (3.0, 6.0, 9.0), (30.0, 33.0, 37.0))
+    assert at.session_state["valid"].receptors[0].limit_db == 38.0
+    places = f"ed|receptors|{at.session_state['gen']}|m/s|m"
+    at.session_state[places] = {"edited_rows": {}, "added_rows": [], "deleted_rows": [0]}
+    at.run()
+    assert not at.exception and not _errors(at)
+    (r,) = at.session_state["valid"].receptors
+    assert (r.id, r.background_speed_ms, r.background_db) == (
+        rid, (3.0, 6.0, 9.0), (30.0, 33.0, 37.0))
+    text = sitefile.dumps(at.session_state["valid"])
+    at.radio(key="speed_unit").set_value("mph").run()
+    at.run()
+    assert sitefile.dumps(at.session_state["valid"]) == text
+    assert at.session_state["draft"]["receptors"][0]["background_speed_ms"] == [3.0, 6.0, 9.0]
