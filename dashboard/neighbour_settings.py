@@ -112,8 +112,10 @@ def _sunshine(draft_flicker: dict) -> bool:
     """Sunshine share, one value or twelve; True when the mode changed."""
     ss = st.session_state
     values = draft_flicker.get("sunshine_fraction")
-    if not isinstance(values, list):
-        values = draft_flicker["sunshine_fraction"] = [values]
+    if not isinstance(values, list) or not values:
+        # a field to type into (an empty list would give the field nowhere to write)
+        values = draft_flicker["sunshine_fraction"] = [values if values != [] else None]
+        state.validate()
     key = f"sunshine_mode|{ss['gen']}"
     if key not in ss:
         ss[key] = TWELVE if len(values) == 12 else ONE
