@@ -14,6 +14,7 @@ import dataclasses
 import itertools
 import math
 
+import numpy as np
 import streamlit as st
 
 from dashboard import state, widgets
@@ -145,11 +146,43 @@ def _sunshine(draft_flicker: dict) -> bool:
     return changed
 
 
+def closest_noise_margin(table):
+    """The row closest to its noise criterion among those not excluded (all rows when every
+    one is excluded), or None when the table has no finite noise margin."""
+    if "noise_margin_db" not in table or not len(table):
+        return None
+    kept = table[~table["excluded"].astype(bool)] if "excluded" in table else table
+    rows = kept if len(kept) else table
+    rows = rows[np.isfinite(rows["noise_margin_db"].to_numpy(float))]
+    return None if not len(rows) else rows.loc[rows["noise_margin_db"].idxmin()]
+
+
+def _closest_margin_note() -> None:
+    """Where the current results stand closest to a noise criterion, from the engine's
+    columns (the last complete inputs)."""
+    row = closest_noise_margin(state.evaluation().table)
+    if row is None:
+        return
+    m = float(row["noise_margin_db"])
+    side = f"{m:.1f} dB below it" if m >= 0 else f"{-m:.1f} dB above it"
+    where = ""
+    if "noise_worst_receptor" in row.index and row["noise_worst_receptor"]:
+        where = f" at {widgets.plain(row['noise_worst_receptor'])}"
+        v = row.get("noise_worst_speed_ms")
+        if v is not None and np.isfinite(v):
+            S = state.unit_of("speed")
+            where += f", hub wind {state.to_display(float(v), 'speed'):.1f} {S}"
+    st.markdown(f"Closest to its noise criterion in the results now: "
+                f"**{widgets.plain(row['position_id'])}** with "
+                f"**{widgets.plain(row['turbine_id'])}**, {side}{where}.")
+
+
 def criteria_section(draft: dict) -> bool:
     """The expander "Noise and flicker criteria"; True when the draft changed here."""
     _ensure_settings(draft)
     with st.expander("Noise and flicker criteria", expanded=False):
         st.warning(consent.NEIGHBOUR_CAUTION, icon=":material/warning:")
+        _closest_margin_note()
         st.caption("Enter what the local authority asks for. Defaults marked \"from memory\" "
                    "are the engine's own assumptions, not a published limit checked for "
                    "this site: the local authority's limits govern.")

@@ -193,3 +193,19 @@ def test_background_survives_edits_and_deletions_in_the_table_of_places():
     at.run()
     assert sitefile.dumps(at.session_state["valid"]) == text
     assert at.session_state["draft"]["receptors"][0]["background_speed_ms"] == [3.0, 6.0, 9.0]
+
+
+def test_the_row_closest_to_its_noise_criterion_is_the_engines():
+    """The panel names the allowed row with the smallest noise margin of the engine's own
+    evaluation of the same site file, and that margin."""
+    at = _go(_app(), LAYOUT)
+    table = pipeline.evaluate(sitefile.assessment_from_dict(
+        copy.deepcopy(at.session_state["draft"]))).table
+    kept = table[~table["excluded"]]
+    want = kept.loc[kept["noise_margin_db"].idxmin()]
+    note = next(shown(m.value) for m in at.markdown
+                if shown(m.value).startswith("Closest to its noise criterion"))
+    assert f"**{want['position_id']}** with **{want['turbine_id']}**" in note
+    margin = float(want["noise_margin_db"])
+    assert f"{abs(margin):.1f} dB {'below' if margin >= 0 else 'above'} it" in note
+    assert f"at {want['noise_worst_receptor']}" in note
