@@ -186,7 +186,7 @@ def criteria_section(draft: dict) -> bool:
         st.caption("Enter what the local authority asks for. Defaults marked \"from memory\" "
                    "are the engine's own assumptions, not a published limit checked for "
                    "this site: the local authority's limits govern.")
-        st.markdown("**Noise at the places where noise matters**")
+        st.markdown("**Noise at neighbours' windows and gardens**")
         _noise_fields()
         st.markdown("**Shadow flicker at windows**")
         _flicker_limits()
