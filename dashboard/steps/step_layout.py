@@ -1,7 +1,8 @@
 """Step 3: buildings, candidate positions and the places where noise matters."""
 import streamlit as st
 
-from dashboard import cache, consent_inputs, results_view, roof_suggest, state, widgets
+from dashboard import (cache, consent_inputs, neighbour_settings, results_view, roof_suggest,
+                       state, widgets)
 from engine.core import model
 
 widgets.step_banner("layout", "3. Buildings & positions")
@@ -93,6 +94,8 @@ with st.expander("Places where noise matters (windows, gardens)", expanded=False
     rrow = widgets.table("receptors", draft.get("receptors", []), R_COLS, disabled=not edit)
     changed |= rrow != draft.get("receptors", [])
     draft["receptors"] = rrow
+changed |= neighbour_settings.background_section(rrow, edit)
+changed |= neighbour_settings.criteria_section(draft)
 changed |= consent_inputs.rule_set_section(draft, edit)
 
 S = state.unit_of("speed")

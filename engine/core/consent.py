@@ -39,10 +39,46 @@ DEFAULT_OCTAVE_SHAPE_DB = (-20.0, -14.0, -9.0, -6.0, -5.0, -7.0, -11.0, -18.0)
 #: levels (an assumed curve, from memory; measure background at the receptor instead).
 DEFAULT_BACKGROUND_SPEED_MS = (3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0, 10.0, 11.0, 12.0)
 DEFAULT_BACKGROUND_DB = (28.0, 29.0, 30.0, 32.0, 34.0, 36.0, 38.0, 40.0, 42.0, 44.0)
+#: Plausible range of a measured background L90 at a receptor [dB(A)]: below 10 dB(A) is
+#: under the self-noise of the sound level meters used for surveys, above 80 dB(A) is no
+#: dwelling's background but a source beside the microphone (plausibility bounds, from
+#: memory; they catch a typing slip, such as a sound power entered in place of a level).
+BACKGROUND_DB_RANGE = (10.0, 80.0)
+
+#: Where each criterion default of :class:`NoiseSettings` and :class:`FlickerSettings` comes
+#: from, in words, for every place that shows a default beside its field.
+DEFAULT_SOURCES = {
+    "criterion": "a fixed limit at each place; the local authority says which criterion applies",
+    "margin_above_background_db": "background plus 5 dB, never below the fixed limit, is the "
+                                  "form of UK wind-turbine noise guidance (ETSU-R-97, from "
+                                  "memory)",
+    "tolerance_db": "no tolerance: any level above the criterion counts (the sceptical choice)",
+    "worst_hours_per_year_limit": "commonly quoted for the astronomical worst case (German "
+                                  "guidance on turbine shadow, from memory)",
+    "worst_minutes_per_day_limit": "commonly quoted for the astronomical worst case (German "
+                                   "guidance on turbine shadow, from memory)",
+    "expected_hours_per_year_limit": "commonly quoted for the expected case (German guidance "
+                                     "on turbine shadow, from memory)",
+    "sunshine_fraction": "an assumed value for northwest Europe (from memory); use the local "
+                         "climate's sunshine record",
+    "min_sun_elevation_deg": "no distinct shadow from a lower sun (common practice, from memory)",
+}
+#: What the neighbour figures are and who decides, for every page that shows them.
+NEIGHBOUR_CAUTION = (
+    "Noise and shadow flicker here are screening estimates, not a noise or flicker "
+    "assessment. Consent rests with the local planning authority, whose criteria and limits "
+    "govern over every default here. Where a position's noise margin is small (a few dB), a "
+    "noise survey by a qualified acoustician is needed: measured background at the "
+    "neighbours' windows and gardens, and the turbine's own noise, tonality and amplitude "
+    "modulation.")
 
 
 def _check_curve(p: Problems, speed_name: str, speeds, level_name: str, levels, lo, hi):
-    """A speed-indexed table: equal lengths, speeds strictly increasing, levels in range."""
+    """A speed-indexed table: equal lengths, speeds strictly increasing, levels in range.
+
+    Each problem names its entry (``background_speed_ms[2]``) in the house form ``"must be
+    <rule>, got <value> <unit>"``.
+    """
     if len(speeds) != len(levels):
         p.add(level_name, f"must have one value per speed in {speed_name} ({len(speeds)}), "
                           f"got {len(levels)}")
@@ -52,12 +88,13 @@ def _check_curve(p: Problems, speed_name: str, speeds, level_name: str, levels, 
     for i, v in enumerate(levels):
         check_range(p, f"{level_name}[{i}]", v, lo, hi, "dB(A)")
     try:
-        bad = [i for i in range(1, len(speeds)) if not float(speeds[i]) > float(speeds[i - 1])]
+        values = [float(v) for v in speeds]
     except (TypeError, ValueError):
-        return
-    if bad:
-        p.add(speed_name, f"speeds must increase strictly; check entry {bad[0] + 1} "
-                          f"({speeds[bad[0]]} m/s after {speeds[bad[0] - 1]} m/s)")
+        return  # the entry that is not a number is named above
+    for i in range(1, len(values)):
+        if not values[i] > values[i - 1]:
+            p.add(f"{speed_name}[{i}]", f"must be above the speed before it "
+                                        f"({values[i - 1]:g} m/s), got {values[i]:g} m/s")
 
 
 @dataclass(frozen=True)
@@ -222,7 +259,7 @@ def receptor_problems(r) -> Problems:
         check_range(p, "facing_deg", r.facing_deg, 0, 360, "deg", hi_open=True)
     check_range(p, "window_height_m", r.window_height_m, 0, 20, "m")
     _check_curve(p, "background_speed_ms", r.background_speed_ms, "background_db",
-                 r.background_db, 0, 100)
+                 r.background_db, *BACKGROUND_DB_RANGE)
     return p
 
 
@@ -247,4 +284,5 @@ def turbine_problems(t) -> Problems:
 
 
 __all__ = ["NoiseSettings", "FlickerSettings", "SitingRule", "ConsentSettings", "RULE_KINDS",
-           "OCTAVE_HZ"]
+           "OCTAVE_HZ", "BACKGROUND_DB_RANGE", "DEFAULT_SOURCES", "NEIGHBOUR_CAUTION",
+           "NOISE_CRITERIA"]

@@ -215,3 +215,31 @@ def test_building_out_of_the_way_changes_nothing():
     assert (nb.ground_db(10.0, 2.0, 100.0, 1.0) < 0).any()  # a gain the test could lose
     assert np.all(with_b.screening_db == 0.0)
     assert with_b.attenuation_db == pytest.approx(without.attenuation_db, abs=1e-12)
+
+
+def _receptor_problems(speeds, levels):
+    from engine.core.errors import InputError
+    with pytest.raises(InputError) as e:
+        model.Receptor("w", 60.0, 0.0, 4.0, background_speed_ms=speeds, background_db=levels)
+    return dict(e.value.problems)
+
+
+def test_measured_background_speeds_must_increase_and_levels_be_plausible():
+    """A measured background is a curve over increasing wind speeds (np.interp, which the
+    criterion uses, needs increasing x); each entry out of order is named with the speed
+    before it, in the form "<field> must be <rule>, got <value> <unit>"."""
+    bad = _receptor_problems((3.0, 5.0, 5.0, 4.0), (30.0, 32.0, 33.0, 34.0))
+    assert bad == {
+        "background_speed_ms[2]": "must be above the speed before it (5 m/s), got 5 m/s",
+        "background_speed_ms[3]": "must be above the speed before it (5 m/s), got 4 m/s"}
+    # A sound power (95 dB(A)) typed in place of a background level, and 5 dB(A), under the
+    # self-noise of survey sound level meters: both outside the plausible 10-80 dB(A) of an
+    # L90 at a dwelling (plausibility bounds, from memory).
+    bad = _receptor_problems((4.0, 8.0), (95.0, 5.0))
+    assert bad == {"background_db[0]": "must be >= 10 and <= 80, got 95 dB(A)",
+                   "background_db[1]": "must be >= 10 and <= 80, got 5 dB(A)"}
+    bad = _receptor_problems((4.0, 8.0), (30.0,))
+    assert "background_db" in bad and "one value per speed" in bad["background_db"]
+    ok = model.Receptor("w", 60.0, 0.0, 4.0, background_speed_ms=(4.0, 8.0),
+                        background_db=(10.0, 80.0))
+    assert ok.background_db == (10.0, 80.0)
