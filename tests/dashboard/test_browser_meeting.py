@@ -67,9 +67,13 @@ def test_results_after_renaming_a_position_a_spot_reading_names(page, dashboard_
         grid = positions_grid(page)
         box = grid.bounding_box()
         page.mouse.dblclick(box["x"] + 80, box["y"] + ROW_H * 1.5)  # row 1, name
-        page.wait_for_timeout(300)
-        page.keyboard.press("Control+a")
-        page.keyboard.type("mill-middle")
+        editor = page.locator(".gdg-input").first  # the grid's cell editor, once it is open
+        try:
+            editor.wait_for(state="visible", timeout=3000)
+        except Exception:  # the double click came before the grid was ready: try again
+            idle(page)
+            continue
+        editor.fill("mill-middle")
         page.keyboard.press("Enter")
         page.wait_for_timeout(1000)  # the edit reaches the server after the grid's delay
         idle(page)
