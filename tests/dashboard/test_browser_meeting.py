@@ -38,13 +38,17 @@ def test_results_after_deleting_every_position(page, dashboard_url):
 
     page.goto(f"{dashboard_url}/layout")
     idle(page)
-    grid = positions_grid(page)
-    box = grid.bounding_box()
-    page.mouse.click(box["x"] + 12, box["y"] + ROW_H / 2)  # the header's select-all box
-    page.keyboard.press("Delete")
-    page.wait_for_timeout(1000)
-    idle(page)
-    expect(page.get_by_text("list at least one candidate position")).to_be_visible()
+    emptied = page.get_by_text("list at least one candidate position")
+    for _ in range(3):  # on a loaded machine the grid now and then drops a first click
+        grid = positions_grid(page)
+        box = grid.bounding_box()
+        page.mouse.click(box["x"] + 12, box["y"] + ROW_H / 2)  # the header's select-all box
+        page.keyboard.press("Delete")
+        page.wait_for_timeout(1000)
+        idle(page)
+        if emptied.count():
+            break
+    expect(emptied.first).to_be_visible()
     go(page, "5. Results")
     expect(page.get_by_role("heading", name="5. Results")).to_be_visible()
     expect(page.get_by_text("The working copy has no positions")).to_be_visible()

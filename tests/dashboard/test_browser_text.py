@@ -68,6 +68,10 @@ def test_markdown_in_a_site_name_shows_as_text_on_the_screening_page(page, dashb
     page.wait_for_selector(IDLE, state="attached")
     page.get_by_role("button", name="Open this file").click()
     page.wait_for_selector(IDLE, state="attached")
+    # The file is the working copy once the sidebar names it; leaving the page before that
+    # would cut the run that opens it short.
+    side = page.locator('[data-testid="stSidebar"]')
+    expect(side.get_by_text(hostile, exact=False).first).to_be_visible(timeout=30000)
     page.get_by_role("link", name="District screening").first.click()
     page.wait_for_selector(IDLE, state="attached")
     main = page.locator('[data-testid="stMain"]')
