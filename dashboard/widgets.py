@@ -18,6 +18,9 @@ CAUTION_FOOTER = ("These figures support a decision; they do not replace local c
 
 
 _MARKDOWN_PUNCT = re.compile(r"([!-/:-@\[-`{-~])")
+#: Where the renderer's literal autolinks start (``http://``, ``www.``, ``a@b.c``): a zero-width
+#: space after the scheme or ``www`` and before ``@`` keeps user text from becoming a link.
+_AUTOLINK_START = re.compile(r"(?i)(\b(?:https?|ftp|mailto|www))(?=\\[:.])|(?=\\@)")
 
 
 def plain(text) -> str:
@@ -25,9 +28,11 @@ def plain(text) -> str:
 
     Every ASCII punctuation character is backslash-escaped (CommonMark allows it for all of
     them) and line breaks become spaces, so a site name holding ``![x](http://...)`` shows as
-    those characters and the browser fetches nothing.
+    those characters and the browser fetches nothing; a zero-width space after ``http``,
+    ``www`` and before ``@`` keeps a web or mail address from turning into a link.
     """
-    return _MARKDOWN_PUNCT.sub(r"\\\1", " ".join(str(text).splitlines()))
+    escaped = _MARKDOWN_PUNCT.sub(r"\\\1", " ".join(str(text).splitlines()))
+    return _AUTOLINK_START.sub(lambda m: (m.group(1) or "") + "\u200b", escaped)
 
 
 def cautions(expanded: bool = False) -> None:

@@ -10,7 +10,7 @@ from engine.io import autosave
 
 def shown(markdown: str) -> str:
     """The text a person reads from Markdown source whose user text is backslash-escaped."""
-    return re.sub(r"\\(.)", r"\1", markdown)
+    return re.sub(r"\\(.)", r"\1", markdown).replace("\u200b", "")  # escapes, word breaks
 
 
 APP = str(Path(__file__).resolve().parents[2] / "dashboard" / "app.py")

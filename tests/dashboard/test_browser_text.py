@@ -79,5 +79,6 @@ def test_markdown_in_a_site_name_shows_as_text_on_the_screening_page(page, dashb
     expect(main.get_by_text(hostile, exact=False).first).to_be_visible(timeout=30000)
     page.screenshot(path=str(ARTIFACTS / "browser-text-3-screening-name.png"), full_page=True)
     assert page.locator('img[src*="127.0.0.1:9"]').count() == 0
+    assert page.locator('a[href*="127.0.0.1:9"]').count() == 0  # no link made of it either
     assert main.locator("b", has_text="B").count() == 0
     assert asked == []

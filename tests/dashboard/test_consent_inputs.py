@@ -16,7 +16,7 @@ RULES = DEMO.parent / "rules" / "example_borough.json"
 
 def shown(markdown: str) -> str:
     """The text a person reads from Markdown source whose user text is backslash-escaped."""
-    return re.sub(r"\\(.)", r"\1", markdown)
+    return re.sub(r"\\(.)", r"\1", markdown).replace("\u200b", "")  # escapes, word breaks
 
 
 def _errors(at) -> str:

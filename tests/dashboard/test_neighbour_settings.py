@@ -24,7 +24,7 @@ SUN = "w|consent.flicker.sunshine_fraction.{}|plain|-"
 
 def shown(markdown: str) -> str:
     """The text a person reads from Markdown source whose user text is backslash-escaped."""
-    return re.sub(r"\\(.)", r"\1", markdown)
+    return re.sub(r"\\(.)", r"\1", markdown).replace("\u200b", "")  # escapes, word breaks
 
 
 def _errors(at) -> str:

@@ -21,7 +21,7 @@ STATION = RECORDS / "reference_station_hourly.csv"
 
 
 def shown(markdown: str) -> str:
-    return re.sub(r"\\(.)", r"\1", markdown)
+    return re.sub(r"\\(.)", r"\1", markdown).replace("\u200b", "")  # escapes, word breaks
 
 
 def _climate_page() -> AppTest:

@@ -14,7 +14,7 @@ from dashboard import exports
 
 def shown(markdown: str) -> str:
     """The text a person reads from Markdown source whose user text is backslash-escaped."""
-    return re.sub(r"\\(.)", r"\1", markdown)
+    return re.sub(r"\\(.)", r"\1", markdown).replace("\u200b", "")  # escapes, word breaks
 
 
 ROOT = Path(__file__).resolve().parents[2]

@@ -44,7 +44,8 @@ def _suggest(at, building="mill"):
 
 
 def _text(at, kind) -> str:
-    return " ".join(re.sub(r"\\(.)", r"\1", e.value) for e in getattr(at, kind))
+    return " ".join(re.sub(r"\\(.)", r"\1", e.value).replace("\u200b", "")
+                    for e in getattr(at, kind))
 
 
 def test_suggestions_are_the_engines_and_accepting_adds_positions():

@@ -23,8 +23,8 @@ HOSTILE = "![x](http://127.0.0.1:9/x.png) <b>B</b>"
 
 
 def _shown(markdown: str) -> str:
-    """What a person reads: CommonMark backslash escapes removed."""
-    return re.sub(r"\\(.)", r"\1", markdown)
+    """What a person reads: CommonMark backslash escapes and zero-width spaces removed."""
+    return re.sub(r"\\(.)", r"\1", markdown).replace("\u200b", "")
 
 
 def _check_inert(values, text: str) -> int:
