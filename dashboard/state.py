@@ -318,10 +318,14 @@ def renamed_ids(before: list, after: list) -> dict:
 def carry_renames(draft: dict, positions: dict, buildings: dict) -> bool:
     """Make the rows that name a renamed position or building name it by its new id.
 
-    Spot readings name positions; roof and gap positions name buildings. Returns True when
-    anything changed.
+    Spot readings and a climate measured at a position name positions; roof and gap
+    positions name buildings. Returns True when anything changed.
     """
     changed = False
+    clim = draft.get("climate")
+    if isinstance(clim, dict) and clim.get("position_id") in positions:
+        clim["position_id"] = positions[clim["position_id"]]
+        changed = True
     for r in draft.get("spot_readings", []) or []:
         if isinstance(r, dict) and r.get("position_id") in positions:
             r["position_id"] = positions[r["position_id"]]

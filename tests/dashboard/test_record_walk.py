@@ -1,0 +1,49 @@
+"""The measured record after the edits a hurried assessor makes, through Streamlit's AppTest.
+
+A climate measured at one of the site's positions names that position: renaming it carries the
+new name to the climate, deleting it or changing its mast is named on the climate step (the
+banner's count equals the messages beneath it), and building again with the stale choice
+names the field instead of failing.
+"""
+from __future__ import annotations
+
+from pathlib import Path
+
+from streamlit.testing.v1 import AppTest
+
+from test_status_walk import _edit, _page_status
+
+ROOT = Path(__file__).resolve().parents[2]
+APP = str(ROOT / "dashboard" / "app.py")
+LOGGER = ROOT / "demo_sites" / "records" / "roof_logger_two_heights.csv"
+CLIMATE = "steps/step_climate.py"
+LAYOUT = "steps/step_layout.py"
+
+
+def _built_at(position: str) -> AppTest:
+    """The demo with the two-height logger built as measured at ``position``."""
+    at = AppTest.from_file(APP, default_timeout=120)
+    at.run()
+    at.switch_page(CLIMATE).run()
+    at.radio(key="climate_mode_w").set_value("measured").run()
+    at.file_uploader(key="record_upload").upload(LOGGER.name, LOGGER.read_bytes(),
+                                                 "text/csv").run()
+    at.radio(key="rf|where").set_value("position").run()
+    at.selectbox(key="rf|pos").set_value(position).run()
+    at.button(key="build_record").click().run()
+    assert not at.exception, at.exception
+    assert at.session_state["valid"].climate.position_id == position
+    assert at.session_state["problems"] == []
+    return at
+
+
+def _row(at, position: str) -> int:
+    return [p["id"] for p in at.session_state["draft"]["positions"]].index(position)
+
+
+def test_renaming_the_logger_position_carries_to_the_climate():
+    at = _built_at("mill-west-edge")
+    _edit(at, LAYOUT, "positions", edited_rows={_row(at, "mill-west-edge"): {"name": "mill-w"}})
+    assert at.session_state["draft"]["climate"]["position_id"] == "mill-w"
+    assert at.session_state["problems"] == [], at.session_state["problems"]
+    assert at.session_state["valid"].climate.position_id == "mill-w"
