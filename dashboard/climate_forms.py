@@ -70,6 +70,35 @@ def render(mode: str) -> None:
     elif mode == "measured":
         _record_form()
     _reference_fields(mode)
+    _other_problems(mode)
+
+
+#: The climate fields each way shows with their messages beneath them.
+FIELDS_SHOWN = {"measured": ()}
+_REFERENCE_FIELDS = ("height_m", "roughness_m", "displacement_m", "label")
+#: Site-file climate field -> its name on this page, for a message no field shows.
+CLIMATE_LABELS = {"position_id": "Position the record was measured at",
+                  "measured_at": "Where the record was measured",
+                  "height_m": "Height of the measured climate",
+                  "frequency": "Sector frequencies", "weibull_k": "Weibull k",
+                  "weibull_c_ms": "Weibull c"}
+
+
+def _other_problems(mode: str) -> None:
+    """The engine's climate messages that no field of this way shows (a measured climate's
+    position or height after an edit in step 3, say), so the banner's count is all visible."""
+    shown = FIELDS_SHOWN.get(mode, _REFERENCE_FIELDS + (
+        ("frequency", "weibull_k", "weibull_c_ms") if mode == "table" else ()))
+    for where, msg in st.session_state["problems"]:
+        if not where.startswith("climate."):
+            continue
+        field = where.split(".", 1)[1].split("[")[0]
+        if field in shown:
+            continue
+        hint = (" On this page: choose where the record was measured and build the climate "
+                "again." if mode == "measured" and field in ("position_id", "height_m") else "")
+        label = CLIMATE_LABELS.get(field, field.replace("_", " "))
+        st.error(f"**{label}:** {widgets.plain(msg)}{hint}", icon=":material/error:")
 
 
 def _reference_fields(mode: str) -> None:
@@ -128,7 +157,7 @@ def _table_form() -> None:
     for where, msg in st.session_state["problems"]:
         if where.startswith("climate.") and where.split(".")[1].split("[")[0] in (
                 "frequency", "weibull_k", "weibull_c_ms"):
-            st.error(f"**{where.split('.', 1)[1]}:** {widgets.plain(msg)}",
+            st.error(f"**{widgets.plain(where.split('.', 1)[1])}:** {widgets.plain(msg)}",
                      icon=":material/error:")
 
 

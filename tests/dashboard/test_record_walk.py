@@ -47,3 +47,28 @@ def test_renaming_the_logger_position_carries_to_the_climate():
     assert at.session_state["draft"]["climate"]["position_id"] == "mill-w"
     assert at.session_state["problems"] == [], at.session_state["problems"]
     assert at.session_state["valid"].climate.position_id == "mill-w"
+
+
+def test_deleting_the_logger_position_is_named_on_the_climate_step():
+    at = _built_at("mill-west-edge")
+    _edit(at, LAYOUT, "positions", deleted_rows=[_row(at, "mill-west-edge")])
+    at.switch_page(CLIMATE).run()
+    assert not at.exception, at.exception
+    assert _page_status(at) == "1"  # "1 problem(s) below" and that one message shown
+    shown = " ".join(e.value for e in at.main.error)
+    assert "mill" in shown and "position" in shown.lower(), shown
+    # the stale position is no longer offered; building again does not fail
+    assert "mill-west-edge" not in at.selectbox(key="rf|pos").options
+    at.button(key="build_record").click().run()
+    assert not at.exception, at.exception
+
+
+def test_a_changed_logger_mast_is_named_on_the_climate_step():
+    at = _built_at("mill-west-edge")
+    i = _row(at, "mill-west-edge")
+    _edit(at, LAYOUT, "positions", edited_rows={i: {"mast height (m)": 9.0}})
+    at.switch_page(CLIMATE).run()
+    assert not at.exception, at.exception
+    assert _page_status(at) == "1"
+    shown = " ".join(e.value for e in at.main.error)
+    assert "hub height" in shown, shown
