@@ -80,19 +80,26 @@ def _number(label: str, form: dict, name: str, kind: str, fmt: str, help=None):
 def _position_base(form: dict):
     """(base height above ground [m], position id) of the chosen position, or (0, "")."""
     a = st.session_state["valid"]
-    ids = [p.id for p in a.positions]
+    ids = [p.id for p in a.positions if p.id in _draft_position_ids()]
     if not ids:
         st.warning("This site has no positions yet (step 3); the record is taken as a "
                    "reference.", icon=":material/warning:")
         return 0.0, ""
     if form["position_id"] not in ids:
         form["position_id"] = ids[0]
-    if "rf|pos" not in st.session_state:
+    if st.session_state.get("rf|pos") not in ids:  # unset, or deleted or renamed in step 3
         st.session_state["rf|pos"] = form["position_id"]
     pid = st.selectbox("Position the logger stands at", ids, key="rf|pos")
     form["position_id"] = pid
     pos = next(p for p in a.positions if p.id == pid)
     return float(a.base_height_m(pos)), pid
+
+
+def _draft_position_ids() -> set:
+    """Ids of the working copy's positions (the last valid assessment may still hold one
+    deleted or renamed since)."""
+    return {str(p.get("id")) for p in state.get_path("positions", []) or []
+            if isinstance(p, dict)}
 
 
 def _settings(form: dict, data: bytes) -> tuple:
@@ -206,6 +213,12 @@ def render() -> None:
 def _build(kept: dict, settings: tuple, reference: tuple | None) -> None:
     ss = st.session_state
     ref_name = dict(reference)["name"] if reference else ""
+    pid = dict(settings)["position_id"]
+    if pid and pid not in _draft_position_ids():
+        state.set_local_problems("climate", [(
+            "Position the logger stands at", f"must be one of the site's positions, got "
+            f"{pid!r}, which step 3 no longer has; choose another or a reference")])
+        return
     try:
         with st.spinner("Reading, checking and fitting the record…"):
             view = cache.record_climate(kept["data"], kept["name"], settings, reference)
@@ -215,7 +228,7 @@ def _build(kept: dict, settings: tuple, reference: tuple | None) -> None:
         return
     clim = view["climate"]
     state.set_path("climate", clim)
-    base, pid = dict(settings)["base_height_m"], dict(settings)["position_id"]
+    base = dict(settings)["base_height_m"]
     moved = ""
     if pid:
         i = [p.get("id") for p in state.get_path("positions", [])].index(pid)

@@ -63,6 +63,19 @@ def test_deleting_the_logger_position_is_named_on_the_climate_step():
     assert not at.exception, at.exception
 
 
+def test_a_stale_logger_position_names_the_field_when_built():
+    """The position chosen for the logger went away between drawing and building (the
+    selection is kept from before): the build names the field, the record stays kept."""
+    at = _built_at("mill-west-edge")
+    d = at.session_state["draft"]
+    del d["positions"][_row(at, "mill-west-edge")]
+    at.session_state["rf|pos"] = "mill-west-edge"
+    at.session_state["validated_text"] = None  # as after a table edit
+    at.button(key="build_record").click().run()
+    assert not at.exception, at.exception
+    assert at.session_state["record_file"]["name"] == LOGGER.name
+
+
 def test_a_changed_logger_mast_is_named_on_the_climate_step():
     at = _built_at("mill-west-edge")
     i = _row(at, "mill-west-edge")
