@@ -41,14 +41,21 @@ def _columns(L: str) -> list:
     ]
 
 
+#: The engine's name of a suggestion setting -> the field's label on the page.
+SETTING_LABELS = {"spacing": "Grid spacing", "set-back": "Kept from every edge"}
+
+
 def _suggest(assessment, building: str, spacing_m, setback_m) -> None:
     ss = st.session_state
     try:
         frame = rs.suggest_roof_positions(assessment, building, spacing_m=spacing_m,
                                           setback_m=setback_m)
     except InputError as e:
+        note = "" if state.unit_of("length") == "m" else " (checked in metres)"
         ss[KEY] = {"building": building, "rows": [],
-                   "error": [f"{where}: {msg}" for where, msg in e.problems]}
+                   "error": [f"{SETTING_LABELS.get(where, where)}: {msg}"
+                             f"{note if where in SETTING_LABELS else ''}"
+                             for where, msg in e.problems]}
         return
     rows = frame.to_dict("records")
     for r in rows:

@@ -149,7 +149,21 @@ def test_bad_spacing_named():
     at = _layout()
     at.number_input(key="suggest_spacing|m").set_value(0.0).run()
     _suggest(at, "tower")
-    assert "spacing must be more than 0 m, got 0.0 m" in _text(at, "error")
+    assert "Grid spacing: must be more than 0 m, got 0.0 m" in _text(at, "error")
+
+
+def test_a_spacing_too_fine_is_named_in_the_unit_shown_and_nothing_is_lost():
+    """0.000001 ft typed as the spacing: the page names the field and the finest spacing the
+    roof allows (the engine checks in metres and says so), instead of running out of memory."""
+    at = _layout()
+    at.radio(key="length_unit").set_value("ft").run()
+    before = copy.deepcopy(at.session_state["draft"])
+    at.number_input(key="suggest_spacing|ft").set_value(1e-6).run()
+    _suggest(at, "mill")
+    assert not at.exception, at.exception
+    msg = _text(at, "error")
+    assert "Grid spacing: must be at least" in msg and "checked in metres" in msg, msg
+    assert at.session_state["draft"] == before
 
 
 def test_a_moved_suggestion_gets_its_mast_again_and_off_the_roof_is_refused():
