@@ -114,7 +114,7 @@ def _settings(form: dict, data: bytes) -> tuple:
     c1, c2, c3 = st.columns(3)
     with c1:
         if heights:
-            st.markdown(f"Logged heights: {', '.join(f'{z:g}' for z in heights)} m above "
+            st.markdown(f"Logged heights: {_lengths(heights, L)} {L} above "
                         f"the logger's base; the climate uses the top one, "
                         f"{units.length_from_si(base + heights[-1], L):.1f} {L} above ground.")
         else:
@@ -132,6 +132,12 @@ def _settings(form: dict, data: bytes) -> tuple:
             ("roughness_m", form["roughness_m"]), ("n_sectors", int(form["n_sectors"])),
             ("speed_unit", None if unit == "from the header" else unit),
             ("altitude_m", float(state.get_path("site.altitude_m") or 0.0)))
+
+
+def _lengths(values_m, unit: str) -> str:
+    """Lengths [m] as a comma-separated list in ``unit``, to 0.1 (2 m as "2")."""
+    return ", ".join(f"{units.length_from_si(z, unit):.1f}".rstrip("0").rstrip(".")
+                     for z in values_m)
 
 
 def _day_ns(day) -> int | None:
@@ -235,8 +241,7 @@ def _build(kept: dict, settings: tuple, reference: tuple | None) -> None:
         mast = round(clim["height_m"] - base, 3)
         if state.get_path(f"positions.{i}.mast_height_m") != mast:
             state.set_path(f"positions.{i}.mast_height_m", mast)
-            moved = (f"Position {pid}'s mast set to the logger's height above its base, "
-                     f"{mast:g} m, so the climate stands at its hub.")
+            moved = (pid, mast)
     ss["record_result"] = dict(view, file=kept["name"], reference_file=ref_name, moved=moved)
     state.set_local_problems("climate", [])
     state.clear_widgets()
@@ -247,13 +252,17 @@ def _show(res: dict) -> None:
     """What the engine found: quality control, notes, measured TI and shear, the correction."""
     st.markdown(f"**Quality control of {widgets.plain(res['file'])}**")
     st.code(res["qc"], language=None)
+    L, S = state.unit_of("length"), state.unit_of("speed")
     if res.get("moved"):
-        st.info(widgets.plain(res["moved"]), icon=":material/info:")
+        pid, mast = res["moved"]
+        st.info(widgets.plain(f"Position {pid}'s mast set to the logger's height above its "
+                              f"base, {_lengths([mast], L)} {L}, so the climate stands at its "
+                              "hub."), icon=":material/info:")
     for note in res["notes"]:
         st.warning(widgets.plain(note), icon=":material/warning:")
     if res["measured"] is not None:
-        st.markdown(f"**Measured at {res['height_m']:g} m** (logged heights "
-                    f"{', '.join(f'{z:g}' for z in res['heights_m'])} m above the base)")
+        st.markdown(f"**Measured at {_lengths([res['height_m']], L)} {L}** (logged heights "
+                    f"{_lengths(res['heights_m'], L)} {L} above the base)")
         if res["shear_all"] is not None:
             st.caption(f"Shear exponent over all sectors: {res['shear_all']:.3f} (power law "
                        "between the logged heights)")
@@ -262,10 +271,10 @@ def _show(res: dict) -> None:
                                     for c in ("measured TI", "shear exponent")})
     lt = res.get("long_term")
     if lt:
-        _show_long_term(lt, res.get("reference_file", ""))
+        _show_long_term(lt, res.get("reference_file", ""), S)
 
 
-def _show_long_term(lt: dict, name: str) -> None:
+def _show_long_term(lt: dict, name: str, S: str) -> None:
     s, u = lt["stats"], lt["uncertainty"]
     st.markdown(f"**Long-term correction against {widgets.plain(name)}** "
                 f"({widgets.plain(record_view.METHOD_WORDS.get(s['method'], s['method']))})")
@@ -274,7 +283,8 @@ def _show_long_term(lt: dict, name: str) -> None:
               delta_color="off", delta_arrow="off")
     c2.metric("Correlation r", f"{s['correlation']:.2f}")
     c3.metric("Long-term adjustment", f"{lt['adjustment']:+.1%}",
-              f"{s['target_mean_ms']:.2f} → {s['long_term_mean_ms']:.2f} m/s",
+              f"{units.speed_from_si(s['target_mean_ms'], S):.2f} → "
+              f"{units.speed_from_si(s['long_term_mean_ms'], S):.2f} {S}",
               delta_color="off", delta_arrow="off",
               help="Long-term mean speed at the site against the mean measured over the "
                    "concurrent period")

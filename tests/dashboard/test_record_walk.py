@@ -85,3 +85,31 @@ def test_a_changed_logger_mast_is_named_on_the_climate_step():
     assert _page_status(at) == "1"
     shown = " ".join(e.value for e in at.main.error)
     assert "hub height" in shown, shown
+
+
+def _logger_form(at) -> AppTest:
+    at.radio(key="climate_mode_w").set_value("measured").run()
+    at.file_uploader(key="record_upload").upload(LOGGER.name, LOGGER.read_bytes(),
+                                                 "text/csv").run()
+    return at
+
+
+def test_the_record_speaks_the_display_units():
+    """In feet and mph every height and speed the record's section shows is in feet and mph
+    (1 ft = 0.3048 m, 1 mph = 0.44704 m/s exactly, by definition)."""
+    at = AppTest.from_file(APP, default_timeout=120)
+    at.run()
+    at.switch_page(CLIMATE).run()
+    at.radio(key="length_unit").set_value("ft").run()
+    at.radio(key="speed_unit").set_value("mph").run()
+    _logger_form(at)
+    at.radio(key="rf|where").set_value("position").run()
+    at.selectbox(key="rf|pos").set_value("mill-west-edge").run()
+    at.button(key="build_record").click().run()
+    assert not at.exception, at.exception
+    texts = " ".join(m.value for m in at.main.markdown) + " ".join(i.value for i in at.main.info)
+    texts = texts.replace("\\", "")
+    assert "5 m" not in texts and "2, 5 m" not in texts, texts
+    assert "6.6, 16.4 ft" in texts, texts  # 2 m and 5 m logged heights
+    assert "16.4 ft, so the climate stands at its hub" in texts, texts
+
