@@ -213,7 +213,17 @@ def render() -> None:
         st.error(f"**{widgets.plain(where)}:** {widgets.plain(msg)}", icon=":material/error:")
     res = ss.get("record_result")
     if res:
+        if kept and res.get("built_with") != _built_with(kept, settings, reference):
+            st.warning("The climate below was built with other settings (or files) than "
+                       "those above: the results use it as built. Build the climate again "
+                       "to use the settings above.", icon=":material/warning:")
         _show(res)
+
+
+def _built_with(kept: dict, settings: tuple, reference: tuple | None) -> tuple:
+    """What a build depends on, to notice a setting changed since (files by name and size)."""
+    ref = tuple((k, v) for k, v in reference if k != "data") if reference else None
+    return (kept["name"], kept["size"], settings, ref)
 
 
 def _build(kept: dict, settings: tuple, reference: tuple | None) -> None:
@@ -242,7 +252,8 @@ def _build(kept: dict, settings: tuple, reference: tuple | None) -> None:
         if state.get_path(f"positions.{i}.mast_height_m") != mast:
             state.set_path(f"positions.{i}.mast_height_m", mast)
             moved = (pid, mast)
-    ss["record_result"] = dict(view, file=kept["name"], reference_file=ref_name, moved=moved)
+    ss["record_result"] = dict(view, file=kept["name"], reference_file=ref_name, moved=moved,
+                               built_with=_built_with(kept, settings, reference))
     state.set_local_problems("climate", [])
     state.clear_widgets()
     state.validate()

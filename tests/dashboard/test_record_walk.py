@@ -113,3 +113,19 @@ def test_the_record_speaks_the_display_units():
     assert "6.6, 16.4 ft" in texts, texts  # 2 m and 5 m logged heights
     assert "16.4 ft, so the climate stands at its hub" in texts, texts
 
+
+def test_settings_changed_since_the_build_are_said():
+    """Sectors changed after building: the page says the climate shown was built with other
+    settings, until it is built again."""
+    at = AppTest.from_file(APP, default_timeout=120)
+    at.run()
+    at.switch_page(CLIMATE).run()
+    _logger_form(at)
+    at.button(key="build_record").click().run()
+    assert not any("built with other settings" in w.value for w in at.main.warning)
+    at.selectbox(key="rf|n").set_value(16).run()
+    assert any("built with other settings" in w.value for w in at.main.warning)
+    assert at.session_state["valid"].climate.n_sectors == 12  # nothing changes by itself
+    at.button(key="build_record").click().run()
+    assert at.session_state["valid"].climate.n_sectors == 16
+    assert not any("built with other settings" in w.value for w in at.main.warning)
