@@ -41,8 +41,13 @@ def _form() -> dict:
 
 
 def _keep_upload(up, slot: str) -> None:
-    """Keep an uploaded file's bytes in the session (one per slot, bounded)."""
+    """Keep an uploaded file's bytes in the session (one per slot, bounded). A file forgotten
+    with "Forget it" is not kept again while the uploader still shows it."""
+    ss = st.session_state
     if up is None:
+        ss.pop(f"{slot}_forgotten", None)
+        return
+    if ss.get(f"{slot}_forgotten") == (up.name, up.size):
         return
     kept = st.session_state.get(slot)
     if kept and kept["name"] == up.name and kept["size"] == up.size:
@@ -57,12 +62,20 @@ def _keep_upload(up, slot: str) -> None:
 
 def _kept_line(slot: str, what: str) -> None:
     kept = st.session_state.get(slot)
+    gone = st.session_state.get(f"{slot}_forgotten")
+    if gone and not kept:
+        st.caption(f"{what} {widgets.plain(gone[0])} forgotten: remove it from the box above "
+                   "(its ×) to upload it again.")
     if kept:
         c1, c2 = st.columns([4, 1])
         c1.caption(f"{what} kept: **{widgets.plain(kept['name'])}** "
                    f"({kept['size'] / 1024:,.0f} KiB)")
         if c2.button("Forget it", key=f"forget_{slot}"):
-            del st.session_state[slot]
+            ss = st.session_state
+            ss[f"{slot}_forgotten"] = (kept["name"], kept["size"])
+            del ss[slot]
+            # A failed build's messages were about the files; the climate in use is unchanged.
+            state.set_local_problems("climate", [])
             st.rerun()
 
 
@@ -212,6 +225,9 @@ def render() -> None:
     for where, msg in ss["local_problems"].get("climate", []):
         st.error(f"**{widgets.plain(where)}:** {widgets.plain(msg)}", icon=":material/error:")
     res = ss.get("record_result")
+    if kept and not res:
+        st.info("The record is kept, but the climate is not built from it yet: the results "
+                "use the climate below until you build it.", icon=":material/info:")
     if res:
         if kept and res.get("built_with") != _built_with(kept, settings, reference):
             st.warning("The climate below was built with other settings (or files) than "

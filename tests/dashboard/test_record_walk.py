@@ -129,3 +129,29 @@ def test_settings_changed_since_the_build_are_said():
     at.button(key="build_record").click().run()
     assert at.session_state["valid"].climate.n_sectors == 16
     assert not any("built with other settings" in w.value for w in at.main.warning)
+
+
+def test_forgetting_a_record_that_failed_to_build_clears_its_message():
+    """A record that could not be built, then forgotten: its message and the step's mark go
+    with it, since the climate in use never changed."""
+    at = AppTest.from_file(APP, default_timeout=120)
+    at.run()
+    at.switch_page(CLIMATE).run()
+    at.radio(key="climate_mode_w").set_value("measured").run()
+    at.file_uploader(key="record_upload").upload("empty.csv", b"", "text/csv").run()
+    at.button(key="build_record").click().run()
+    assert _page_status(at) == "1"
+    at.button(key="forget_record_file").click().run()
+    assert not at.exception, at.exception
+    assert _page_status(at) == "ok"
+    assert "All steps complete." in [s.value for s in at.sidebar.success]
+
+
+def test_a_record_kept_but_not_built_says_the_climate_is_not_yet_from_it():
+    at = AppTest.from_file(APP, default_timeout=120)
+    at.run()
+    at.switch_page(CLIMATE).run()
+    _logger_form(at)
+    assert any("not built from it yet" in i.value for i in at.main.info)
+    at.button(key="build_record").click().run()
+    assert not any("not built from it yet" in i.value for i in at.main.info)
