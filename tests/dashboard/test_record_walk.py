@@ -155,3 +155,16 @@ def test_a_record_kept_but_not_built_says_the_climate_is_not_yet_from_it():
     assert any("not built from it yet" in i.value for i in at.main.info)
     at.button(key="build_record").click().run()
     assert not any("not built from it yet" in i.value for i in at.main.info)
+
+
+def test_a_rename_made_while_another_way_is_shown_reaches_the_kept_record_climate():
+    """Built at a position, switched to the sector table, the position renamed, switched back:
+    the measured climate kept for that way names the new id."""
+    at = _built_at("mill-west-edge")
+    at.radio(key="climate_mode_w").set_value("table").run()
+    _edit(at, LAYOUT, "positions", edited_rows={_row(at, "mill-west-edge"): {"name": "mill-w"}})
+    at.switch_page(CLIMATE).run()
+    at.radio(key="climate_mode_w").set_value("measured").run()
+    assert not at.exception, at.exception
+    assert at.session_state["draft"]["climate"]["position_id"] == "mill-w"
+    assert at.session_state["problems"] == [], at.session_state["problems"]
