@@ -176,22 +176,26 @@ def _mean_form() -> None:
     eng = _engine_climate()
     clim = state.get_path("climate") or {}
     try:
+        # The reference fields as typed (a 0 or a blank is named beside its field by the
+        # working copy's check, never replaced by a default here).
         built = eng.climate_from_mean_speed(
             form["mean_ms"] if form["mean_ms"] is not None else float("nan"),
-            height_m=float(clim.get("height_m") or 10.0),
-            roughness_m=float(clim.get("roughness_m") or RECORD_ROUGHNESS_M),
-            displacement_m=float(clim.get("displacement_m") or 0.0))
+            height_m=clim.get("height_m"), roughness_m=clim.get("roughness_m"),
+            displacement_m=clim.get("displacement_m"))
         from engine.io import sitefile
         new = sitefile.assessment_to_dict(built)
         if new != clim:
             state.set_path("climate", new)
             state.validate()
-    except InputError as e:
-        for _, msg in e.problems:
+    except (InputError, TypeError, ValueError) as e:
+        # Only the mean speed is this form's own field; the others' problems are the working
+        # copy's and shown beside them.
+        own = [m for w, m in getattr(e, "problems", ()) if w == "mean_speed_ms"]
+        for msg in own:
             st.error(f"**Long-term mean wind speed ({s_unit})** {widgets.plain(msg)} "
                      "(checked in m/s)",
                      icon=":material/error:")
-        state.set_local_problems("climate", [("climate.mean_speed", m) for _, m in e.problems])
+        state.set_local_problems("climate", [("climate.mean_speed", m) for m in own])
         return
     state.set_local_problems("climate", [])
 

@@ -525,7 +525,8 @@ def climate_from_mean_speed(mean_speed_ms: float, *, height_m: float,
     c = V̄ / Γ(1 + 1/2) = 2 V̄ / √π.
     """
     p = Problems()
-    check_range(p, "mean_speed_ms", mean_speed_ms, 0, 30, "m/s", lo_open=True)
+    # 0.1 m/s: at least the smallest Weibull c a climate holds (c = 2V/sqrt(pi) > V).
+    check_range(p, "mean_speed_ms", mean_speed_ms, 0.1, 30, "m/s")
     if not isinstance(n_sectors, (int, np.integer)) or not 1 <= n_sectors <= 72:
         p.add("n_sectors", f"must be a whole number 1..72, got {n_sectors!r}")
     p.raise_if_any()

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import pytest
 from streamlit.testing.v1 import AppTest
 
 from test_status_walk import _edit, _page_status
@@ -168,3 +169,36 @@ def test_a_rename_made_while_another_way_is_shown_reaches_the_kept_record_climat
     assert not at.exception, at.exception
     assert at.session_state["draft"]["climate"]["position_id"] == "mill-w"
     assert at.session_state["problems"] == [], at.session_state["problems"]
+
+
+def _mean_way() -> AppTest:
+    at = AppTest.from_file(APP, default_timeout=120)
+    at.run()
+    at.switch_page(CLIMATE).run()
+    at.radio(key="climate_mode_w").set_value("mean_speed").run()
+    assert not at.exception, at.exception
+    return at
+
+
+def test_mean_speed_way_keeps_a_reference_height_typed_as_zero_and_names_it():
+    """0 m typed as the reference height is neither replaced by 10 m nor left unnamed: the
+    height field says what is wrong, and the banner counts what is shown."""
+    at = _mean_way()
+    at.number_input(key="w|climate.height_m|length|m").set_value(0.0).run()
+    assert at.session_state["draft"]["climate"]["height_m"] == 0.0
+    assert _page_status(at) == "1"
+    assert "Reference height (m)" in " ".join(e.value for e in at.main.error)
+
+
+@pytest.mark.parametrize("key, value", [("w|climate.height_m|length|m", -3.0),
+                                        ("w|climate.roughness_m|length|m", -3.0),
+                                        ("mf|mean|m/s", 1e-9)])
+def test_mean_speed_way_names_each_problem_once_by_its_own_field(key, value):
+    at = _mean_way()
+    at.number_input(key=key).set_value(value).run()
+    errors = [e.value for e in at.main.error]
+    assert _page_status(at) == "1", errors
+    if key.startswith("w|"):
+        assert not any("mean wind speed" in e for e in errors), errors
+    else:
+        assert "mean wind speed" in errors[0], errors
