@@ -154,11 +154,22 @@ def _table_form() -> None:
         state.set_path("climate", new)
         state.validate()
     widgets.row_messages("climate", [{} for _ in edited], {})
+    _table_messages({f: lab for f, lab, _, _ in cols}, s_unit)
+
+
+def _table_messages(labels: dict, s_unit: str) -> None:
+    """The engine's messages on the sector table, by row and column as the table shows them
+    (``climate.weibull_c_ms[2]`` is "Sector 3, Weibull c (mph)")."""
     for where, msg in st.session_state["problems"]:
-        if where.startswith("climate.") and where.split(".")[1].split("[")[0] in (
-                "frequency", "weibull_k", "weibull_c_ms"):
-            st.error(f"**{widgets.plain(where.split('.', 1)[1])}:** {widgets.plain(msg)}",
-                     icon=":material/error:")
+        if not where.startswith("climate."):
+            continue
+        field, _, index = where.split(".", 1)[1].partition("[")
+        if field not in labels:
+            continue
+        row = f"Sector {int(index.rstrip(']')) + 1}, " if index.rstrip("]").isdigit() else ""
+        note = " (checked in m/s)" if field == "weibull_c_ms" and s_unit != "m/s" else ""
+        st.error(f"**{row}{labels[field]}:** {widgets.plain(msg)}{note}",
+                 icon=":material/error:")
 
 
 def _mean_form() -> None:

@@ -202,3 +202,22 @@ def test_mean_speed_way_names_each_problem_once_by_its_own_field(key, value):
         assert not any("mean wind speed" in e for e in errors), errors
     else:
         assert "mean wind speed" in errors[0], errors
+
+
+def test_sector_table_messages_name_the_row_and_column_as_shown():
+    """A bad Weibull c in the third row, in mph: the message names "Sector 3" and the
+    column's own label, and says the rule is checked in m/s (not "weibull_c_ms[2]")."""
+    at = AppTest.from_file(APP, default_timeout=120)
+    at.run()
+    at.switch_page(CLIMATE).run()
+    at.radio(key="speed_unit").set_value("mph").run()
+    at.radio(key="climate_mode_w").set_value("table").run()
+    key = f"ed|climate_table|{at.session_state['gen']}|mph|m"
+    at.session_state[key] = {"edited_rows": {2: {"Weibull c (mph)": 0.0}}, "added_rows": [],
+                             "deleted_rows": []}
+    at.run()
+    assert not at.exception, at.exception
+    errors = [e.value.replace("\\", "") for e in at.main.error]
+    assert _page_status(at) == "1", errors
+    assert errors[0].startswith("**Sector 3, Weibull c (mph):**"), errors
+    assert "checked in m/s" in errors[0] and "weibull_c_ms" not in errors[0], errors
