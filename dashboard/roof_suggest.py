@@ -138,12 +138,18 @@ def section(draft: dict, edit: bool, L: str) -> None:
         return
     c1, c2, c3 = st.columns(3)
     building = c1.selectbox("Building", ids, key="suggest_building")
+    # Kept in SI, so a change of units shows what was typed, converted, not the default.
+    kept = ss.setdefault("suggest_settings_m", {"spacing": rs.DEFAULT_SPACING_M,
+                                                "setback": DEFAULT_SETBACK_M})
     spacing = c2.number_input(f"Grid spacing ({L})", key=f"suggest_spacing|{L}",
-                              value=state.to_display(rs.DEFAULT_SPACING_M, "length"),
+                              value=state.to_display(kept["spacing"], "length"),
                               format="%.1f")
     setback = c3.number_input(f"Kept from every edge ({L})", key=f"suggest_setback|{L}",
-                              value=state.to_display(DEFAULT_SETBACK_M, "length"),
+                              value=state.to_display(kept["setback"], "length"),
                               format="%.1f")
+    for name, v in (("spacing", spacing), ("setback", setback)):
+        if v is not None:
+            kept[name] = state.to_si(float(v), "length")
     st.caption("Candidates at the roof's centre and on a grid kept away from its edges, each "
                "with the shortest mast that keeps the largest chosen rotor clear of the roof's "
                "turbulence zone. A suggestion is where to look, not a verdict: the ranked "

@@ -186,3 +186,14 @@ def test_a_moved_suggestion_gets_its_mast_again_and_off_the_roof_is_refused():
     msg = _text(at, "error")
     assert f"{name}: must be on the roof of mill" in msg and "move it onto the roof" in msg
     assert len(at.session_state["draft"]["positions"]) == n
+
+
+def test_spacing_and_set_back_typed_survive_a_change_of_units():
+    """4 m and 1.5 m typed, then feet chosen: the fields show 13.1 ft and 4.9 ft (1 ft =
+    0.3048 m exactly, by definition), not the defaults."""
+    at = _layout()
+    at.number_input(key="suggest_spacing|m").set_value(4.0).run()
+    at.number_input(key="suggest_setback|m").set_value(1.5).run()
+    at.radio(key="length_unit").set_value("ft").run()
+    assert at.number_input(key="suggest_spacing|ft").value == pytest.approx(4.0 / 0.3048)
+    assert at.number_input(key="suggest_setback|ft").value == pytest.approx(1.5 / 0.3048)
