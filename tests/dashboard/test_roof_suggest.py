@@ -197,3 +197,16 @@ def test_spacing_and_set_back_typed_survive_a_change_of_units():
     at.radio(key="length_unit").set_value("ft").run()
     assert at.number_input(key="suggest_spacing|ft").value == pytest.approx(4.0 / 0.3048)
     assert at.number_input(key="suggest_setback|ft").value == pytest.approx(1.5 / 0.3048)
+
+
+def test_suggestions_follow_a_renamed_building():
+    """Suggested on mill, mill renamed before accepting: the suggestions stay, on the new
+    name, and accepting puts them on it."""
+    at = _layout()
+    _suggest(at, "mill")
+    n = len(at.session_state["roof_suggestions"]["rows"])
+    i = [b["id"] for b in at.session_state["draft"]["buildings"]].index("mill")
+    _edit(at, "buildings", edited={i: {"name": "old-mill"}})
+    got = at.session_state["roof_suggestions"]
+    assert got["building"] == "old-mill" and len(got["rows"]) == n
+    assert not any("no longer on the site" in w.value for w in at.main.warning)
