@@ -37,7 +37,9 @@ def _columns(L: str) -> list:
                                                 "rotor radius so the whole rotor clears it")),
         ("edge_distance_m", f"to the nearest edge ({L})", "length",
          num(format="%.1f", disabled=True)),
-        ("why", "why here", "text", st.column_config.TextColumn(disabled=True)),
+        # The engine's words give their lengths in metres; the label says so in feet.
+        ("why", "why here" if L == "m" else "why here (lengths in m)", "text",
+         st.column_config.TextColumn(disabled=True, width="large")),
     ]
 
 
