@@ -335,9 +335,11 @@ def _checked_series(speed_ms, direction_deg, height_m, roughness_m, n_sectors, m
         p.add("direction_deg", f"must have one value per speed ({v.size}), got {d.size}")
     p.raise_if_any()
     if v.size < 10 or np.count_nonzero(v > 0) < 10:
-        raise InputError([("record", f"has {np.count_nonzero(v > 0)} valid non-zero speeds; at "
-                                     "least 10 are needed for a Weibull fit (check the quality-"
-                                     "control report for what was excluded)")])
+        n_pos = np.count_nonzero(v > 0)
+        raise InputError([("record", f"has {n_pos} non-zero speeds of {v.size} valid ones "
+                                     f"({v.size - n_pos} zero); at least 10 non-zero are needed "
+                                     "for a Weibull fit: check the speed column (a sensor "
+                                     "logging zeros) or use a longer record")])
     return v, d
 
 

@@ -126,3 +126,18 @@ def test_a_record_quality_control_empties_says_why_before_any_fit():
     (w, m), = e.value.problems
     assert w == "huge.csv" and "quality control excluded 500 of 500 rows" in m, m
     assert "outside" in m, m
+
+
+def test_a_record_of_calms_only_says_so():
+    """Every speed 0 (calm, or a dead sensor logging zeros): quality control keeps the rows,
+    and the message says how many of the valid speeds are zero rather than pointing to a
+    report."""
+    import numpy as np
+    from engine.core.errors import InputError
+    t = np.datetime64("2025-01-01T00:00") + np.arange(500) * np.timedelta64(10, "m")
+    text = "time,speed_ms,dir_deg\n" + "".join(f"{a}Z,0,{(7 * k) % 360}\n"
+                                              for k, a in enumerate(t))
+    with pytest.raises(InputError) as e:
+        site_record.record_climate(text.encode(), "calm.csv")
+    (w, m), = e.value.problems
+    assert "0 non-zero speeds of 500" in m and "500 zero" in m, m
