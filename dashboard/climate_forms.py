@@ -70,6 +70,35 @@ def render(mode: str) -> None:
     elif mode == "measured":
         _record_form()
     _reference_fields(mode)
+    _other_problems(mode)
+
+
+#: The climate fields each way shows with their messages beneath them.
+FIELDS_SHOWN = {"measured": ()}
+_REFERENCE_FIELDS = ("height_m", "roughness_m", "displacement_m", "label")
+#: Site-file climate field -> its name on this page, for a message no field shows.
+CLIMATE_LABELS = {"position_id": "Position the record was measured at",
+                  "measured_at": "Where the record was measured",
+                  "height_m": "Height of the measured climate",
+                  "frequency": "Sector frequencies", "weibull_k": "Weibull k",
+                  "weibull_c_ms": "Weibull c"}
+
+
+def _other_problems(mode: str) -> None:
+    """The engine's climate messages that no field of this way shows (a measured climate's
+    position or height after an edit in step 3, say), so the banner's count is all visible."""
+    shown = FIELDS_SHOWN.get(mode, _REFERENCE_FIELDS + (
+        ("frequency", "weibull_k", "weibull_c_ms") if mode == "table" else ()))
+    for where, msg in st.session_state["problems"]:
+        if not where.startswith("climate."):
+            continue
+        field = where.split(".", 1)[1].split("[")[0]
+        if field in shown:
+            continue
+        hint = (" On this page: choose where the record was measured and build the climate "
+                "again." if mode == "measured" and field in ("position_id", "height_m") else "")
+        label = CLIMATE_LABELS.get(field, field.replace("_", " "))
+        st.error(f"**{label}:** {widgets.plain(msg)}{hint}", icon=":material/error:")
 
 
 def _reference_fields(mode: str) -> None:
@@ -125,11 +154,22 @@ def _table_form() -> None:
         state.set_path("climate", new)
         state.validate()
     widgets.row_messages("climate", [{} for _ in edited], {})
+    _table_messages({f: lab for f, lab, _, _ in cols}, s_unit)
+
+
+def _table_messages(labels: dict, s_unit: str) -> None:
+    """The engine's messages on the sector table, by row and column as the table shows them
+    (``climate.weibull_c_ms[2]`` is "Sector 3, Weibull c (mph)")."""
     for where, msg in st.session_state["problems"]:
-        if where.startswith("climate.") and where.split(".")[1].split("[")[0] in (
-                "frequency", "weibull_k", "weibull_c_ms"):
-            st.error(f"**{where.split('.', 1)[1]}:** {widgets.plain(msg)}",
-                     icon=":material/error:")
+        if not where.startswith("climate."):
+            continue
+        field, _, index = where.split(".", 1)[1].partition("[")
+        if field not in labels:
+            continue
+        row = f"Sector {int(index.rstrip(']')) + 1}, " if index.rstrip("]").isdigit() else ""
+        note = " (checked in m/s)" if field == "weibull_c_ms" and s_unit != "m/s" else ""
+        st.error(f"**{row}{labels[field]}:** {widgets.plain(msg)}{note}",
+                 icon=":material/error:")
 
 
 def _mean_form() -> None:
@@ -147,22 +187,26 @@ def _mean_form() -> None:
     eng = _engine_climate()
     clim = state.get_path("climate") or {}
     try:
+        # The reference fields as typed (a 0 or a blank is named beside its field by the
+        # working copy's check, never replaced by a default here).
         built = eng.climate_from_mean_speed(
             form["mean_ms"] if form["mean_ms"] is not None else float("nan"),
-            height_m=float(clim.get("height_m") or 10.0),
-            roughness_m=float(clim.get("roughness_m") or RECORD_ROUGHNESS_M),
-            displacement_m=float(clim.get("displacement_m") or 0.0))
+            height_m=clim.get("height_m"), roughness_m=clim.get("roughness_m"),
+            displacement_m=clim.get("displacement_m"))
         from engine.io import sitefile
         new = sitefile.assessment_to_dict(built)
         if new != clim:
             state.set_path("climate", new)
             state.validate()
-    except InputError as e:
-        for _, msg in e.problems:
+    except (InputError, TypeError, ValueError) as e:
+        # Only the mean speed is this form's own field; the others' problems are the working
+        # copy's and shown beside them.
+        own = [m for w, m in getattr(e, "problems", ()) if w == "mean_speed_ms"]
+        for msg in own:
             st.error(f"**Long-term mean wind speed ({s_unit})** {widgets.plain(msg)} "
                      "(checked in m/s)",
                      icon=":material/error:")
-        state.set_local_problems("climate", [("climate.mean_speed", m) for _, m in e.problems])
+        state.set_local_problems("climate", [("climate.mean_speed", m) for m in own])
         return
     state.set_local_problems("climate", [])
 

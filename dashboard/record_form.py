@@ -41,8 +41,13 @@ def _form() -> dict:
 
 
 def _keep_upload(up, slot: str) -> None:
-    """Keep an uploaded file's bytes in the session (one per slot, bounded)."""
+    """Keep an uploaded file's bytes in the session (one per slot, bounded). A file forgotten
+    with "Forget it" is not kept again while the uploader still shows it."""
+    ss = st.session_state
     if up is None:
+        ss.pop(f"{slot}_forgotten", None)
+        return
+    if ss.get(f"{slot}_forgotten") == (up.name, up.size):
         return
     kept = st.session_state.get(slot)
     if kept and kept["name"] == up.name and kept["size"] == up.size:
@@ -57,12 +62,20 @@ def _keep_upload(up, slot: str) -> None:
 
 def _kept_line(slot: str, what: str) -> None:
     kept = st.session_state.get(slot)
+    gone = st.session_state.get(f"{slot}_forgotten")
+    if gone and not kept:
+        st.caption(f"{what} {widgets.plain(gone[0])} forgotten: remove it from the box above "
+                   "(its ×) to upload it again.")
     if kept:
         c1, c2 = st.columns([4, 1])
         c1.caption(f"{what} kept: **{widgets.plain(kept['name'])}** "
                    f"({kept['size'] / 1024:,.0f} KiB)")
         if c2.button("Forget it", key=f"forget_{slot}"):
-            del st.session_state[slot]
+            ss = st.session_state
+            ss[f"{slot}_forgotten"] = (kept["name"], kept["size"])
+            del ss[slot]
+            # A failed build's messages were about the files; the climate in use is unchanged.
+            state.set_local_problems("climate", [])
             st.rerun()
 
 
@@ -80,19 +93,26 @@ def _number(label: str, form: dict, name: str, kind: str, fmt: str, help=None):
 def _position_base(form: dict):
     """(base height above ground [m], position id) of the chosen position, or (0, "")."""
     a = st.session_state["valid"]
-    ids = [p.id for p in a.positions]
+    ids = [p.id for p in a.positions if p.id in _draft_position_ids()]
     if not ids:
         st.warning("This site has no positions yet (step 3); the record is taken as a "
                    "reference.", icon=":material/warning:")
         return 0.0, ""
     if form["position_id"] not in ids:
         form["position_id"] = ids[0]
-    if "rf|pos" not in st.session_state:
+    if st.session_state.get("rf|pos") not in ids:  # unset, or deleted or renamed in step 3
         st.session_state["rf|pos"] = form["position_id"]
     pid = st.selectbox("Position the logger stands at", ids, key="rf|pos")
     form["position_id"] = pid
     pos = next(p for p in a.positions if p.id == pid)
     return float(a.base_height_m(pos)), pid
+
+
+def _draft_position_ids() -> set:
+    """Ids of the working copy's positions (the last valid assessment may still hold one
+    deleted or renamed since)."""
+    return {str(p.get("id")) for p in state.get_path("positions", []) or []
+            if isinstance(p, dict)}
 
 
 def _settings(form: dict, data: bytes) -> tuple:
@@ -107,7 +127,7 @@ def _settings(form: dict, data: bytes) -> tuple:
     c1, c2, c3 = st.columns(3)
     with c1:
         if heights:
-            st.markdown(f"Logged heights: {', '.join(f'{z:g}' for z in heights)} m above "
+            st.markdown(f"Logged heights: {_lengths(heights, L)} {L} above "
                         f"the logger's base; the climate uses the top one, "
                         f"{units.length_from_si(base + heights[-1], L):.1f} {L} above ground.")
         else:
@@ -125,6 +145,12 @@ def _settings(form: dict, data: bytes) -> tuple:
             ("roughness_m", form["roughness_m"]), ("n_sectors", int(form["n_sectors"])),
             ("speed_unit", None if unit == "from the header" else unit),
             ("altitude_m", float(state.get_path("site.altitude_m") or 0.0)))
+
+
+def _lengths(values_m, unit: str) -> str:
+    """Lengths [m] as a comma-separated list in ``unit``, to 0.1 (2 m as "2")."""
+    return ", ".join(f"{units.length_from_si(z, unit):.1f}".rstrip("0").rstrip(".")
+                     for z in values_m)
 
 
 def _day_ns(day) -> int | None:
@@ -199,13 +225,32 @@ def render() -> None:
     for where, msg in ss["local_problems"].get("climate", []):
         st.error(f"**{widgets.plain(where)}:** {widgets.plain(msg)}", icon=":material/error:")
     res = ss.get("record_result")
+    if kept and not res:
+        st.info("The record is kept, but the climate is not built from it yet: the results "
+                "use the climate below until you build it.", icon=":material/info:")
     if res:
+        if kept and res.get("built_with") != _built_with(kept, settings, reference):
+            st.warning("The climate below was built with other settings (or files) than "
+                       "those above: the results use it as built. Build the climate again "
+                       "to use the settings above.", icon=":material/warning:")
         _show(res)
+
+
+def _built_with(kept: dict, settings: tuple, reference: tuple | None) -> tuple:
+    """What a build depends on, to notice a setting changed since (files by name and size)."""
+    ref = tuple((k, v) for k, v in reference if k != "data") if reference else None
+    return (kept["name"], kept["size"], settings, ref)
 
 
 def _build(kept: dict, settings: tuple, reference: tuple | None) -> None:
     ss = st.session_state
     ref_name = dict(reference)["name"] if reference else ""
+    pid = dict(settings)["position_id"]
+    if pid and pid not in _draft_position_ids():
+        state.set_local_problems("climate", [(
+            "Position the logger stands at", f"must be one of the site's positions, got "
+            f"{pid!r}, which step 3 no longer has; choose another or a reference")])
+        return
     try:
         with st.spinner("Reading, checking and fitting the record…"):
             view = cache.record_climate(kept["data"], kept["name"], settings, reference)
@@ -215,16 +260,16 @@ def _build(kept: dict, settings: tuple, reference: tuple | None) -> None:
         return
     clim = view["climate"]
     state.set_path("climate", clim)
-    base, pid = dict(settings)["base_height_m"], dict(settings)["position_id"]
+    base = dict(settings)["base_height_m"]
     moved = ""
     if pid:
         i = [p.get("id") for p in state.get_path("positions", [])].index(pid)
         mast = round(clim["height_m"] - base, 3)
         if state.get_path(f"positions.{i}.mast_height_m") != mast:
             state.set_path(f"positions.{i}.mast_height_m", mast)
-            moved = (f"Position {pid}'s mast set to the logger's height above its base, "
-                     f"{mast:g} m, so the climate stands at its hub.")
-    ss["record_result"] = dict(view, file=kept["name"], reference_file=ref_name, moved=moved)
+            moved = (pid, mast)
+    ss["record_result"] = dict(view, file=kept["name"], reference_file=ref_name, moved=moved,
+                               built_with=_built_with(kept, settings, reference))
     state.set_local_problems("climate", [])
     state.clear_widgets()
     state.validate()
@@ -234,13 +279,17 @@ def _show(res: dict) -> None:
     """What the engine found: quality control, notes, measured TI and shear, the correction."""
     st.markdown(f"**Quality control of {widgets.plain(res['file'])}**")
     st.code(res["qc"], language=None)
+    L, S = state.unit_of("length"), state.unit_of("speed")
     if res.get("moved"):
-        st.info(widgets.plain(res["moved"]), icon=":material/info:")
+        pid, mast = res["moved"]
+        st.info(widgets.plain(f"Position {pid}'s mast set to the logger's height above its "
+                              f"base, {_lengths([mast], L)} {L}, so the climate stands at its "
+                              "hub."), icon=":material/info:")
     for note in res["notes"]:
         st.warning(widgets.plain(note), icon=":material/warning:")
     if res["measured"] is not None:
-        st.markdown(f"**Measured at {res['height_m']:g} m** (logged heights "
-                    f"{', '.join(f'{z:g}' for z in res['heights_m'])} m above the base)")
+        st.markdown(f"**Measured at {_lengths([res['height_m']], L)} {L}** (logged heights "
+                    f"{_lengths(res['heights_m'], L)} {L} above the base)")
         if res["shear_all"] is not None:
             st.caption(f"Shear exponent over all sectors: {res['shear_all']:.3f} (power law "
                        "between the logged heights)")
@@ -249,10 +298,10 @@ def _show(res: dict) -> None:
                                     for c in ("measured TI", "shear exponent")})
     lt = res.get("long_term")
     if lt:
-        _show_long_term(lt, res.get("reference_file", ""))
+        _show_long_term(lt, res.get("reference_file", ""), S)
 
 
-def _show_long_term(lt: dict, name: str) -> None:
+def _show_long_term(lt: dict, name: str, S: str) -> None:
     s, u = lt["stats"], lt["uncertainty"]
     st.markdown(f"**Long-term correction against {widgets.plain(name)}** "
                 f"({widgets.plain(record_view.METHOD_WORDS.get(s['method'], s['method']))})")
@@ -261,7 +310,8 @@ def _show_long_term(lt: dict, name: str) -> None:
               delta_color="off", delta_arrow="off")
     c2.metric("Correlation r", f"{s['correlation']:.2f}")
     c3.metric("Long-term adjustment", f"{lt['adjustment']:+.1%}",
-              f"{s['target_mean_ms']:.2f} → {s['long_term_mean_ms']:.2f} m/s",
+              f"{units.speed_from_si(s['target_mean_ms'], S):.2f} → "
+              f"{units.speed_from_si(s['long_term_mean_ms'], S):.2f} {S}",
               delta_color="off", delta_arrow="off",
               help="Long-term mean speed at the site against the mean measured over the "
                    "concurrent period")

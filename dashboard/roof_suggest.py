@@ -37,8 +37,14 @@ def _columns(L: str) -> list:
                                                 "rotor radius so the whole rotor clears it")),
         ("edge_distance_m", f"to the nearest edge ({L})", "length",
          num(format="%.1f", disabled=True)),
-        ("why", "why here", "text", st.column_config.TextColumn(disabled=True)),
+        # The engine's words give their lengths in metres; the label says so in feet.
+        ("why", "why here" if L == "m" else "why here (lengths in m)", "text",
+         st.column_config.TextColumn(disabled=True, width="large")),
     ]
+
+
+#: The engine's name of a suggestion setting -> the field's label on the page.
+SETTING_LABELS = {"spacing": "Grid spacing", "set-back": "Kept from every edge"}
 
 
 def _suggest(assessment, building: str, spacing_m, setback_m) -> None:
@@ -47,8 +53,11 @@ def _suggest(assessment, building: str, spacing_m, setback_m) -> None:
         frame = rs.suggest_roof_positions(assessment, building, spacing_m=spacing_m,
                                           setback_m=setback_m)
     except InputError as e:
+        note = "" if state.unit_of("length") == "m" else " (checked in metres)"
         ss[KEY] = {"building": building, "rows": [],
-                   "error": [f"{where}: {msg}" for where, msg in e.problems]}
+                   "error": [f"{SETTING_LABELS.get(where, where)}: {msg}"
+                             f"{note if where in SETTING_LABELS else ''}"
+                             for where, msg in e.problems]}
         return
     rows = frame.to_dict("records")
     for r in rows:
@@ -131,12 +140,18 @@ def section(draft: dict, edit: bool, L: str) -> None:
         return
     c1, c2, c3 = st.columns(3)
     building = c1.selectbox("Building", ids, key="suggest_building")
+    # Kept in SI, so a change of units shows what was typed, converted, not the default.
+    kept = ss.setdefault("suggest_settings_m", {"spacing": rs.DEFAULT_SPACING_M,
+                                                "setback": DEFAULT_SETBACK_M})
     spacing = c2.number_input(f"Grid spacing ({L})", key=f"suggest_spacing|{L}",
-                              value=state.to_display(rs.DEFAULT_SPACING_M, "length"),
+                              value=state.to_display(kept["spacing"], "length"),
                               format="%.1f")
     setback = c3.number_input(f"Kept from every edge ({L})", key=f"suggest_setback|{L}",
-                              value=state.to_display(DEFAULT_SETBACK_M, "length"),
+                              value=state.to_display(kept["setback"], "length"),
                               format="%.1f")
+    for name, v in (("spacing", spacing), ("setback", setback)):
+        if v is not None:
+            kept[name] = state.to_si(float(v), "length")
     st.caption("Candidates at the roof's centre and on a grid kept away from its edges, each "
                "with the shortest mast that keeps the largest chosen rotor clear of the roof's "
                "turbulence zone. A suggestion is where to look, not a verdict: the ranked "

@@ -45,6 +45,17 @@ OPTION_LABELS = {"sector_fetch_m": "Upwind fetch", "tile_m": "Tile side",
                  "upwind_shelter": "Upwind neighbours' wakes"}
 
 
+def _option_problems(problems) -> list:
+    """The engine's option messages by the page's labels, the rule's unit said in feet."""
+    note = "" if state.unit_of("length") == "m" else " (checked in metres)"
+    out = []
+    for w, m in problems:
+        if w in OPTION_LABELS:
+            m = m.replace("transfer.sector_fetch_m", "(Upwind fetch)") + note
+        out.append((OPTION_LABELS.get(w, w), m))
+    return out
+
+
 def _run(source_path: Path, turbine_ids, options, show_effect: bool) -> None:
     ss = st.session_state
     ctx = _context(turbine_ids)
@@ -53,7 +64,7 @@ def _run(source_path: Path, turbine_ids, options, show_effect: bool) -> None:
         use = screening_options.with_options(ctx, options)
     except InputError as e:
         ss["screening_result"] = None
-        ss["screening_error"] = [(OPTION_LABELS.get(w, w), m) for w, m in e.problems]
+        ss["screening_error"] = _option_problems(e.problems)
         return
     bar = st.progress(0.0, text="Starting")
     try:

@@ -315,13 +315,18 @@ def renamed_ids(before: list, after: list) -> dict:
     return out
 
 
-def carry_renames(draft: dict, positions: dict, buildings: dict) -> bool:
+def carry_renames(draft: dict, positions: dict, buildings: dict, climates=()) -> bool:
     """Make the rows that name a renamed position or building name it by its new id.
 
-    Spot readings name positions; roof and gap positions name buildings. Returns True when
-    anything changed.
+    Spot readings and a climate measured at a position name positions; roof and gap
+    positions name buildings; ``climates`` are other climates kept for the session (the
+    climate step's other ways). Returns True when anything changed.
     """
     changed = False
+    for clim in (draft.get("climate"), *climates):
+        if isinstance(clim, dict) and clim.get("position_id") in positions:
+            clim["position_id"] = positions[clim["position_id"]]
+            changed = True
     for r in draft.get("spot_readings", []) or []:
         if isinstance(r, dict) and r.get("position_id") in positions:
             r["position_id"] = positions[r["position_id"]]

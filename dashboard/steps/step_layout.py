@@ -64,7 +64,12 @@ for r in prow:
 changed |= prow != draft["positions"]
 renamed_p = state.renamed_ids(draft["positions"], prow)
 draft["positions"] = prow
-if (renamed_b or renamed_p) and state.carry_renames(draft, renamed_p, renamed_b):
+suggested = ss.get(roof_suggest.KEY)
+if suggested and suggested.get("building") in renamed_b:  # suggestions follow their roof
+    suggested["building"] = renamed_b[suggested["building"]]
+    ss["suggest_building"] = suggested["building"]
+if (renamed_b or renamed_p) and state.carry_renames(
+        draft, renamed_p, renamed_b, ss.get("climate_memory", {}).values()):
     # The rows naming a renamed position or building follow the new name; the tables start
     # again from the working copy, which holds every edit so far.
     state.clear_widgets()

@@ -335,9 +335,11 @@ def _checked_series(speed_ms, direction_deg, height_m, roughness_m, n_sectors, m
         p.add("direction_deg", f"must have one value per speed ({v.size}), got {d.size}")
     p.raise_if_any()
     if v.size < 10 or np.count_nonzero(v > 0) < 10:
-        raise InputError([("record", f"has {np.count_nonzero(v > 0)} valid non-zero speeds; at "
-                                     "least 10 are needed for a Weibull fit (check the quality-"
-                                     "control report for what was excluded)")])
+        n_pos = np.count_nonzero(v > 0)
+        raise InputError([("record", f"has {n_pos} non-zero speeds of {v.size} valid ones "
+                                     f"({v.size - n_pos} zero); at least 10 non-zero are needed "
+                                     "for a Weibull fit: check the speed column (a sensor "
+                                     "logging zeros) or use a longer record")])
     return v, d
 
 
@@ -525,7 +527,8 @@ def climate_from_mean_speed(mean_speed_ms: float, *, height_m: float,
     c = V̄ / Γ(1 + 1/2) = 2 V̄ / √π.
     """
     p = Problems()
-    check_range(p, "mean_speed_ms", mean_speed_ms, 0, 30, "m/s", lo_open=True)
+    # 0.1 m/s: at least the smallest Weibull c a climate holds (c = 2V/sqrt(pi) > V).
+    check_range(p, "mean_speed_ms", mean_speed_ms, 0.1, 30, "m/s")
     if not isinstance(n_sectors, (int, np.integer)) or not 1 <= n_sectors <= 72:
         p.add("n_sectors", f"must be a whole number 1..72, got {n_sectors!r}")
     p.raise_if_any()

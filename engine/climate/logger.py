@@ -15,7 +15,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from engine.climate import averaging, measured, qc, shear
-from engine.climate.fit import climate_from_record
+from engine.climate.fit import check_kept_share, climate_from_record
 from engine.climate.long_term import long_term_correction
 from engine.climate.sectors import sector_index
 from engine.core.errors import Problems, check_range
@@ -58,7 +58,7 @@ def logger_climate(data: bytes, file_name: str, *, base_height_m: float = 0.0,
                    utc_offset_h: float = 0.0, reference=None,
                    distance_constant_m: float = measured.DEFAULT_DISTANCE_CONSTANT_M,
                    qc_settings=None, altitude_m: float = 0.0,
-                   heights=None) -> LoggerClimate:
+                   heights=None, max_excluded_share: float | None = None) -> LoggerClimate:
     """Climate of a (multi-height) logger record.
 
     Parameters
@@ -75,6 +75,8 @@ def logger_climate(data: bytes, file_name: str, *, base_height_m: float = 0.0,
     altitude_m : site altitude for ISA pressure when the record has no pressure [m]
     heights : an already read :class:`engine.io.record_columns.HeightRecord` (None: read
         ``data``), e.g. a single-height record (:func:`engine.climate.site_record.record_climate`)
+    max_excluded_share : refuse, before any fit, a record whose quality control excludes a
+        larger share of its rows, naming why (None: no such check here)
     """
     p = Problems()
     check_range(p, "base_height_m", base_height_m, 0, 300, "m")
@@ -85,6 +87,8 @@ def logger_climate(data: bytes, file_name: str, *, base_height_m: float = 0.0,
     i = int(height_index) % len(hr.heights_m)
     rec, z = hr.records[i], float(base_height_m + hr.heights_m[i])
     report = qc.run_qc(rec, qc_settings)
+    if max_excluded_share is not None:  # before a fit, whose own refusal says less
+        check_kept_share(report, max_excluded_share)
     notes, lt = [], None
     if reference:
         lt = long_term_correction(rec, height_m=z, roughness_m=roughness_m,

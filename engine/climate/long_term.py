@@ -151,6 +151,23 @@ def _read_reference(data, name, *, lat_deg, lon_deg, speed_unit, utc_offset_h):
     return rec, {"kind": "csv"}
 
 
+def _day(time_ns) -> str:
+    return str(np.datetime64(int(time_ns), "ns").astype("datetime64[D]"))
+
+
+def _series_not_fitted(error: InputError, method: str, res) -> InputError:
+    """The fit's refusal of a predicted series that barely varies, put as what causes it: a
+    least-squares line through poorly correlated pairs shrinks the spread by r."""
+    if method != "linear" or not any("barely vary" in m for _, m in error.problems):
+        return error
+    r = float(res.concurrent_stats()["correlation"])
+    return InputError([("method", f"must keep the site's spread: the long-term series "
+                                  f"predicted by the linear (least-squares) line barely varies, "
+                                  f"because the concurrent speeds correlate at only r = "
+                                  f"{r:.2f} and the line shrinks the spread by r; choose the "
+                                  "variance ratio method, or a reference that follows the site")])
+
+
 def _period_rows(record, report, start_ns, end_ns):
     """The valid rows, restricted to [start, end) when given."""
     ok = report.valid.copy()
@@ -189,6 +206,11 @@ def long_term_correction(target_record, reference_data, reference_name: str, *, 
     check_range(p, "reference_roughness_m", reference_roughness_m, 1e-4, 5.0, "m")
     if not target_record.has("direction"):
         p.add("target.columns.direction", "the record needs a direction column")
+    if (period_start_ns is not None and period_end_ns is not None
+            and int(period_end_ns) <= int(period_start_ns)):
+        p.add("period", f"must end after it starts, got {_day(period_start_ns)} to "
+                        f"{_day(period_end_ns)}; give a later end, or leave both blank to use "
+                        "every concurrent time step")
     p.raise_if_any()
     ref, info = _read_reference(reference_data, reference_name, lat_deg=lat_deg,
                                 lon_deg=lon_deg, speed_unit=ref_speed_unit,
@@ -207,11 +229,15 @@ def long_term_correction(target_record, reference_data, reference_name: str, *, 
                             ref.si("speed")[rv], ref.si("direction")[rv], method=method,
                             n_sectors=n_sectors)
     unc = correction_uncertainty(res, ref.time_ns[rv], ref.si("speed")[rv])
-    summary = climate_from_series(
-        res.speed_ms, res.direction_deg, res.time_ns, height_m=height_m,
-        roughness_m=roughness_m, n_sectors=n_sectors, method=fit_method, source="long_term",
-        label=f"long-term at the target by {method} against {reference_name}",
-        record_file=target_record.file_name, record_sha256=target_record.sha256)
+    try:
+        summary = climate_from_series(
+            res.speed_ms, res.direction_deg, res.time_ns, height_m=height_m,
+            roughness_m=roughness_m, n_sectors=n_sectors, method=fit_method,
+            source="long_term",
+            label=f"long-term at the target by {method} against {reference_name}",
+            record_file=target_record.file_name, record_sha256=target_record.sha256)
+    except InputError as e:
+        raise _series_not_fitted(e, method, res) from None
     summary = replace(summary, climate=replace(summary.climate,
                                                long_term_uncertainty=min(unc["total"], 1.0)))
     info.update({"file": reference_name, "height_m": float(reference_height_m),

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from engine.climate import measured
-from engine.climate.fit import MAX_EXCLUDED_SHARE, RECORD_ROUGHNESS_M, check_kept_share
+from engine.climate.fit import MAX_EXCLUDED_SHARE, RECORD_ROUGHNESS_M
 from engine.climate.logger import LoggerClimate, logger_climate
 from engine.core.errors import Problems, check_range
 from engine.io import record_columns, records
@@ -112,8 +112,7 @@ def record_climate(data: bytes, file_name: str, *, height_m: float = 10.0,
                         speed_unit=speed_unit, utc_offset_h=utc_offset_h,
                         reference=reference.arguments() if reference else None,
                         distance_constant_m=distance_constant_m, altitude_m=altitude_m,
-                        heights=hr)
-    check_kept_share(lc.qc, max_excluded_share)
+                        heights=hr, max_excluded_share=max_excluded_share)
     return lc
 
 

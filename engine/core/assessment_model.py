@@ -60,12 +60,14 @@ class Assessment:
         for i, pos in enumerate(self.positions):
             if pos.kind == "roof" and pos.building_id not in b_ids:
                 p.add(f"positions[{i}].building_id",
-                      f"names building {pos.building_id!r}, which is not in buildings")
+                      f"names building {pos.building_id!r}, which is not in buildings; "
+                      "choose one of the site's buildings or delete the position")
             if pos.kind == "gap":
                 for b in pos.gap_buildings:
                     if b not in b_ids:
                         p.add(f"positions[{i}].gap_buildings",
-                              f"names building {b!r}, which is not in buildings")
+                              f"names building {b!r}, which is not in buildings; choose "
+                              "one of the site's buildings or delete the position")
                 if len(set(pos.gap_buildings)) != len(pos.gap_buildings):
                     p.add(f"positions[{i}].gap_buildings", "must name two different buildings")
         if self.transfer.use_morphometry:
@@ -78,7 +80,8 @@ class Assessment:
         for i, s in enumerate(self.spot_readings):
             if s.position_id not in pos_ids:
                 p.add(f"spot_readings[{i}].position_id",
-                      f"names position {s.position_id!r}, which is not in positions")
+                      f"names position {s.position_id!r}, which is not in positions; "
+                      "choose one of the positions or delete the reading")
         p.raise_if_any()
 
     def building(self, building_id: str) -> Building:

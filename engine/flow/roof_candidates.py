@@ -13,6 +13,12 @@ import math
 
 import numpy as np
 
+from engine.core.errors import InputError
+
+#: Most candidates one roof's grid may hold (a setting: a grid finer than this says nothing a
+#: coarser one does not, and each candidate costs a pass of the chain).
+MAX_ROOF_CANDIDATES = 400
+
 #: Default set-back of grid candidates from the roof's edges [m] (a setting; common practice
 #: keeps masts clear of the edge for safe access, and the edge zones are the most disturbed).
 DEFAULT_SETBACK_M = 2.0
@@ -42,6 +48,12 @@ def roof_candidate_points(building, spacing_m: float | None = None,
     half_w = building.width_m / 2.0 - setback_m
     if half_l < 0 or half_w < 0:
         return c
+    if _grid_count(half_l, half_w, spacing_m) > MAX_ROOF_CANDIDATES:
+        raise InputError([("spacing", f"must be at least "
+                                      f"{finest_spacing_m(building, setback_m):.3g} m on "
+                                      f"building {building.id} (at most "
+                                      f"{MAX_ROOF_CANDIDATES} candidates on one roof), got "
+                                      f"{spacing_m:g} m")])
     along = _symmetric_steps(half_l, spacing_m)
     across = _symmetric_steps(half_w, spacing_m)
     s, t = np.meshgrid(along, across, indexing="ij")
@@ -52,6 +64,31 @@ def roof_candidate_points(building, spacing_m: float | None = None,
     v = np.array([math.cos(th), -math.sin(th)])  # along the width
     pts = c + s[keep, None] * u + t[keep, None] * v
     return np.vstack([c, pts])
+
+
+def _grid_count(half_l: float, half_w: float, spacing) -> np.ndarray:
+    """Points of the grid (centre included) for half-sides ``half_l``, ``half_w`` [m] at
+    ``spacing`` [m] (scalar or array), counted in floats before any grid is made."""
+    s = np.asarray(spacing, float)
+    n_l = np.floor(half_l / s + 1e-9)
+    n_w = np.floor(half_w / s + 1e-9)
+    return (2.0 * n_l + 1.0) * (2.0 * n_w + 1.0)
+
+
+def finest_spacing_m(building, setback_m: float = DEFAULT_SETBACK_M) -> float:
+    """The finest grid spacing [m] that keeps one roof within :data:`MAX_ROOF_CANDIDATES`.
+
+    The count changes only where a half-side is a whole number of spacings, so the spacings
+    ``half / n`` are the only ones to try.
+    """
+    half_l = building.length_m / 2.0 - setback_m
+    half_w = building.width_m / 2.0 - setback_m
+    if half_l <= 0 and half_w <= 0:
+        return 0.0
+    n = np.arange(1, MAX_ROOF_CANDIDATES + 1, dtype=float)
+    tried = np.concatenate([h / n for h in (half_l, half_w) if h > 0])
+    ok = tried[_grid_count(max(half_l, 0.0), max(half_w, 0.0), tried) <= MAX_ROOF_CANDIDATES]
+    return float(ok.min())
 
 
 def _symmetric_steps(half: float, spacing: float) -> np.ndarray:

@@ -20,7 +20,8 @@ import pandas as pd
 from engine.core.errors import InputError, Problems
 from engine.core.model import Position
 from engine.flow.effective import effective_climate
-from engine.flow.roof_candidates import DEFAULT_SETBACK_M, roof_candidate_points
+from engine.flow.roof_candidates import (DEFAULT_SETBACK_M, MAX_ROOF_CANDIDATES,  # noqa: F401
+                                         finest_spacing_m, roof_candidate_points)
 
 #: Default spacing of the suggested grid along and across a roof [m] (a setting: a few
 #: metres between masts keeps one rotor out of the next one's near wake on a small roof).
@@ -138,9 +139,9 @@ def suggest_roof_positions(assessment, building_id: str, *, spacing_m=DEFAULT_SP
     """
     b = _building(assessment, str(building_id))
     if not setback_m >= 0:
-        raise InputError([("set-back", f"set-back must be 0 m or more, got {setback_m} m")])
+        raise InputError([("set-back", f"must be 0 m or more, got {setback_m} m")])
     if spacing_m is not None and not spacing_m > 0:
-        raise InputError([("spacing", f"spacing must be more than 0 m, got {spacing_m} m")])
+        raise InputError([("spacing", f"must be more than 0 m, got {spacing_m} m")])
     _check_fits(b, setback_m)
     # To the millimetre, as the site file keeps plan positions (no -1e-15 m from the rotation).
     pts = np.round(roof_candidate_points(b, spacing_m, setback_m), 3) + 0.0

@@ -150,7 +150,21 @@ def test_bad_spacing_named():
     at = _layout()
     at.number_input(key="suggest_spacing|m").set_value(0.0).run()
     _suggest(at, "tower")
-    assert "spacing must be more than 0 m, got 0.0 m" in _text(at, "error")
+    assert "Grid spacing: must be more than 0 m, got 0.0 m" in _text(at, "error")
+
+
+def test_a_spacing_too_fine_is_named_in_the_unit_shown_and_nothing_is_lost():
+    """0.000001 ft typed as the spacing: the page names the field and the finest spacing the
+    roof allows (the engine checks in metres and says so), instead of running out of memory."""
+    at = _layout()
+    at.radio(key="length_unit").set_value("ft").run()
+    before = copy.deepcopy(at.session_state["draft"])
+    at.number_input(key="suggest_spacing|ft").set_value(1e-6).run()
+    _suggest(at, "mill")
+    assert not at.exception, at.exception
+    msg = _text(at, "error")
+    assert "Grid spacing: must be at least" in msg and "checked in metres" in msg, msg
+    assert at.session_state["draft"] == before
 
 
 def test_a_moved_suggestion_gets_its_mast_again_and_off_the_roof_is_refused():
@@ -173,3 +187,27 @@ def test_a_moved_suggestion_gets_its_mast_again_and_off_the_roof_is_refused():
     msg = _text(at, "error")
     assert f"{name}: must be on the roof of mill" in msg and "move it onto the roof" in msg
     assert len(at.session_state["draft"]["positions"]) == n
+
+
+def test_spacing_and_set_back_typed_survive_a_change_of_units():
+    """4 m and 1.5 m typed, then feet chosen: the fields show 13.1 ft and 4.9 ft (1 ft =
+    0.3048 m exactly, by definition), not the defaults."""
+    at = _layout()
+    at.number_input(key="suggest_spacing|m").set_value(4.0).run()
+    at.number_input(key="suggest_setback|m").set_value(1.5).run()
+    at.radio(key="length_unit").set_value("ft").run()
+    assert at.number_input(key="suggest_spacing|ft").value == pytest.approx(4.0 / 0.3048)
+    assert at.number_input(key="suggest_setback|ft").value == pytest.approx(1.5 / 0.3048)
+
+
+def test_suggestions_follow_a_renamed_building():
+    """Suggested on mill, mill renamed before accepting: the suggestions stay, on the new
+    name, and accepting puts them on it."""
+    at = _layout()
+    _suggest(at, "mill")
+    n = len(at.session_state["roof_suggestions"]["rows"])
+    i = [b["id"] for b in at.session_state["draft"]["buildings"]].index("mill")
+    _edit(at, "buildings", edited={i: {"name": "old-mill"}})
+    got = at.session_state["roof_suggestions"]
+    assert got["building"] == "old-mill" and len(got["rows"]) == n
+    assert not any("no longer on the site" in w.value for w in at.main.warning)

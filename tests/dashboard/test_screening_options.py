@@ -146,3 +146,18 @@ def test_opening_a_building_screened_per_sector_says_why_not_and_keeps_the_draft
     err = " ".join(_texts(at, "error"))
     assert "cannot be opened" in err and "neighbours by sector" in err
     assert at.session_state["draft"] == draft and not at.session_state["scenarios"]
+
+
+def test_bad_options_in_feet_say_the_rule_is_in_metres_and_name_the_pages_field(table_bytes):
+    """In feet the engine's rule (in metres) says so, and the tile's rule names the page's
+    "Upwind fetch", not a site-file key."""
+    at = _page()
+    at.radio(key="length_unit").set_value("ft").run()
+    at.toggle(key="screening_sectors").set_value(True)
+    at.number_input(key="screening_tile|ft").set_value(100.0)
+    at.toggle(key="screening_tiles").set_value(True)
+    _upload(at, table_bytes)
+    err = " ".join(_texts(at, "error"))
+    assert "**Tile side**: must be at least the halo" in err, err
+    assert "transfer.sector_fetch_m" not in err and "Upwind fetch" in err, err
+    assert "(checked in metres)" in err, err

@@ -176,6 +176,15 @@ def test_mean_speed_screening_climate():
     assert mixture_mean_ms(c.frequency, c.weibull_k, c.weibull_c_ms) == pytest.approx(5.0)
 
 
+def test_a_mean_speed_too_small_for_a_climate_is_one_problem_named_by_the_mean():
+    """1e-9 m/s passes "> 0" but its Rayleigh scale 2V/sqrt(pi) is below the climate's 0.1 m/s
+    floor for c in every sector: one message naming the mean, not one per sector."""
+    with pytest.raises(InputError) as e:
+        climate.climate_from_mean_speed(1e-9, height_m=10.0, n_sectors=12)
+    (w, m), = e.value.problems
+    assert w == "mean_speed_ms" and m.startswith("must be >= 0.1"), m
+
+
 def test_table_climate_accepts_percent():
     """A per-sector table in percent is normalised; bad entries raise InputError."""
     c = climate.climate_from_table([25, 25, 50], [2, 2, 2], [5, 6, 7], height_m=10.0)

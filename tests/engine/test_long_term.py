@@ -170,3 +170,39 @@ def test_correction_uncertainty_grows_as_the_overlap_shortens():
     res = mcp.mcp_long_term(t[-92 * 24:], y[-92 * 24:], d[-92 * 24:], t, x, d, n_sectors=1)
     assert long_term.correction_uncertainty(res, t, x)["season_part"] == pytest.approx(
         long_term.seasonal_part(res.overlap_days), rel=1e-12)
+
+
+def _target(tmp_path, t, y, d):
+    from engine.io import records
+    _write_csv(tmp_path / "site.csv", t, y, d)
+    return records.read_record((tmp_path / "site.csv").read_bytes(), "site.csv")
+
+
+def test_a_period_ending_before_it_starts_is_named(tmp_path):
+    """Start after end is a reversed period, not a short one: the message says so."""
+    t, x, d, y, n = _pair(n_ref=2000, n_conc=500)
+    _write_csv(tmp_path / "ref.csv", t, x, d)
+    target = _target(tmp_path, t[-n:], y, d[-n:])
+    with pytest.raises(long_term.InputError) as e:
+        long_term.long_term_correction(
+            target, (tmp_path / "ref.csv").read_bytes(), "ref.csv", height_m=10.0,
+            period_start_ns=int(t[-10]), period_end_ns=int(t[-n]))
+    (w, m), = e.value.problems
+    assert w == "period" and m.startswith("must end after it starts"), m
+
+
+def test_a_least_squares_line_on_an_unrelated_reference_names_the_method(tmp_path):
+    """With r near 0 a least-squares line predicts little more than the mean (its slope is
+    r times the ratio of the spreads: any regression text, e.g. Wilks, Statistical Methods in
+    the Atmospheric Sciences, ch. 7), so the series cannot be fitted: the message names the
+    method and the correlation, not the record's speed column."""
+    t, x, d, y, n = _pair(n_ref=3000, n_conc=1500)
+    rng = np.random.default_rng(11)
+    y = 5.0 * rng.weibull(2.0, n)  # the site's own wind, unrelated to the reference
+    _write_csv(tmp_path / "ref.csv", t, x, d)
+    target = _target(tmp_path, t[-n:], y, d[-n:])
+    with pytest.raises(long_term.InputError) as e:
+        long_term.long_term_correction(target, (tmp_path / "ref.csv").read_bytes(), "ref.csv",
+                                       height_m=10.0, method="linear")
+    (w, m), = e.value.problems
+    assert w == "method" and "linear" in m and "variance ratio" in m and "r = " in m, m

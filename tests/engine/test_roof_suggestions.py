@@ -114,3 +114,22 @@ def test_measured_points_repeat_the_suggestions_and_refuse_off_the_roof(site):
     assert set(where) == {"point 2", "point 3"}
     assert "3.0 m outside its edge" in where["point 2"]
     assert "must be numbers" in where["point 3"]
+
+
+@pytest.mark.parametrize("spacing_m", [1e-9, 1e-3])
+def test_a_spacing_too_fine_for_the_roof_is_named_before_any_grid_is_made(site, spacing_m):
+    """A grid of millions of points (a spacing typed as 0.001) is refused by name, with the
+    finest spacing that roof allows, instead of filling the memory."""
+    with pytest.raises(InputError) as e:
+        rs.suggest_roof_positions(site, "mill", spacing_m=spacing_m)
+    (w, m), = e.value.problems
+    assert w == "spacing" and m.startswith("must be at least") and "candidates" in m
+    with pytest.raises(InputError):
+        roof_candidate_points(site.buildings[0], spacing_m, 2.0)
+
+
+def test_the_finest_spacing_named_is_accepted(site):
+    b = next(x for x in site.buildings if x.id == "mill")
+    fine = rs.finest_spacing_m(b, 2.0)
+    pts = roof_candidate_points(b, fine, 2.0)
+    assert 1 < len(pts) <= rs.MAX_ROOF_CANDIDATES

@@ -109,3 +109,35 @@ def test_hour_of_day_chart_leaves_out_hours_without_records():
     rows = [v for v in spec["datasets"].values()][0]
     assert [r["hour_utc"] for r in rows] == list(range(0, 24, 3))
     assert "8 of 24 hours" in str(spec["title"])
+
+
+def test_a_record_quality_control_empties_says_why_before_any_fit():
+    """Every speed 1e9 m/s: each row fails the plausible-speed check (speeds outside 0-50
+    m/s, a common-practice limit for 10-minute means), so the message gives quality
+    control's count and reason, not a fit's "check the quality-control report" for a report
+    that never reaches the page."""
+    import numpy as np
+    from engine.core.errors import InputError
+    t = np.datetime64("2025-01-01T00:00") + np.arange(500) * np.timedelta64(10, "m")
+    text = "time,speed_ms,dir_deg\n" + "".join(f"{a}Z,1e9,{(7 * k) % 360}\n"
+                                              for k, a in enumerate(t))
+    with pytest.raises(InputError) as e:
+        site_record.record_climate(text.encode(), "huge.csv")
+    (w, m), = e.value.problems
+    assert w == "huge.csv" and "quality control excluded 500 of 500 rows" in m, m
+    assert "outside" in m, m
+
+
+def test_a_record_of_calms_only_says_so():
+    """Every speed 0 (calm, or a dead sensor logging zeros): quality control keeps the rows,
+    and the message says how many of the valid speeds are zero rather than pointing to a
+    report."""
+    import numpy as np
+    from engine.core.errors import InputError
+    t = np.datetime64("2025-01-01T00:00") + np.arange(500) * np.timedelta64(10, "m")
+    text = "time,speed_ms,dir_deg\n" + "".join(f"{a}Z,0,{(7 * k) % 360}\n"
+                                              for k, a in enumerate(t))
+    with pytest.raises(InputError) as e:
+        site_record.record_climate(text.encode(), "calm.csv")
+    (w, m), = e.value.problems
+    assert "0 non-zero speeds of 500" in m and "500 zero" in m, m

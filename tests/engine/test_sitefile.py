@@ -171,3 +171,21 @@ def test_schema_states_the_text_limits():
     assert s["$defs"]["Position"]["properties"]["id"]["maxLength"] == 200
     assert s["$defs"]["Site"]["properties"]["notes"]["maxLength"] == 10_000
     assert s["$defs"]["Position"]["properties"]["gap_buildings"]["items"]["maxLength"] == 200
+
+
+def test_a_deleted_building_or_position_is_named_with_the_fix(demo_dict):
+    """A roof position on a deleted building, a spot reading of a deleted position: each
+    message names what is missing and how to mend it."""
+    d = copy.deepcopy(demo_dict)
+    mill = d["buildings"][0]["id"]
+    d["buildings"] = d["buildings"][1:]
+    spot = d["spot_readings"][0]["position_id"]
+    d["positions"] = [p for p in d["positions"] if p["id"] != spot]
+    with pytest.raises(InputError) as e:
+        sitefile.assessment_from_dict(d)
+    roofs = [m for w, m in e.value.problems if w.endswith(".building_id")]
+    spots = [m for w, m in e.value.problems if w.startswith("spot_readings")]
+    assert roofs and spots, e.value.problems
+    assert all(f"names building {mill!r}" in m and "choose one of the site's buildings or "
+               "delete the position" in m for m in roofs), roofs
+    assert all("choose one of the positions or delete the reading" in m for m in spots), spots
