@@ -22,6 +22,7 @@ Run: ``python benchmarks/bench_dashboard.py`` (needs /usr/bin/chromium and playw
 from __future__ import annotations
 
 import statistics
+import tempfile
 import sys
 import time
 from pathlib import Path
@@ -229,7 +230,9 @@ def main(n_timed: int = 15, n_memory: int = 100) -> int:
     heads.update(expected_headlines({"price": list(PRICES), "mast": list(MASTS)}))
     ARTIFACTS.mkdir(exist_ok=True)
     port = free_port()
-    proc = start_dashboard(port, ARTIFACTS / "bench-dashboard-server.log")
+    # Its own autosave folder: the benchmark's changes never reach the user's autosave.
+    proc = start_dashboard(port, ARTIFACTS / "bench-dashboard-server.log",
+                           Path(tempfile.mkdtemp(prefix="perch-bench-autosave-")))
     try:
         wait_healthy(port, proc)
         got = _browser_part(port, proc.pid, heads, n_timed, n_memory)
