@@ -5,6 +5,7 @@ The dashboard, the command line, the siting summary and the screening all call
 """
 from __future__ import annotations
 
+import collections
 import dataclasses
 from dataclasses import dataclass
 
@@ -218,6 +219,13 @@ class EnergyStage:
     table: pd.DataFrame  # energy_table: unranked, money at this assessment's own prices
 
 
+#: The last few (assessment, energy key) pairs, by object identity: an assessment is frozen,
+#: so its key never changes, and a what-if asks for it several times (cache, stage check,
+#: chart keys). The object is held with its key, so its id cannot be reused while listed.
+_KEYS: "collections.OrderedDict[int, tuple]" = collections.OrderedDict()
+_KEYS_KEPT = 16
+
+
 def energy_key(assessment) -> str:
     """Content hash of everything the energy stage reads.
 
@@ -226,6 +234,17 @@ def energy_key(assessment) -> str:
     reads it), each turbine's ``installed_cost``, and the ``ranking`` settings. Two
     assessments with the same key have the same :class:`EnergyStage`.
     """
+    kept = _KEYS.get(id(assessment))
+    if kept is not None and kept[0] is assessment:
+        return kept[1]
+    key = _energy_key(assessment)
+    _KEYS[id(assessment)] = (assessment, key)
+    while len(_KEYS) > _KEYS_KEPT:
+        _KEYS.popitem(last=False)
+    return key
+
+
+def _energy_key(assessment) -> str:
     from engine.core import model
     from engine.io import sitefile
     e = model.Economics(lifetime_years=assessment.economics.lifetime_years)

@@ -168,7 +168,7 @@ def window_flicker(hub_xyz_m, windows, turbines, climate, site, settings) -> Fli
                                 int(settings.year), float(settings.time_step_min),
                                 float(site.altitude_m), float(settings.min_sun_elevation_deg))
     normal, offset, dist = _window_geometry(hub_xyz_m, windows)      # (W,3), (P,W,K,3), (P,W)
-    radius = _plan_radius_m(turbines)                                                # (T,)
+    radius = plan_radius_m(turbines)                                                # (T,)
     near = dist[:, :, None] <= settings.max_distance_rotor_diameters * 2.0 * radius  # (P,W,T)
     reach = np.max(np.abs(WINDOW_SAMPLES)) * np.array([w.window_height_m for w in windows])
     bound = np.where(near, _bounding_radius_m(turbines)[None, None, :], 0.0).max(-1) + reach
@@ -212,7 +212,7 @@ def _window_geometry(hub_xyz_m, windows):
     return normal, offset, dist
 
 
-def _plan_radius_m(turbines):
+def plan_radius_m(turbines):
     """Radius of the rotor's swept circle [m], (T,): the disc's radius, or for a vertical axis
     half its diameter (its cylinder's radius; ``rotor_radius_m`` is half its height)."""
     return np.array([tb.rotor_diameter_m / 2.0 if tb.axis == "vertical" and tb.rotor_diameter_m
@@ -228,7 +228,7 @@ def _rotor_height_m(turbines):
 def _bounding_radius_m(turbines):
     """Radius of a sphere about the hub holding the whole rotor [m], (T,): the disc's radius,
     or for a vertical axis sqrt(r² + (h/2)²) around the cylinder of :func:`cylinder_hit`."""
-    return np.hypot(_plan_radius_m(turbines), _rotor_height_m(turbines) / 2.0)
+    return np.hypot(plan_radius_m(turbines), _rotor_height_m(turbines) / 2.0)
 
 
 #: Slack on the cone test's cosine: the exact hit tests decide; this only keeps every step
@@ -296,7 +296,7 @@ def _exact_hits(offset_m, sun, turbines, axes):
     worst = np.zeros((C, T), bool)
     sector = np.zeros((C, S, T), bool)
     vert = np.array([tb.axis == "vertical" for tb in turbines], bool)
-    radius = _plan_radius_m(turbines)
+    radius = plan_radius_m(turbines)
     height = _rotor_height_m(turbines)
     flat = axes[None, None, :, None, :]                                      # (1, 1, S, 1, 3)
     for lo in range(0, C, HIT_BLOCK):

@@ -231,7 +231,7 @@ def test_vertical_rotor_shades_with_its_diameter_not_its_height():
     it would hit a cylinder of half the height (1.5 m) as radius."""
     tall = _turbine("v", axis="vertical", diameter=2.0, height=3.0)
     assert tall.rotor_radius_m == pytest.approx(1.5)  # half the height, for clearance
-    assert flicker._plan_radius_m((tall,))[0] == pytest.approx(1.0)
+    assert flicker.plan_radius_m((tall,))[0] == pytest.approx(1.0)
     offset = np.array([[10.0, 1.2, 0.0]])  # hub 10 m east of the window, 1.2 m north
     sun = np.array([[1.0, 0.0, 0.0]])      # sun due east on the horizon, ray along +x
     assert not flicker.cylinder_hit(offset, sun, 1.0, 3.0)[0]

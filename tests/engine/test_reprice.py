@@ -1,4 +1,5 @@
 """A money or ranking change re-runs only the money step on the kept energy stage."""
+import copy
 import dataclasses
 from pathlib import Path
 
@@ -63,3 +64,18 @@ def test_a_change_of_energy_refuses_the_kept_stage(demo, change):
 def test_money_only_change_keeps_the_key(demo):
     a, stage = demo
     assert pipeline.energy_key(_money_change(a)) == stage.key
+
+
+def test_kept_keys_follow_each_assessment_not_its_place_in_memory(demo):
+    """The key is kept per assessment object: many changed copies made and dropped in turn
+    (so their memory is reused) each get the key of their own content."""
+    demo, _ = demo
+    first = demo.positions[0].mast_height_m
+    for mast in (3.0, 4.0, 5.0, 6.0, first) * 5:
+        pos = tuple(dataclasses.replace(p, mast_height_m=mast) if i == 0 else p
+                    for i, p in enumerate(demo.positions))
+        changed = dataclasses.replace(demo, positions=pos)
+        fresh = copy.deepcopy(changed)  # another object of the same content: worked afresh
+        assert pipeline.energy_key(changed) == pipeline.energy_key(fresh)
+        assert (pipeline.energy_key(changed) == pipeline.energy_key(demo)) == (mast == first)
+        del changed, fresh
