@@ -234,7 +234,8 @@ def long_term_correction(target_record, reference_data, reference_name: str, *, 
             res.speed_ms, res.direction_deg, res.time_ns, height_m=height_m,
             roughness_m=roughness_m, n_sectors=n_sectors, method=fit_method,
             source="long_term",
-            label=f"long-term at the target by {method} against {reference_name}",
+            label=f"long-term at the target by {mcp.METHOD_NAMES[method]} against "
+                  f"{reference_name}",
             record_file=target_record.file_name, record_sha256=target_record.sha256)
     except InputError as e:
         raise _series_not_fitted(e, method, res) from None

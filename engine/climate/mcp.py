@@ -31,6 +31,9 @@ from engine.climate.sectors import sector_index
 from engine.core.errors import InputError, Problems
 
 MCP_METHODS = ("linear", "variance_ratio", "speed_ratio")
+#: Each method in words, for labels a client reads.
+METHOD_NAMES = {"linear": "linear regression", "variance_ratio": "variance ratio",
+                "speed_ratio": "sector speed ratio"}
 #: Overlap below which seasonal differences are not sampled [days] (common practice: a year).
 WARN_OVERLAP_DAYS = 365.0
 #: Correlation below which the long-term correction is weak [-] (common practice).
@@ -295,7 +298,8 @@ def long_term_climate(target_record, target_report, ref_record, ref_report, *,
         res.speed_ms, res.direction_deg, res.time_ns, height_m=height_m,
         roughness_m=roughness_m, displacement_m=displacement_m, n_sectors=n_sectors,
         method=fit_method, air_density_kgm3=air_density_kgm3, source="long_term",
-        label=f"long-term at the target by {method} MCP against {ref_record.file_name}",
+        label=f"long-term at the target by {METHOD_NAMES[method]} against "
+              f"{ref_record.file_name}",
         record_file=target_record.file_name, record_sha256=target_record.sha256)
     return summary, res
 
