@@ -251,3 +251,10 @@ def test_no_giant_function():
 def test_module_has_a_docstring(module):
     """Every engine module opens with a docstring that says what it holds."""
     assert ast.get_docstring(ast.parse(MODULES[module].read_text(encoding="utf-8")))
+
+
+def test_test_files_have_unique_names_across_folders():
+    """pytest imports test files by their base name (no __init__.py in tests/): two files of
+    one name in tests/engine and tests/dashboard stop the whole run at collection."""
+    names = [p.name for p in (ROOT / "tests").rglob("test_*.py")]
+    assert sorted({n for n in names if names.count(n) > 1}) == []
