@@ -8,7 +8,6 @@ the physics bounds of every yield.
 from __future__ import annotations
 
 import json
-import math
 from dataclasses import replace
 from pathlib import Path
 
@@ -20,18 +19,10 @@ from engine import screening
 from engine.core.errors import InputError
 from engine.io import sitefile
 from engine.screening import positions as sp
+from footprint_rings import rectangle_ring
 
 ROOT = Path(__file__).resolve().parents[2]
 HOURS_PER_YEAR = 8760.0  # 365 d x 24 h
-
-
-def _ring(cx, cy, length, width, bearing_deg):
-    t = math.radians(bearing_deg)
-    u = np.array([math.sin(t), math.cos(t)]) * length / 2
-    v = np.array([math.cos(t), -math.sin(t)]) * width / 2
-    c = np.array([cx, cy])
-    ring = [c + u + v, c + u - v, c - u - v, c - u + v]
-    return [[float(p[0]), float(p[1])] for p in ring + [ring[0]]]
 
 
 def invented_footprints(n: int = 36, seed: int = 18) -> bytes:
@@ -46,7 +37,7 @@ def invented_footprints(n: int = 36, seed: int = 18) -> bytes:
         feats.append({"type": "Feature",
                       "properties": {"ref": f"b{k:02d}", "h": round(rng.uniform(6, 30), 1)},
                       "geometry": {"type": "Polygon", "coordinates": [
-                          _ring(x, y, max(L, W), min(L, W), rng.uniform(0, 180))]}})
+                          rectangle_ring(x, y, max(L, W), min(L, W), rng.uniform(0, 180))]}})
     return json.dumps({"type": "FeatureCollection",
                        "crs": {"type": "name", "properties": {"name": "EPSG:32631"}},
                        "features": feats}).encode()

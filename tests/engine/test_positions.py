@@ -17,16 +17,7 @@ from engine.flow import roof_candidates as rc
 from engine.flow.buildings import building_corners_m
 from engine.io import footprints as fp
 from engine.screening import positions as sp
-
-
-def _rect(cx, cy, length, width, bearing_deg):
-    """Corners of an L x W rectangle centred on (cx, cy), length along the bearing [m]."""
-    t = math.radians(bearing_deg)
-    u = np.array([math.sin(t), math.cos(t)]) * length / 2
-    v = np.array([math.cos(t), -math.sin(t)]) * width / 2
-    c = np.array([cx, cy])
-    ring = [c + u + v, c + u - v, c - u - v, c - u + v]
-    return [[float(p[0]), float(p[1])] for p in ring + [ring[0]]]
+from footprint_rings import rectangle_ring
 
 
 def _geojson(extra=()):
@@ -37,7 +28,7 @@ def _geojson(extra=()):
               ("E", -35, -45, 20, 20, 45, 10.0), ("F", 60, -50, 12, 9, 100, 6.0)]
     feats = [{"type": "Feature", "properties": {"ref": r, "h": h},
               "geometry": {"type": "Polygon",
-                           "coordinates": [_rect(x0 + x, y0 + y, L, W, b)]}}
+                           "coordinates": [rectangle_ring(x0 + x, y0 + y, L, W, b)]}}
              for r, x, y, L, W, b, h in blocks]
     feats += list(extra)
     return json.dumps({"type": "FeatureCollection",
@@ -129,7 +120,8 @@ def test_best_position_per_building(screened):
 
 def test_bad_feature_is_listed_and_the_rest_screened(ctx):
     bad = {"type": "Feature", "properties": {"ref": "G"},
-           "geometry": {"type": "Polygon", "coordinates": [_rect(500100, 6000100, 10, 10, 0)]}}
+           "geometry": {"type": "Polygon",
+                        "coordinates": [rectangle_ring(500100, 6000100, 10, 10, 0)]}}
     got = sp.screen_footprints(_geojson([bad]), ctx, height_field="h", id_field="ref")
     assert got.n_features == 6 and len(got.buildings) == 6
     assert any("h" in msg for _, msg in got.problems)
