@@ -80,7 +80,11 @@ def add_verdicts(table: pd.DataFrame, economics) -> pd.DataFrame:
                else [""] * len(out))
     has_money = {"npv", "payback_years", "first_year_saving", "installed_cost"} <= set(out)
     verdicts, reasons = [], []
-    for i, row in enumerate(out.to_dict("records")):
+    # only the columns a reason reads: the whole row (lists of flags and all) costs ten
+    # times as much to turn into records, on every what-if
+    cols = [c for c in ("npv", "npv_without_support", "payback_years", "first_year_saving",
+                        "installed_cost") if c in out]
+    for i, row in enumerate(out[cols].to_dict("records")):
         money = _money_reason(row, cls[i], economics) if has_money else "no cost figures"
         if excluded[i]:
             verdicts.append(VERDICTS[3])

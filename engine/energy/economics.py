@@ -192,20 +192,25 @@ def payback_years(net_kwh, self_share, cost, e, discounted=False, price_scale=1.
     f = _flows(net_kwh, self_share, e, price_scale)
     r, g, d = e.discount_rate, e.tariff_escalation_per_year, e.degradation_per_year
     need = np.maximum(np.asarray(cost, float) - e.capital_grant, 0.0) + 0.0 * f["energy"]
-    cum = np.zeros_like(need)
-    out = np.where(need <= 0, 0.0, np.inf)
-    for y in range(1, PAYBACK_HORIZON_YEARS + 1):  # a loop over years, vectorised over rows
-        flow = ((f["used"] * f["p_i"] + f["exported"] * f["p_e"]) * ((1 - d) * (1 + g)) ** (y - 1)
-                - e.standby_kwh_per_year * f["p_i"] * (1 + g) ** (y - 1) - e.om_cost_per_year
-                + (e.support_per_kwh * f["energy"] * (1 - d) ** (y - 1)
-                   if y <= e.support_years else 0.0))
-        if discounted:
-            flow = flow / (1.0 + r) ** y
-        new = cum + flow
-        hit = np.isinf(out) & (new >= need) & (flow > 0)
-        out = np.where(hit, y - 1 + (need - cum) / np.where(hit, flow, 1.0), out)
-        cum = new
-    return out
+    # years on a leading axis, every row at once: flow[y - 1] is year y's cash flow
+    years = np.arange(1, PAYBACK_HORIZON_YEARS + 1, dtype=float).reshape((-1,) + (1,) * need.ndim)
+    grow = ((1 - d) * (1 + g)) ** (years - 1)
+    flow = ((f["used"] * f["p_i"] + f["exported"] * f["p_e"]) * grow
+            - e.standby_kwh_per_year * f["p_i"] * (1 + g) ** (years - 1) - e.om_cost_per_year
+            + np.where(years <= e.support_years,
+                       e.support_per_kwh * f["energy"] * (1 - d) ** (years - 1), 0.0))
+    if discounted:
+        flow = flow / (1.0 + r) ** years
+    flow = np.broadcast_to(flow, (PAYBACK_HORIZON_YEARS,) + need.shape)
+    after = np.cumsum(flow, axis=0)
+    before = np.concatenate([np.zeros((1,) + need.shape), after[:-1]], axis=0)
+    hit = (after >= need) & (flow > 0)
+    first = np.argmax(hit, axis=0)[None]  # the first year the sum reaches the cost
+    cum = np.take_along_axis(before, first, axis=0)[0]
+    fl = np.take_along_axis(flow, first, axis=0)[0]
+    crossed = hit.any(axis=0)
+    out = np.where(crossed, first[0] + (need - cum) / np.where(crossed, fl, 1.0), np.inf)
+    return np.where(need <= 0, 0.0, out)
 
 
 def economics_arrays(net_kwh, self_share, cost_parts, economics) -> dict:
