@@ -16,7 +16,7 @@ if str(ROOT) not in sys.path:
 
 import streamlit as st  # noqa: E402
 
-from dashboard import serving, state, widgets  # noqa: E402
+from dashboard import memory, serving, state, widgets  # noqa: E402
 from engine.core import units  # noqa: E402
 
 HERE = Path(__file__).resolve().parent
@@ -110,3 +110,6 @@ if state.status_signature() != drawn and not st.session_state.get("status_rerun"
     st.session_state["status_rerun"] = True
     st.rerun()
 st.session_state["status_rerun"] = False
+# A page's first whole run has imported what it needs and filled its caches once: set those
+# objects aside from the collector's scans (dashboard/memory.py), so later runs end at once.
+memory.freeze_after_first_run(str(getattr(nav, "url_path", "")))
